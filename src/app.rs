@@ -1,0 +1,468 @@
+//! Glue between the command line and the pipeline: one function per
+//! subcommand, `Cli → checked settings → pipeline → writers`.
+//!
+//! This is the only module (besides `cli.rs` and `main.rs`) that knows about
+//! the command line; the core modules take checked types only.
+
+use crate::charge::{ChargeProfile, charge_profile};
+use crate::cli::{CheckArgs, Cli, Command, FieldArgs, OutputFormat};
+use crate::error::Outcome;
+use crate::field::{ASSUMPTIONS, FieldModel, PointField, SolverSettings};
+use crate::model::validate::point_problem;
+use crate::model::{Line, load_line, parse_line};
+use crate::report::{self, PointRequest, csv, json, text};
+use crate::units::{Dim, format_quantity, parse_quantity_or};
+use anyhow::{Context, Result, bail};
+use rayon::prelude::*;
+use std::io::{BufRead, BufReader, Write};
+use std::path::Path;
+
+/// Points evaluated per chunk when streaming a point file.
+const CHUNK: usize = 4096;
+
+/// Runs one command.
+pub fn run(cli: Cli) -> Result<Outcome> {
+    match cli.command {
+        Command::Check(a) => check(&a),
+        Command::Field(a) => field(&a),
+        Command::Demo(_) => demo(),
+    }
+}
+
+fn print_warnings(line: &Line) {
+    for w in &line.warnings {
+        eprintln!("warning: {w}");
+    }
+}
+
+/// Writes to stdout; a closed pipe (e.g. `| head`) ends quietly.
+fn emit(out: &mut impl Write, s: &str) -> Result<()> {
+    match out.write_all(s.as_bytes()) {
+        Ok(()) => Ok(()),
+        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
+        Err(e) => Err(e).context("writing to standard output"),
+    }
+}
+
+fn summary(line: &Line, charge: &ChargeProfile) -> String {
+    let w = &line.web;
+    let mut s = format!("line: {}\n", line.title);
+    s.push_str(&format!(
+        "web: {}, width {}, thickness {}, εr {}, speed {} ({})\n",
+        w.material.as_deref().unwrap_or("material not given"),
+        format_quantity(w.width, Dim::Length),
+        format_quantity(w.thickness, Dim::Length),
+        w.relative_permittivity,
+        format_quantity(w.speed, Dim::Speed),
+        crate::units::format_si(w.speed * 60.0, "m/min"),
+    ));
+    let lambda = w.decay_length();
+    s.push_str(&format!(
+        "charge relaxation: τ = {}{}, decay length v·τ = {}\n",
+        format_quantity(w.relaxation_time, Dim::Time),
+        if w.volume_resistivity.is_some() {
+            " (ε0·εr·ρ)"
+        } else {
+            " (given)"
+        },
+        if lambda.is_finite() {
+            format_quantity(lambda, Dim::Length)
+        } else {
+            "infinite".into()
+        }
+    ));
+    s.push_str(&format!("across the web: {}\n", charge.across.describe()));
+    match line.ground_plane {
+        Some(g) => s.push_str(&format!(
+            "ground plane: z = {} (potentials relative to it)\n",
+            format_quantity(g, Dim::Length)
+        )),
+        None => s.push_str("ground plane: none (potentials relative to zero at infinity)\n"),
+    }
+    s.push_str(&format!(
+        "path: {} nodes, {} spans, {} wrap arcs, {} long\n",
+        line.path.nodes.len(),
+        line.path.spans.len(),
+        line.path.arcs.len(),
+        format_quantity(line.path.total_length, Dim::Length)
+    ));
+    if line.charge.is_empty() {
+        s.push_str("charge: no entries — the web is uncharged\n");
+    }
+    for c in &line.charge {
+        s.push_str(&format!(
+            "charge: {} {} leaving {}\n",
+            match c.mode {
+                crate::model::ChargeMode::Set => "sets",
+                crate::model::ChargeMode::Add => "adds",
+            },
+            format_quantity(c.sigma, Dim::SurfaceChargeDensity),
+            c.at
+        ));
+    }
+    s
+}
+
+fn assumptions_text() -> String {
+    let mut s = String::from("assumptions:\n");
+    for a in ASSUMPTIONS {
+        s.push_str(&format!("  - {a}\n"));
+    }
+    s
+}
+
+fn check(a: &CheckArgs) -> Result<Outcome> {
+    let line = load_line(&a.line)?;
+    print_warnings(&line);
+    let charge = charge_profile(&line);
+    let mut out = std::io::stdout().lock();
+    let mut s = summary(&line, &charge);
+    s.push('\n');
+    s.push_str(&text::spans_table(&report::span_rows(&line, &charge)));
+    s.push_str(&format!(
+        "\npoints of interest: {} checked\n",
+        line.points.len()
+    ));
+    s.push_str(&assumptions_text());
+    s.push_str(&format!(
+        "\nvalid: {} ({} warning{})\n",
+        a.line.display(),
+        line.warnings.len(),
+        if line.warnings.len() == 1 { "" } else { "s" }
+    ));
+    emit(&mut out, &s)?;
+    Ok(Outcome::Pass)
+}
+
+/// Parses `X,Y,Z` with bare numbers in metres.
+fn parse_point(text: &str) -> std::result::Result<[f64; 3], String> {
+    let parts: Vec<&str> = text.split(',').collect();
+    if parts.len() != 3 {
+        return Err(format!(
+            "expected three coordinates X,Y,Z such as \"1.2,0,0.025\" or \"1.2 m,0,25 mm\", got \"{text}\""
+        ));
+    }
+    let mut p = [0.0; 3];
+    for (i, part) in parts.iter().enumerate() {
+        p[i] = parse_quantity_or(part, Dim::Length, 1.0)
+            .map_err(|e| format!("{} coordinate: {e}", ["x", "y", "z"][i]))?;
+    }
+    Ok(p)
+}
+
+/// Reads the points of a CSV file: header with x, y, z (metres) and optional id.
+struct PointCsv {
+    reader: BufReader<std::fs::File>,
+    columns: [usize; 3],
+    id_col: Option<usize>,
+    line_no: usize,
+    name: String,
+}
+
+impl PointCsv {
+    fn open(path: &Path) -> Result<Self> {
+        let f = std::fs::File::open(path)
+            .with_context(|| format!("opening point file '{}'", path.display()))?;
+        let mut reader = BufReader::new(f);
+        let mut header = String::new();
+        reader
+            .read_line(&mut header)
+            .with_context(|| format!("reading point file '{}'", path.display()))?;
+        let cols: Vec<String> = header
+            .trim_start_matches('\u{feff}')
+            .trim()
+            .split(',')
+            .map(|c| c.trim().trim_matches('"').to_ascii_lowercase())
+            .collect();
+        let find = |n: &str| cols.iter().position(|c| c == n);
+        let (Some(x), Some(y), Some(z)) = (find("x"), find("y"), find("z")) else {
+            bail!(
+                "{}:1: expected a header with columns x,y,z (metres) and optionally id, got \"{}\"",
+                path.display(),
+                header.trim()
+            );
+        };
+        Ok(PointCsv {
+            reader,
+            columns: [x, y, z],
+            id_col: find("id"),
+            line_no: 1,
+            name: path.display().to_string(),
+        })
+    }
+
+    /// Up to `n` more points; an empty vector at the end of the file.
+    fn next_chunk(&mut self, n: usize) -> Result<Vec<PointRequest>> {
+        let mut out = Vec::new();
+        let mut buf = String::new();
+        while out.len() < n {
+            buf.clear();
+            let read = self
+                .reader
+                .read_line(&mut buf)
+                .with_context(|| format!("reading point file '{}'", self.name))?;
+            if read == 0 {
+                break;
+            }
+            self.line_no += 1;
+            let row = buf.trim();
+            if row.is_empty() {
+                continue;
+            }
+            let cells: Vec<&str> = row.split(',').map(|c| c.trim()).collect();
+            let mut at = [0.0; 3];
+            for (k, &c) in self.columns.iter().enumerate() {
+                let cell = cells.get(c).copied().unwrap_or("");
+                at[k] = parse_quantity_or(cell, Dim::Length, 1.0).map_err(|e| {
+                    anyhow::anyhow!(
+                        "{}:{}: column {}: {e}",
+                        self.name,
+                        self.line_no,
+                        ["x", "y", "z"][k]
+                    )
+                })?;
+            }
+            let id = self
+                .id_col
+                .and_then(|c| cells.get(c))
+                .map(|s| s.trim_matches('"').to_string())
+                .filter(|s| !s.is_empty());
+            out.push(PointRequest { id, at });
+        }
+        Ok(out)
+    }
+}
+
+fn check_point(line: &Line, p: &PointRequest, where_: &str) -> Result<()> {
+    if let Some(msg) = point_problem(
+        &line.path,
+        &line.rollers,
+        line.web.width,
+        line.ground_plane,
+        p.at,
+    ) {
+        bail!("{where_}: {msg}");
+    }
+    Ok(())
+}
+
+/// Formats results in the chosen format, one row per point.
+struct FieldWriter {
+    format: OutputFormat,
+    first: bool,
+    contributions: bool,
+}
+
+impl FieldWriter {
+    fn header(&self, spans: &[String]) -> String {
+        match self.format {
+            OutputFormat::Table => String::new(),
+            OutputFormat::Csv => format!("{}\n", csv::field_header(spans, self.contributions)),
+            OutputFormat::Json => json::FIELD_OPEN.to_string(),
+        }
+    }
+    fn rows(&mut self, reqs: &[PointRequest], res: &[PointField]) -> String {
+        let mut s = String::new();
+        match self.format {
+            OutputFormat::Table => {
+                let cells: Vec<Vec<String>> = reqs
+                    .iter()
+                    .zip(res)
+                    .map(|(q, f)| text::field_cells(q, f))
+                    .collect();
+                let t = text::table(&text::FIELD_HEADER, &cells);
+                // The header is repeated per chunk only for very long lists.
+                s.push_str(if self.first {
+                    &t
+                } else {
+                    t.split_once('\n')
+                        .and_then(|x| x.1.split_once('\n'))
+                        .map(|x| x.1)
+                        .unwrap_or("")
+                });
+                if self.contributions {
+                    for (q, f) in reqs.iter().zip(res) {
+                        s.push_str(&format!(
+                            "\ncontributions at {}:\n{}",
+                            q.id.clone().unwrap_or_else(|| format!(
+                                "[{}, {}, {}] m",
+                                f.at[0], f.at[1], f.at[2]
+                            )),
+                            text::contributions_table(f)
+                        ));
+                    }
+                }
+            }
+            OutputFormat::Csv => {
+                for (q, f) in reqs.iter().zip(res) {
+                    s.push_str(&csv::field_row(q, f));
+                    s.push('\n');
+                }
+            }
+            OutputFormat::Json => {
+                for (q, f) in reqs.iter().zip(res) {
+                    if !self.first {
+                        s.push_str(",\n");
+                    }
+                    self.first = false;
+                    s.push_str(&json::field_point(q, f));
+                }
+            }
+        }
+        self.first = false;
+        s
+    }
+    fn footer(&self) -> String {
+        match self.format {
+            OutputFormat::Json => json::FIELD_CLOSE.to_string(),
+            _ => String::new(),
+        }
+    }
+}
+
+fn evaluate(
+    model: &FieldModel,
+    reqs: &[PointRequest],
+    contributions: bool,
+) -> Result<Vec<PointField>> {
+    Ok(reqs
+        .par_iter()
+        .map(|q| model.at(q.at, contributions))
+        .collect::<std::result::Result<Vec<_>, _>>()?)
+}
+
+fn field(a: &FieldArgs) -> Result<Outcome> {
+    let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
+    let line = load_line(&a.line)?;
+    print_warnings(&line);
+    let charge = charge_profile(&line);
+    let model = FieldModel::new(&line, &charge, settings);
+    let spans: Vec<String> = line.path.spans.iter().map(|s| s.name.clone()).collect();
+    let mut w = FieldWriter {
+        format: a.format,
+        first: true,
+        contributions: a.contributions,
+    };
+    let mut out = std::io::BufWriter::new(std::io::stdout().lock());
+
+    if let Some(path) = &a.points {
+        // First pass: every row parses and is a point the model can evaluate.
+        let mut csvr = PointCsv::open(path)?;
+        let mut count = 0usize;
+        loop {
+            let start_line = csvr.line_no;
+            let chunk = csvr.next_chunk(CHUNK)?;
+            if chunk.is_empty() {
+                break;
+            }
+            for (i, q) in chunk.iter().enumerate() {
+                check_point(
+                    &line,
+                    q,
+                    &format!("{}: point {}", path.display(), start_line + i),
+                )?;
+            }
+            count += chunk.len();
+        }
+        if count == 0 {
+            bail!(
+                "{}: no points after the header: expected rows of x,y,z in metres",
+                path.display()
+            );
+        }
+        // Second pass: evaluate and write chunk by chunk.
+        let mut csvr = PointCsv::open(path)?;
+        emit(&mut out, &w.header(&spans))?;
+        loop {
+            let chunk = csvr.next_chunk(CHUNK)?;
+            if chunk.is_empty() {
+                break;
+            }
+            let res = evaluate(&model, &chunk, a.contributions)?;
+            emit(&mut out, &w.rows(&chunk, &res))?;
+        }
+    } else {
+        let reqs: Vec<PointRequest> = if a.at.is_empty() {
+            if line.points.is_empty() {
+                bail!(
+                    "no points to evaluate: give --at X,Y,Z or --points FILE.csv (the line has no `points:`)"
+                );
+            }
+            line.points
+                .iter()
+                .map(|p| PointRequest {
+                    id: Some(p.id.clone()),
+                    at: p.at,
+                })
+                .collect()
+        } else {
+            let mut v = Vec::new();
+            for (i, t) in a.at.iter().enumerate() {
+                let at = parse_point(t).map_err(|e| anyhow::anyhow!("--at #{}: {e}", i + 1))?;
+                let q = PointRequest { id: None, at };
+                check_point(&line, &q, &format!("--at #{} \"{t}\"", i + 1))?;
+                v.push(q);
+            }
+            v
+        };
+        let res = evaluate(&model, &reqs, a.contributions)?;
+        emit(&mut out, &w.header(&spans))?;
+        emit(&mut out, &w.rows(&reqs, &res))?;
+    }
+    emit(&mut out, &w.footer())?;
+    if a.format == OutputFormat::Table {
+        emit(&mut out, &format!("\n{}", assumptions_text()))?;
+    }
+    match out.flush() {
+        Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => {
+            return Err(e).context("writing to standard output");
+        }
+        _ => {}
+    }
+    Ok(Outcome::Pass)
+}
+
+fn demo() -> Result<Outcome> {
+    let line = parse_line(crate::DEMO_LINE)
+        .context("the built-in demo line (profiles/lines/demo.yaml)")?;
+    print_warnings(&line);
+    let charge = charge_profile(&line);
+    let model = FieldModel::new(&line, &charge, SolverSettings::default());
+    let reqs: Vec<PointRequest> = line
+        .points
+        .iter()
+        .map(|p| PointRequest {
+            id: Some(format!("{} ({})", p.id, p.kind.text())),
+            at: p.at,
+        })
+        .collect();
+    let res = evaluate(&model, &reqs, true)?;
+    let mut s = String::from("websigma demo — an invented example line, not a real plant\n\n");
+    s.push_str(&summary(&line, &charge));
+    s.push('\n');
+    s.push_str(&text::spans_table(&report::span_rows(&line, &charge)));
+    s.push_str("\nfield and potential at the points of interest:\n");
+    let cells: Vec<Vec<String>> = reqs
+        .iter()
+        .zip(&res)
+        .map(|(q, f)| text::field_cells(q, f))
+        .collect();
+    s.push_str(&text::table(&text::FIELD_HEADER, &cells));
+    if let Some((q, f)) = reqs
+        .iter()
+        .zip(&res)
+        .max_by(|a, b| a.1.e_magnitude().total_cmp(&b.1.e_magnitude()))
+    {
+        s.push_str(&format!(
+            "\nspan contributions at the strongest-field point, {}:\n{}",
+            q.id.as_deref().unwrap_or("-"),
+            text::contributions_table(f)
+        ));
+    }
+    s.push('\n');
+    s.push_str(&assumptions_text());
+    s.push_str(&format!("\ncaution: {}\n", crate::CAUTIONS));
+    let mut out = std::io::stdout().lock();
+    emit(&mut out, &s)?;
+    Ok(Outcome::Pass)
+}

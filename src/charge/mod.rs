@@ -1,0 +1,204 @@
+//! # Charge density along the web path
+//!
+//! Second stage of the pipeline: `Line → ChargeProfile`. The web's net
+//! surface charge density is separated into a centreline density along the
+//! path and a shape across it,
+//!
+//! $$ σ(s, y) = σ_c(s)\, f(y), $$
+//!
+//! and the path is cut into *charge segments* at its start and at every
+//! `charge` entry. Within a segment the centreline density relaxes through
+//! the material,
+//!
+//! $$ σ_c(s) = A_k \exp\!\left(-\frac{s - s_k}{v τ}\right), \qquad τ = ε_0 ε_r ρ, $$
+//!
+//! and at a segment start the amplitude is set by the entry (`sigma:`), or is
+//! what flows in from upstream plus the entry (`adds:`).
+//!
+//! | symbol | meaning | unit |
+//! | --- | --- | --- |
+//! | s | arc length along the path | m |
+//! | y | position across the web, 0 on the centreline | m |
+//! | σ_c | centreline density | C/m² |
+//! | f | across-web shape, f(0) = 1 | 1 |
+//! | A_k, s_k | amplitude and start of segment k | C/m², m |
+//! | v | web speed | m/s |
+//! | τ | charge relaxation time | s |
+//! | ε0, εr, ρ | vacuum permittivity, relative permittivity, volume resistivity | F/m, 1, Ω·m |
+//!
+//! Assumptions: the web is thin, so only the net density of both faces
+//! produces the external field; relaxation is ohmic with one time constant;
+//! contact with grounded rollers does not change the net density (a later
+//! model may add charging and discharging at contacts).
+//!
+//! ## Reference
+//! Relaxation τ = ε0·εr·ρ from the continuity equation and Ohm's law (e.g.
+//! D. J. Griffiths, *Introduction to Electrodynamics*, 4th ed., §7.1;
+//! NFPA 77 annex on charge relaxation).
+
+use crate::model::{ChargeEntry, ChargeMode, Line};
+use crate::units::{CoulombsPerSquareMeter, Meters};
+
+/// A stretch of path over which σc follows one relaxation curve.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChargeSegment {
+    /// Arc length where it starts [m].
+    pub s_start: Meters,
+    /// Arc length where it ends [m].
+    pub s_end: Meters,
+    /// Centreline density at the start, A [C/m²].
+    pub amplitude: CoulombsPerSquareMeter,
+    /// What opened it: `start of path` or the charge entry's place.
+    pub origin: String,
+}
+
+/// The centreline density along the whole path and the across-web shape.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChargeProfile {
+    /// Segments in path order, covering [0, total length].
+    pub segments: Vec<ChargeSegment>,
+    /// Relaxation length λ = v·τ [m] (may be infinite).
+    pub decay_length: Meters,
+    /// The across-web shape f(y).
+    pub across: crate::model::AcrossProfile,
+}
+
+impl ChargeProfile {
+    /// σc(s) [C/m²]; at a segment boundary the downstream value.
+    pub fn sigma_c(&self, s: Meters) -> CoulombsPerSquareMeter {
+        let seg = self
+            .segments
+            .iter()
+            .rev()
+            .find(|g| s >= g.s_start)
+            .or(self.segments.first());
+        match seg {
+            Some(g) => g.amplitude * decay(s - g.s_start, self.decay_length),
+            None => 0.0,
+        }
+    }
+
+    /// σ(s, y) = σc(s)·f(y) [C/m²].
+    pub fn sigma(&self, s: Meters, y: Meters) -> CoulombsPerSquareMeter {
+        self.sigma_c(s) * self.across.f(y)
+    }
+
+    /// The segments that overlap [s0, s1], clipped to it: `(start, end, σc at start)`.
+    pub fn pieces_between(
+        &self,
+        s0: Meters,
+        s1: Meters,
+    ) -> Vec<(Meters, Meters, CoulombsPerSquareMeter)> {
+        let mut out = Vec::new();
+        for g in &self.segments {
+            let a = g.s_start.max(s0);
+            let b = g.s_end.min(s1);
+            if b > a {
+                out.push((a, b, g.amplitude * decay(a - g.s_start, self.decay_length)));
+            }
+        }
+        out
+    }
+}
+
+/// exp(−Δs/λ), exactly 1 for an infinite λ.
+pub fn decay(ds: Meters, lambda: Meters) -> f64 {
+    if lambda.is_infinite() {
+        1.0
+    } else {
+        (-ds / lambda).exp()
+    }
+}
+
+/// The centreline density leaving each entry's place, in the order given
+/// (entries must be sorted by arc length): set, or carried in and added to.
+pub fn segment_amplitudes(entries: &[ChargeEntry], lambda: Meters) -> Vec<CoulombsPerSquareMeter> {
+    let mut out = Vec::with_capacity(entries.len());
+    let mut sigma = 0.0;
+    let mut s_prev = 0.0;
+    for e in entries {
+        let carried = sigma * decay(e.s - s_prev, lambda);
+        sigma = match e.mode {
+            ChargeMode::Set => e.sigma,
+            ChargeMode::Add => carried + e.sigma,
+        };
+        s_prev = e.s;
+        out.push(sigma);
+    }
+    out
+}
+
+/// Builds the charge profile of a validated line.
+pub fn charge_profile(line: &Line) -> ChargeProfile {
+    let lambda = line.web.decay_length();
+    let total = line.path.total_length;
+    let amps = segment_amplitudes(&line.charge, lambda);
+    let mut segments = vec![ChargeSegment {
+        s_start: 0.0,
+        s_end: total,
+        amplitude: 0.0,
+        origin: "start of path (uncharged until a charge entry)".to_string(),
+    }];
+    for (e, a) in line.charge.iter().zip(amps) {
+        let last = segments.len() - 1;
+        if e.s <= segments[last].s_start {
+            // Same place as the current segment's start: the later entry wins.
+            segments[last].amplitude = a;
+            segments[last].origin = e.at.clone();
+        } else {
+            segments[last].s_end = e.s;
+            segments.push(ChargeSegment {
+                s_start: e.s,
+                s_end: total,
+                amplitude: a,
+                origin: e.at.clone(),
+            });
+        }
+    }
+    ChargeProfile {
+        segments,
+        decay_length: lambda,
+        across: line.across.clone(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn entry(s: f64, mode: ChargeMode, sigma: f64) -> ChargeEntry {
+        ChargeEntry {
+            at: format!("s={s}"),
+            s,
+            mode,
+            sigma,
+            yaml_path: String::new(),
+        }
+    }
+
+    /// Hand arithmetic: 10 µC/m² relaxing over one decay length is 10/e; adding
+    /// 2 gives 10/e + 2; a later `sigma:` overrides what flows in.
+    #[test]
+    fn set_add_and_relax_by_hand() {
+        let e = [
+            entry(0.0, ChargeMode::Set, 10e-6),
+            entry(2.0, ChargeMode::Add, 2e-6),
+            entry(3.0, ChargeMode::Set, 1e-6),
+        ];
+        let a = segment_amplitudes(&e, 2.0);
+        assert!((a[0] - 10e-6).abs() < 1e-18);
+        assert!((a[1] - (10e-6 / std::f64::consts::E + 2e-6)).abs() < 1e-18);
+        assert!((a[2] - 1e-6).abs() < 1e-18);
+    }
+
+    #[test]
+    fn infinite_relaxation_carries_charge_unchanged() {
+        let e = [
+            entry(0.0, ChargeMode::Set, 5e-6),
+            entry(100.0, ChargeMode::Add, 1e-6),
+        ];
+        let a = segment_amplitudes(&e, f64::INFINITY);
+        assert_eq!(a[1], 6e-6);
+        assert_eq!(decay(1e9, f64::INFINITY), 1.0);
+    }
+}

@@ -1,0 +1,86 @@
+//! Command-line interface: clap derive types only, no logic.
+//!
+//! The doc comments here become `--help`. `app.rs` turns these into checked
+//! settings once; no other module sees clap.
+
+use clap::{Parser, Subcommand, ValueEnum};
+use std::path::PathBuf;
+
+/// Predicts the electrostatic field and potential around a charged moving web
+/// (film, paper, foil, nonwoven) from its charge and the line's geometry.
+///
+/// Estimates from a model are not measurements: follow the standards in force
+/// at the site and the judgement of a competent person.
+#[derive(Debug, Parser)]
+#[command(name = "websigma", version, propagate_version = true)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Validate a line description and print the derived web spans.
+    Check(CheckArgs),
+    /// Field and potential at points (table, CSV or JSON).
+    Field(FieldArgs),
+    /// Run the built-in invented example line end to end.
+    Demo(DemoArgs),
+}
+
+/// `websigma check`
+#[derive(Debug, clap::Args)]
+pub struct CheckArgs {
+    /// The line description (YAML).
+    pub line: PathBuf,
+}
+
+/// `websigma field`
+#[derive(Debug, clap::Args)]
+pub struct FieldArgs {
+    /// The line description (YAML).
+    pub line: PathBuf,
+    /// A point "X,Y,Z": metres, or lengths with units ("1.2 m,0,25 mm"). Repeatable.
+    #[arg(long = "at", value_name = "X,Y,Z", allow_hyphen_values = true)]
+    pub at: Vec<String>,
+    /// A CSV file of points with header x,y,z (metres) and an optional id column.
+    #[arg(long, value_name = "FILE.csv", conflicts_with = "at")]
+    pub points: Option<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = OutputFormat::Table)]
+    pub format: OutputFormat,
+    /// Also give each span's contribution (the span and its ground-plane image).
+    #[arg(long)]
+    pub contributions: bool,
+    /// Relative tolerance of the integration (1e-13 to 1e-2).
+    #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
+    pub tolerance: f64,
+}
+
+/// `websigma demo`
+#[derive(Debug, clap::Args)]
+pub struct DemoArgs {}
+
+/// How results are printed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum OutputFormat {
+    /// Aligned text table with SI prefixes.
+    Table,
+    /// Comma-separated values in SI units.
+    Csv,
+    /// JSON in SI units.
+    Json,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::CommandFactory;
+
+    #[test]
+    fn verify_cli() {
+        Cli::command().debug_assert();
+    }
+}

@@ -1,0 +1,41 @@
+//! # websigma
+//!
+//! Predicts whether the charge on a moving web (film, paper, foil, nonwoven,
+//! belts) is an electrostatic hazard, from the line's geometry and the charge
+//! measured or assumed on it. The data flows one way, each arrow one public
+//! function and each box one plain data type:
+//!
+//! ```text
+//! YAML ─ model::parse_line ─▶ Line ─ charge::charge_profile ─▶ ChargeProfile
+//!      ─ field::solve ─▶ FieldMap ─ report writers ─▶ table / CSV / JSON
+//! ```
+//!
+//! - [`model`]: the line description, its validation and the web path geometry;
+//! - [`charge`]: the surface charge density along the path (relaxation);
+//! - [`field`]: Coulomb integrals over every span, images in a ground plane;
+//! - [`report`]: writers that only format;
+//! - [`units`]: SI inside, units parsed and formatted at the edges.
+//!
+//! Estimates from a model are not measurements. They do not replace a
+//! hazardous-area classification or the judgement of a competent person.
+
+#![warn(missing_docs)]
+
+pub mod app;
+pub mod charge;
+pub mod cli;
+pub mod error;
+pub mod field;
+pub mod model;
+pub mod report;
+pub mod units;
+
+/// The built-in invented example line (`profiles/lines/demo.yaml`).
+pub const DEMO_LINE: &str = include_str!("../profiles/lines/demo.yaml");
+
+/// The safety cautions every output carries (DESIGN.md §9).
+pub const CAUTIONS: &str = "Estimates from a model are not measurements. They do not replace a \
+hazardous-area classification, an explosion-protection document, or the judgement of a competent \
+person. Follow the standards and regulations in force at the site and the instructions of the \
+equipment makers. Verify every threshold against the current edition of the cited standard. When \
+in doubt, measure, ground, neutralise, and stop the line.";

@@ -1,0 +1,393 @@
+//! The line description: reading, validating and the checked [`Line`].
+//!
+//! First stage of the pipeline: `YAML text → RawLine (raw.rs) → Line
+//! (validate.rs)`. A `Line` that exists is valid: every later stage accepts
+//! only this type. All YAML parsing goes through [`parse_line`], so the YAML
+//! library can be swapped in one place.
+
+pub mod path;
+pub mod raw;
+pub mod validate;
+
+pub use path::{Earthing, NodeKind, NodeSpec, Roller, Span, WebPath, Wrap, WrapArc};
+
+use crate::units::{
+    CoulombsPerSquareMeter, Meters, MetersPerSecond, OhmMeters, Seconds, VoltsPerMeter,
+};
+use std::fmt;
+use std::path::Path as FsPath;
+
+/// Largest line description file read [bytes]; larger files are refused.
+pub const MAX_FILE_BYTES: u64 = 4 * 1024 * 1024;
+
+/// One problem found in the input, with its location.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Issue {
+    /// YAML path such as `rollers[2].diameter`, or empty for the whole file.
+    pub path: String,
+    /// `line:column` in the file where the parser gave one.
+    pub location: Option<(usize, usize)>,
+    /// What is wrong and what would be accepted.
+    pub message: String,
+}
+
+impl Issue {
+    /// A problem at a YAML path.
+    pub fn at(path: impl Into<String>, message: impl Into<String>) -> Self {
+        Issue {
+            path: path.into(),
+            location: None,
+            message: message.into(),
+        }
+    }
+}
+
+impl fmt::Display for Issue {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        if let Some((l, c)) = self.location {
+            write!(f, "{l}:{c}: ")?;
+        }
+        if self.path.is_empty() {
+            write!(f, "{}", self.message)
+        } else {
+            write!(f, "{}: {}", self.path, self.message)
+        }
+    }
+}
+
+/// The line description could not be accepted; holds every problem found.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub struct ValidationError {
+    /// The problems, in the order of the file.
+    pub issues: Vec<Issue>,
+}
+
+impl fmt::Display for ValidationError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let n = self.issues.len();
+        write!(
+            f,
+            "the line description has {n} problem{}",
+            if n == 1 { "" } else { "s" }
+        )?;
+        for i in &self.issues {
+            write!(f, "\n  {i}")?;
+        }
+        Ok(())
+    }
+}
+
+/// Properties of the web.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Web {
+    /// Material, free text.
+    pub material: Option<String>,
+    /// Width across the machine [m].
+    pub width: Meters,
+    /// Thickness [m].
+    pub thickness: Meters,
+    /// Relative permittivity εr [1].
+    pub relative_permittivity: f64,
+    /// Volume resistivity ρ [Ω·m], when given.
+    pub volume_resistivity: Option<OhmMeters>,
+    /// Charge relaxation time τ [s]: given, or ε0·εr·ρ.
+    pub relaxation_time: Seconds,
+    /// Web speed v [m/s].
+    pub speed: MetersPerSecond,
+    /// Dielectric strength of the web material [V/m], when given.
+    pub breakdown_strength: Option<VoltsPerMeter>,
+}
+
+impl Web {
+    /// Length of web over which charge falls by 1/e: λ = v·τ [m] (infinite when
+    /// τ is infinite).
+    pub fn decay_length(&self) -> Meters {
+        self.speed * self.relaxation_time
+    }
+}
+
+/// The shape f(y) of the density across the web, f(0) = 1.
+#[derive(Debug, Clone, PartialEq)]
+pub enum AcrossShape {
+    /// f = 1.
+    Uniform,
+    /// f = 1 + k(2y/w)².
+    Edges(f64),
+    /// f = 1 + k(2y/w).
+    Tilt(f64),
+    /// Piecewise linear through `[y [m], f]` pairs, y increasing.
+    Table(Vec<(Meters, f64)>),
+}
+
+/// The validated across-web profile over y ∈ [−w/2, w/2].
+#[derive(Debug, Clone, PartialEq)]
+pub struct AcrossProfile {
+    /// The shape as given.
+    pub shape: AcrossShape,
+    /// Web width w [m].
+    pub width: Meters,
+}
+
+/// One piece of a piecewise quadratic f(y) = c0 + c1·y + c2·y² on [y_lo, y_hi] [m].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AcrossPiece {
+    /// Lower end [m].
+    pub y_lo: Meters,
+    /// Upper end [m].
+    pub y_hi: Meters,
+    /// Coefficients c0 [1], c1 [1/m], c2 [1/m²].
+    pub c: [f64; 3],
+}
+
+impl AcrossProfile {
+    /// f(y) [1]; zero outside the web.
+    pub fn f(&self, y: Meters) -> f64 {
+        let h = self.width / 2.0;
+        if y < -h || y > h {
+            return 0.0;
+        }
+        self.pieces()
+            .iter()
+            .find(|p| y >= p.y_lo && y <= p.y_hi)
+            .map(|p| p.c[0] + p.c[1] * y + p.c[2] * y * y)
+            .unwrap_or(0.0)
+    }
+
+    /// The profile as piecewise quadratic pieces covering [−w/2, w/2].
+    pub fn pieces(&self) -> Vec<AcrossPiece> {
+        let h = self.width / 2.0;
+        let w = self.width;
+        match &self.shape {
+            AcrossShape::Uniform => vec![AcrossPiece {
+                y_lo: -h,
+                y_hi: h,
+                c: [1.0, 0.0, 0.0],
+            }],
+            AcrossShape::Edges(k) => vec![AcrossPiece {
+                y_lo: -h,
+                y_hi: h,
+                c: [1.0, 0.0, 4.0 * k / (w * w)],
+            }],
+            AcrossShape::Tilt(k) => vec![AcrossPiece {
+                y_lo: -h,
+                y_hi: h,
+                c: [1.0, 2.0 * k / w, 0.0],
+            }],
+            AcrossShape::Table(t) => {
+                let mut out = Vec::new();
+                for pair in t.windows(2) {
+                    let (y0, f0) = pair[0];
+                    let (y1, f1) = pair[1];
+                    let lo = y0.max(-h);
+                    let hi = y1.min(h);
+                    if hi <= lo {
+                        continue;
+                    }
+                    let slope = (f1 - f0) / (y1 - y0);
+                    out.push(AcrossPiece {
+                        y_lo: lo,
+                        y_hi: hi,
+                        c: [f0 - slope * y0, slope, 0.0],
+                    });
+                }
+                out
+            }
+        }
+    }
+
+    /// The largest |f| over the web [1].
+    pub fn max_abs(&self) -> f64 {
+        let h = self.width / 2.0;
+        match &self.shape {
+            AcrossShape::Uniform => 1.0,
+            AcrossShape::Edges(k) => 1.0f64.max((1.0 + k).abs()),
+            AcrossShape::Tilt(k) => (1.0 + k).abs().max((1.0 - k).abs()),
+            AcrossShape::Table(_) => {
+                let mut m: f64 = 0.0;
+                for p in self.pieces() {
+                    for y in [p.y_lo, p.y_hi] {
+                        m = m.max((p.c[0] + p.c[1] * y).abs());
+                    }
+                }
+                let _ = h;
+                m
+            }
+        }
+    }
+
+    /// A short description such as `edges, k = 0.6`.
+    pub fn describe(&self) -> String {
+        match &self.shape {
+            AcrossShape::Uniform => "uniform (f = 1)".into(),
+            AcrossShape::Edges(k) => format!("edges, f = 1 + k(2y/w)², k = {k}"),
+            AcrossShape::Tilt(k) => format!("tilt, f = 1 + k(2y/w), k = {k}"),
+            AcrossShape::Table(t) => format!("table of {} points, piecewise linear", t.len()),
+        }
+    }
+}
+
+/// Whether a charge entry sets or adds to the centreline density.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ChargeMode {
+    /// `sigma:` sets the density leaving the node.
+    Set,
+    /// `adds:` adds to the density arriving at the node.
+    Add,
+}
+
+/// A validated charge entry.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ChargeEntry {
+    /// Where, as written (`start`, `R1`, …).
+    pub at: String,
+    /// Arc length where it applies (where the web leaves the node) [m].
+    pub s: Meters,
+    /// Set or add.
+    pub mode: ChargeMode,
+    /// Centreline density [C/m²].
+    pub sigma: CoulombsPerSquareMeter,
+    /// YAML path of the entry, for messages.
+    pub yaml_path: String,
+}
+
+/// What a place of interest is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PointKind {
+    /// A field meter.
+    Meter,
+    /// An operator's position.
+    Operator,
+    /// Sensitive electronics.
+    Electronics,
+    /// Any other probe point.
+    Probe,
+}
+
+impl PointKind {
+    /// The keyword used in the YAML.
+    pub fn text(self) -> &'static str {
+        match self {
+            PointKind::Meter => "meter",
+            PointKind::Operator => "operator",
+            PointKind::Electronics => "electronics",
+            PointKind::Probe => "probe",
+        }
+    }
+}
+
+/// A place of interest.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Point {
+    /// Identifier.
+    pub id: String,
+    /// What it is.
+    pub kind: PointKind,
+    /// Position `[x, y, z]` [m].
+    pub at: [Meters; 3],
+}
+
+/// A validated line: every field is checked and consistent.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Line {
+    /// Title.
+    pub title: String,
+    /// The web.
+    pub web: Web,
+    /// Height z of a grounded plane [m], when given.
+    pub ground_plane: Option<Meters>,
+    /// Rollers.
+    pub rollers: Vec<Roller>,
+    /// Path geometry.
+    pub path: WebPath,
+    /// Density across the web.
+    pub across: AcrossProfile,
+    /// Charge entries in the order they apply along the path.
+    pub charge: Vec<ChargeEntry>,
+    /// Places of interest.
+    pub points: Vec<Point>,
+    /// Problems that are not fatal, to show the user and list in reports.
+    pub warnings: Vec<Issue>,
+}
+
+/// Parses and validates a line description from YAML text.
+pub fn parse_line(text: &str) -> Result<Line, ValidationError> {
+    let raw = parse_raw(text)?;
+    validate::validate(&raw)
+}
+
+/// Reads, parses and validates a line description file.
+pub fn load_line(path: &FsPath) -> anyhow::Result<Line> {
+    use anyhow::Context;
+    let meta = std::fs::metadata(path)
+        .with_context(|| format!("reading line description '{}'", path.display()))?;
+    if meta.len() > MAX_FILE_BYTES {
+        anyhow::bail!(
+            "line description '{}' is {} bytes: the limit is {} bytes (a line description is a short YAML file)",
+            path.display(),
+            meta.len(),
+            MAX_FILE_BYTES
+        );
+    }
+    let text = std::fs::read_to_string(path).with_context(|| {
+        format!(
+            "reading line description '{}' (it must be UTF-8 text)",
+            path.display()
+        )
+    })?;
+    parse_line(&text).map_err(|e| {
+        anyhow::Error::new(e).context(format!("invalid line description '{}'", path.display()))
+    })
+}
+
+/// Replaces serde's internal type names (`struct RawWeb`) with words.
+fn tidy_type_names(message: &str) -> String {
+    let mut out = String::new();
+    let mut rest = message;
+    while let Some(i) = rest.find("struct Raw") {
+        out.push_str(&rest[..i]);
+        out.push_str("a mapping of keys");
+        rest = &rest[i + "struct Raw".len()..];
+        let end = rest
+            .find(|c: char| !c.is_alphanumeric())
+            .unwrap_or(rest.len());
+        rest = &rest[end..];
+    }
+    out.push_str(rest);
+    out
+}
+
+/// The one place where YAML text is deserialised.
+pub(crate) fn parse_raw(text: &str) -> Result<raw::RawLine, ValidationError> {
+    if text.trim().is_empty()
+        || text
+            .lines()
+            .all(|l| l.trim().is_empty() || l.trim_start().starts_with('#'))
+    {
+        return Err(ValidationError {
+            issues: vec![Issue::at(
+                "",
+                "the file is empty: expected a line description with at least `web:`, `rollers:` or `path:` (see profiles/lines/demo.yaml)",
+            )],
+        });
+    }
+    serde_yaml::from_str::<raw::RawLine>(text).map_err(|e| {
+        let location = e.location().map(|l| (l.line(), l.column()));
+        let mut message = e.to_string();
+        // serde_yaml appends " at line L column C"; the location is shown in front.
+        if let Some(i) = message.find(" at line ") {
+            message.truncate(i);
+        }
+        let message = if message.contains("invalid type") && message.contains("expected struct RawLine") {
+            "expected a mapping of keys such as `line:`, `web:`, `rollers:`, `path:` at the top level".to_string()
+        } else {
+            tidy_type_names(&message)
+        };
+        ValidationError {
+            issues: vec![Issue {
+                path: String::new(),
+                location,
+                message,
+            }],
+        }
+    })
+}

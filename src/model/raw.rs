@@ -1,0 +1,167 @@
+//! Serde mirror of the line description YAML (first of the two reading stages).
+//!
+//! Every struct refuses unknown keys, and every quantity is kept as the text the
+//! user wrote ([`Scalar`]), so that the validation stage (`validate.rs`) can
+//! report *all* problems with their YAML path and say what would be accepted.
+//! Nothing here interprets units or checks values.
+
+use serde::Deserialize;
+use serde::de::{self, Deserializer, Visitor};
+use std::fmt;
+
+/// A YAML scalar kept as text: a string, a number or a boolean as written.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scalar(pub String);
+
+impl Scalar {
+    /// The text of the scalar.
+    pub fn as_str(&self) -> &str {
+        &self.0
+    }
+}
+
+impl<'de> Deserialize<'de> for Scalar {
+    fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct ScalarVisitor;
+        impl Visitor<'_> for ScalarVisitor {
+            type Value = Scalar;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a single value such as \"120 mm\" (not a list or a mapping)")
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<Scalar, E> {
+                Ok(Scalar(v.to_string()))
+            }
+            fn visit_string<E: de::Error>(self, v: String) -> Result<Scalar, E> {
+                Ok(Scalar(v))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<Scalar, E> {
+                Ok(Scalar(v.to_string()))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<Scalar, E> {
+                Ok(Scalar(v.to_string()))
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<Scalar, E> {
+                Ok(Scalar(format!("{v:?}")))
+            }
+            fn visit_bool<E: de::Error>(self, v: bool) -> Result<Scalar, E> {
+                Ok(Scalar(v.to_string()))
+            }
+            fn visit_unit<E: de::Error>(self) -> Result<Scalar, E> {
+                Ok(Scalar(String::new()))
+            }
+        }
+        deserializer.deserialize_any(ScalarVisitor)
+    }
+}
+
+/// The whole line description as written.
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawLine {
+    /// Title, free text.
+    pub line: Option<Scalar>,
+    /// The web's properties.
+    pub web: Option<RawWeb>,
+    /// Height of a grounded plane, a length.
+    pub ground_plane: Option<Scalar>,
+    /// Rollers.
+    #[serde(default)]
+    pub rollers: Vec<RawRoller>,
+    /// Path nodes in travel order.
+    #[serde(default)]
+    pub path: Vec<RawNode>,
+    /// Shape of the density across the web.
+    pub across_profile: Option<RawAcross>,
+    /// Where the web gets its charge.
+    #[serde(default)]
+    pub charge: Vec<RawCharge>,
+    /// Places of interest.
+    #[serde(default)]
+    pub points: Vec<RawPoint>,
+}
+
+/// `web:`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawWeb {
+    /// Free text.
+    pub material: Option<Scalar>,
+    /// A length.
+    pub width: Option<Scalar>,
+    /// A length.
+    pub thickness: Option<Scalar>,
+    /// A number.
+    pub relative_permittivity: Option<Scalar>,
+    /// A resistivity.
+    pub volume_resistivity: Option<Scalar>,
+    /// A time.
+    pub relaxation_time: Option<Scalar>,
+    /// A speed.
+    pub speed: Option<Scalar>,
+    /// A field strength.
+    pub breakdown_strength: Option<Scalar>,
+}
+
+/// `rollers[i]`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawRoller {
+    /// Identifier.
+    pub id: Option<Scalar>,
+    /// `[x, z]` lengths.
+    pub center: Option<Vec<Scalar>>,
+    /// A length.
+    pub diameter: Option<Scalar>,
+    /// grounded | isolated | insulating
+    pub earthing: Option<Scalar>,
+}
+
+/// `path[i]`: either `point:` (with optional `id:`) or `roller:` with `wrap:`.
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawNode {
+    /// `[x, z]` lengths.
+    pub point: Option<Vec<Scalar>>,
+    /// Optional id of a point node.
+    pub id: Option<Scalar>,
+    /// Roller id.
+    pub roller: Option<Scalar>,
+    /// cw | ccw
+    pub wrap: Option<Scalar>,
+}
+
+/// `across_profile:`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawAcross {
+    /// uniform | edges | tilt | table
+    pub shape: Option<Scalar>,
+    /// The coefficient of `edges` and `tilt`.
+    pub k: Option<Scalar>,
+    /// `[[y, f], ...]` for `table`.
+    pub table: Option<Vec<Vec<Scalar>>>,
+}
+
+/// `charge[i]`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawCharge {
+    /// A node id or `start`.
+    pub at: Option<Scalar>,
+    /// Sets the centreline density leaving the node.
+    pub sigma: Option<Scalar>,
+    /// Adds to the centreline density leaving the node.
+    pub adds: Option<Scalar>,
+}
+
+/// `points[i]`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawPoint {
+    /// Identifier.
+    pub id: Option<Scalar>,
+    /// meter | operator | electronics | probe
+    pub kind: Option<Scalar>,
+    /// `[x, y, z]` lengths.
+    pub at: Option<Vec<Scalar>>,
+}

@@ -1,0 +1,850 @@
+//! Second reading stage: `RawLine → Line`.
+//!
+//! Checks every value and every reference, collecting *all* problems with
+//! their YAML path (`rollers[2].diameter: expected a length such as "120 mm",
+//! got "120"`) instead of stopping at the first. Suspicious but possible input
+//! becomes a warning kept in `Line::warnings`.
+
+use super::path::{self, Earthing, NodeKind, NodeSpec, Roller, Wrap};
+use super::raw::{RawLine, Scalar};
+use super::*;
+use crate::units::{Dim, EPS0, parse_quantity};
+
+/// Breakdown field of air, uniform field, 1 atm, cm gaps [V/m]
+/// (textbook value; FACTS.md "Air breakdown").
+pub const AIR_BREAKDOWN_FIELD: f64 = 3.0e6;
+
+/// Largest net density an isolated thin sheet can hold before the air breaks
+/// down, 2·ε0·Eb ≈ 5.3e-5 C/m² (derived, FACTS.md).
+pub fn isolated_sheet_limit() -> f64 {
+    2.0 * EPS0 * AIR_BREAKDOWN_FIELD
+}
+
+/// Densities above this [C/m²] are refused as a likely unit error: about 19
+/// times what air can hold on an isolated sheet.
+pub const ABSURD_SIGMA: f64 = 1e-3;
+
+/// Closest a place of interest may be to the web [m] (the solver's limit).
+pub const MIN_POINT_DISTANCE: f64 = 1e-6;
+
+struct Ctx {
+    issues: Vec<Issue>,
+    warnings: Vec<Issue>,
+}
+
+impl Ctx {
+    fn err(&mut self, path: impl Into<String>, msg: impl Into<String>) {
+        self.issues.push(Issue::at(path, msg));
+    }
+    fn warn(&mut self, path: impl Into<String>, msg: impl Into<String>) {
+        self.warnings.push(Issue::at(path, msg));
+    }
+    /// A required value: reports it missing.
+    fn need<'a>(&mut self, v: &'a Option<Scalar>, path: &str, what: &str) -> Option<&'a Scalar> {
+        if v.is_none() {
+            self.err(path, format!("missing: expected {what}"));
+        }
+        v.as_ref()
+    }
+    fn qty(&mut self, v: &Scalar, dim: Dim, path: &str) -> Option<f64> {
+        match parse_quantity(v.as_str(), dim) {
+            Ok(x) => Some(x),
+            Err(e) => {
+                self.err(path, e.to_string());
+                None
+            }
+        }
+    }
+    fn req_qty(&mut self, v: &Option<Scalar>, dim: Dim, path: &str) -> Option<f64> {
+        let what = format!("{} such as \"{}\"", dim.name(), dim.example());
+        let s = self.need(v, path, &what)?;
+        self.qty(s, dim, path)
+    }
+    fn positive(&mut self, x: Option<f64>, dim: Dim, path: &str) -> Option<f64> {
+        let x = x?;
+        if x > 0.0 {
+            Some(x)
+        } else {
+            self.err(
+                path,
+                format!(
+                    "expected a positive {}, got {}",
+                    dim.name()
+                        .trim_start_matches("a ")
+                        .trim_start_matches("an "),
+                    crate::units::format_quantity(x, dim)
+                ),
+            );
+            None
+        }
+    }
+    fn id(&mut self, v: &Option<Scalar>, path: &str) -> Option<String> {
+        let s = self.need(v, path, "an identifier such as \"R1\"")?;
+        let t = s.as_str().trim();
+        if t.is_empty() || t.contains(char::is_whitespace) || t.len() > 64 {
+            self.err(
+                path,
+                format!("expected an identifier of up to 64 characters without spaces, such as \"R1\", got \"{t}\""),
+            );
+            return None;
+        }
+        if t.eq_ignore_ascii_case("start") {
+            self.err(
+                path,
+                "\"start\" is reserved for the start of the path: choose another id",
+            );
+            return None;
+        }
+        Some(t.to_string())
+    }
+    fn lengths<const N: usize>(
+        &mut self,
+        v: &Option<Vec<Scalar>>,
+        path: &str,
+        form: &str,
+    ) -> Option<[f64; N]> {
+        let Some(list) = v else {
+            self.err(path, format!("missing: expected {form}"));
+            return None;
+        };
+        if list.len() != N {
+            self.err(
+                path,
+                format!("expected {form} ({N} lengths), got {} value(s)", list.len()),
+            );
+            return None;
+        }
+        let mut out = [0.0; N];
+        let mut ok = true;
+        for (i, s) in list.iter().enumerate() {
+            match self.qty(s, Dim::Length, &format!("{path}[{i}]")) {
+                Some(x) => out[i] = x,
+                None => ok = false,
+            }
+        }
+        ok.then_some(out)
+    }
+}
+
+fn keyword<'a>(
+    ctx: &mut Ctx,
+    v: &Option<Scalar>,
+    path: &str,
+    allowed: &[&'a str],
+) -> Option<&'a str> {
+    let s = ctx.need(v, path, &format!("one of {}", allowed.join(" | ")))?;
+    let t = s.as_str().trim();
+    match allowed.iter().find(|a| a.eq_ignore_ascii_case(t)) {
+        Some(a) => Some(a),
+        None => {
+            ctx.err(
+                path,
+                format!("expected one of {}, got \"{t}\"", allowed.join(" | ")),
+            );
+            None
+        }
+    }
+}
+
+/// Validates a raw line description into a [`Line`], collecting every problem.
+pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
+    let mut ctx = Ctx {
+        issues: Vec::new(),
+        warnings: Vec::new(),
+    };
+    let title = raw
+        .line
+        .as_ref()
+        .map(|s| s.as_str().trim().to_string())
+        .filter(|s| !s.is_empty())
+        .unwrap_or_else(|| "untitled line".to_string());
+
+    let web = validate_web(&mut ctx, raw);
+    let ground_plane = raw
+        .ground_plane
+        .as_ref()
+        .and_then(|g| ctx.qty(g, Dim::Length, "ground_plane"));
+    let rollers = validate_rollers(&mut ctx, raw, ground_plane);
+    let nodes = validate_nodes(&mut ctx, raw, &rollers);
+    let across = web
+        .as_ref()
+        .and_then(|w| validate_across(&mut ctx, raw, w.width));
+
+    // Geometry needs valid rollers and nodes; stop here if they are not.
+    let (Some(web), Some(rollers), Some(nodes), Some(across)) = (web, rollers, nodes, across)
+    else {
+        return Err(ValidationError { issues: ctx.issues });
+    };
+    let path = match path::build_path(nodes, &rollers) {
+        Ok(p) => p,
+        Err(problems) => {
+            for p in problems {
+                ctx.err(format!("path[{}]", p.node), p.message);
+            }
+            return Err(ValidationError { issues: ctx.issues });
+        }
+    };
+    check_spans(&mut ctx, &path, &rollers, ground_plane);
+    let charge = validate_charge(&mut ctx, raw, &path, &web, &across);
+    let points = validate_points(&mut ctx, raw, &path, &rollers, &web, ground_plane);
+
+    if !ctx.issues.is_empty() {
+        return Err(ValidationError { issues: ctx.issues });
+    }
+    Ok(Line {
+        title,
+        web,
+        ground_plane,
+        rollers,
+        path,
+        across,
+        charge,
+        points,
+        warnings: ctx.warnings,
+    })
+}
+
+fn validate_web(ctx: &mut Ctx, raw: &RawLine) -> Option<Web> {
+    let Some(w) = &raw.web else {
+        ctx.err("web", "missing: expected the web's width, thickness, relative_permittivity, volume_resistivity (or relaxation_time) and speed");
+        return None;
+    };
+    let width = ctx.req_qty(&w.width, Dim::Length, "web.width");
+    let width = ctx.positive(width, Dim::Length, "web.width");
+    let thickness = ctx.req_qty(&w.thickness, Dim::Length, "web.thickness");
+    let thickness = ctx.positive(thickness, Dim::Length, "web.thickness");
+    if let (Some(wd), Some(t)) = (width, thickness) {
+        if t >= wd {
+            ctx.err(
+                "web.thickness",
+                "the web is thicker than it is wide: check the units of width and thickness",
+            );
+        }
+        if t > 0.01 {
+            ctx.warn(
+                "web.thickness",
+                format!(
+                    "{} is unusually thick for a web; the model treats the web as a thin sheet",
+                    crate::units::format_quantity(t, Dim::Length)
+                ),
+            );
+        }
+    }
+    if let Some(wd) = width
+        && wd > 20.0
+    {
+        ctx.warn(
+            "web.width",
+            format!(
+                "{} is wider than any usual web line: check the unit",
+                crate::units::format_quantity(wd, Dim::Length)
+            ),
+        );
+    }
+    let er = ctx.req_qty(
+        &w.relative_permittivity,
+        Dim::Number,
+        "web.relative_permittivity",
+    );
+    let er = match er {
+        Some(e) if e < 1.0 => {
+            ctx.err(
+                "web.relative_permittivity",
+                format!("expected a relative permittivity of at least 1 (vacuum), got {e}"),
+            );
+            None
+        }
+        Some(e) if e > 100.0 => {
+            ctx.warn(
+                "web.relative_permittivity",
+                format!("{e} is far above that of web materials (about 2 to 10)"),
+            );
+            Some(e)
+        }
+        other => other,
+    };
+    let speed = ctx.req_qty(&w.speed, Dim::Speed, "web.speed");
+    let speed = ctx.positive(speed, Dim::Speed, "web.speed");
+    let rho = w
+        .volume_resistivity
+        .as_ref()
+        .and_then(|r| ctx.qty(r, Dim::Resistivity, "web.volume_resistivity"));
+    let rho = ctx.positive_opt(rho, Dim::Resistivity, "web.volume_resistivity");
+    let tau_given = w
+        .relaxation_time
+        .as_ref()
+        .and_then(|r| ctx.qty(r, Dim::Time, "web.relaxation_time"));
+    let tau_given = ctx.positive_opt(tau_given, Dim::Time, "web.relaxation_time");
+    let tau = match (&w.volume_resistivity, &w.relaxation_time) {
+        (Some(_), Some(_)) => {
+            ctx.err("web", "give either volume_resistivity or relaxation_time, not both (τ = ε0·εr·ρ links them)");
+            None
+        }
+        (None, None) => {
+            ctx.err("web", "missing: expected volume_resistivity such as \"1e15 ohm m\" or relaxation_time such as \"400 s\"");
+            None
+        }
+        (Some(_), None) => match (rho, er) {
+            (Some(r), Some(e)) => Some(EPS0 * e * r),
+            _ => None,
+        },
+        (None, Some(_)) => tau_given,
+    };
+    let breakdown = w
+        .breakdown_strength
+        .as_ref()
+        .and_then(|b| ctx.qty(b, Dim::Field, "web.breakdown_strength"));
+    let breakdown = ctx.positive_opt(breakdown, Dim::Field, "web.breakdown_strength");
+    let material = w.material.as_ref().map(|m| m.as_str().trim().to_string());
+    Some(Web {
+        material,
+        width: width?,
+        thickness: thickness?,
+        relative_permittivity: er?,
+        volume_resistivity: rho,
+        relaxation_time: tau?,
+        speed: speed?,
+        breakdown_strength: breakdown,
+    })
+}
+
+impl Ctx {
+    fn positive_opt(&mut self, x: Option<f64>, dim: Dim, path: &str) -> Option<f64> {
+        x.and_then(|v| self.positive(Some(v), dim, path))
+    }
+}
+
+fn validate_rollers(ctx: &mut Ctx, raw: &RawLine, ground: Option<f64>) -> Option<Vec<Roller>> {
+    let before = ctx.issues.len();
+    let mut out: Vec<Roller> = Vec::new();
+    for (i, r) in raw.rollers.iter().enumerate() {
+        let p = format!("rollers[{i}]");
+        let id = ctx.id(&r.id, &format!("{p}.id"));
+        let center = ctx.lengths::<2>(
+            &r.center,
+            &format!("{p}.center"),
+            "[x, z] such as [0.40 m, 1.20 m]",
+        );
+        let d = ctx.req_qty(&r.diameter, Dim::Length, &format!("{p}.diameter"));
+        let d = ctx.positive(d, Dim::Length, &format!("{p}.diameter"));
+        let earthing = if r.earthing.is_none() {
+            ctx.warn(
+                format!("{p}.earthing"),
+                "not given: taken as grounded (say grounded, isolated or insulating)",
+            );
+            Some("grounded")
+        } else {
+            keyword(
+                ctx,
+                &r.earthing,
+                &format!("{p}.earthing"),
+                &["grounded", "isolated", "insulating"],
+            )
+        };
+        if let Some(id) = &id
+            && out.iter().any(|o| &o.id == id)
+        {
+            ctx.err(
+                format!("{p}.id"),
+                format!("duplicate roller id \"{id}\": every roller needs its own id"),
+            );
+        }
+        if let (Some(id), Some(center), Some(d), Some(e)) = (id, center, d, earthing) {
+            let earthing = match e {
+                "isolated" => Earthing::Isolated,
+                "insulating" => Earthing::Insulating,
+                _ => Earthing::Grounded,
+            };
+            let radius = d / 2.0;
+            for o in &out {
+                let dist = (center[0] - o.center[0]).hypot(center[1] - o.center[1]);
+                if dist < radius + o.radius - 1e-9 {
+                    ctx.err(
+                        format!("{p}.center"),
+                        format!(
+                            "roller {id} overlaps roller {} (centres {:.4} m apart, radii add up to {:.4} m): move it or check the diameter",
+                            o.id,
+                            dist,
+                            radius + o.radius
+                        ),
+                    );
+                }
+            }
+            if let Some(g) = ground
+                && center[1] - radius < g
+            {
+                ctx.err(
+                        format!("{p}.center"),
+                        format!("roller {id} reaches below the ground plane at z = {g:.4} m: raise it or lower ground_plane"),
+                    );
+            }
+            out.push(Roller {
+                id,
+                center,
+                radius,
+                earthing,
+            });
+        }
+    }
+    (ctx.issues.len() == before).then_some(out)
+}
+
+fn validate_nodes(
+    ctx: &mut Ctx,
+    raw: &RawLine,
+    rollers: &Option<Vec<Roller>>,
+) -> Option<Vec<NodeSpec>> {
+    let before = ctx.issues.len();
+    if raw.path.is_empty() {
+        ctx.err("path", "missing: expected a list of at least two nodes, each `- point: [x, z]` or `- roller: ID` with `wrap: cw|ccw`");
+        return None;
+    }
+    let mut out = Vec::new();
+    let mut point_ids: Vec<String> = Vec::new();
+    for (i, n) in raw.path.iter().enumerate() {
+        let p = format!("path[{i}]");
+        match (&n.point, &n.roller) {
+            (Some(_), Some(_)) => ctx.err(&p, "a node is either `point:` or `roller:`, not both"),
+            (None, None) => ctx.err(
+                &p,
+                "expected `point: [x, z]` or `roller: ID` with `wrap: cw|ccw`",
+            ),
+            (Some(_), None) => {
+                if n.wrap.is_some() {
+                    ctx.err(format!("{p}.wrap"), "a free point has no wrap direction: remove `wrap:` (it belongs to roller nodes)");
+                }
+                let at = ctx.lengths::<2>(
+                    &n.point,
+                    &format!("{p}.point"),
+                    "[x, z] such as [0 m, 1.26 m]",
+                );
+                let id = match &n.id {
+                    Some(_) => {
+                        let id = ctx.id(&n.id, &format!("{p}.id"));
+                        if let Some(id) = &id {
+                            let clash_roller = rollers
+                                .as_ref()
+                                .is_some_and(|rs| rs.iter().any(|r| &r.id == id))
+                                || raw.rollers.iter().any(|r| {
+                                    r.id.as_ref().map(|s| s.as_str().trim()) == Some(id.as_str())
+                                });
+                            if clash_roller || point_ids.contains(id) {
+                                ctx.err(format!("{p}.id"), format!("duplicate id \"{id}\": path points and rollers need distinct ids"));
+                            }
+                            point_ids.push(id.clone());
+                        }
+                        id
+                    }
+                    None => None,
+                };
+                if let Some(at) = at {
+                    out.push(NodeSpec {
+                        id,
+                        kind: NodeKind::Point(at),
+                    });
+                }
+            }
+            (None, Some(rid)) => {
+                if n.id.is_some() {
+                    ctx.err(
+                        format!("{p}.id"),
+                        "a roller node is named by its roller id: remove `id:`",
+                    );
+                }
+                let wrap = keyword(ctx, &n.wrap, &format!("{p}.wrap"), &["cw", "ccw"]);
+                let rid = rid.as_str().trim();
+                let found = rollers
+                    .as_ref()
+                    .and_then(|rs| rs.iter().position(|r| r.id == rid));
+                if found.is_none() {
+                    let known: Vec<String> = raw
+                        .rollers
+                        .iter()
+                        .filter_map(|r| r.id.as_ref().map(|s| s.as_str().trim().to_string()))
+                        .collect();
+                    if known.iter().any(|k| k == rid) {
+                        // The roller exists but is itself invalid: reported there.
+                    } else {
+                        ctx.err(
+                            format!("{p}.roller"),
+                            format!(
+                                "unknown roller \"{rid}\": expected one of the ids under `rollers:` ({})",
+                                if known.is_empty() { "none defined".to_string() } else { known.join(", ") }
+                            ),
+                        );
+                    }
+                }
+                if let (Some(roller), Some(w)) = (found, wrap) {
+                    let wrap = if w == "cw" { Wrap::Cw } else { Wrap::Ccw };
+                    out.push(NodeSpec {
+                        id: Some(rid.to_string()),
+                        kind: NodeKind::Roller { roller, wrap },
+                    });
+                }
+            }
+        }
+    }
+    (ctx.issues.len() == before).then_some(out)
+}
+
+fn validate_across(ctx: &mut Ctx, raw: &RawLine, width: f64) -> Option<AcrossProfile> {
+    let Some(a) = &raw.across_profile else {
+        return Some(AcrossProfile {
+            shape: AcrossShape::Uniform,
+            width,
+        });
+    };
+    let shape = keyword(
+        ctx,
+        &a.shape,
+        "across_profile.shape",
+        &["uniform", "edges", "tilt", "table"],
+    )?;
+    let k = |ctx: &mut Ctx| ctx.req_qty(&a.k, Dim::Number, "across_profile.k");
+    let shape = match shape {
+        "uniform" => {
+            if a.k.is_some() || a.table.is_some() {
+                ctx.err(
+                    "across_profile",
+                    "a uniform profile takes no `k:` or `table:`",
+                );
+            }
+            AcrossShape::Uniform
+        }
+        "edges" | "tilt" => {
+            if a.table.is_some() {
+                ctx.err(
+                    "across_profile.table",
+                    format!("`table:` belongs to shape: table, not {shape}"),
+                );
+            }
+            let k = k(ctx)?;
+            if shape == "edges" {
+                if 1.0 + k < 0.0 {
+                    ctx.warn(
+                        "across_profile.k",
+                        format!(
+                            "k = {k}: the density changes sign between the centreline and the edges"
+                        ),
+                    );
+                }
+                AcrossShape::Edges(k)
+            } else {
+                if k.abs() > 1.0 {
+                    ctx.warn(
+                        "across_profile.k",
+                        format!("k = {k}: the density changes sign across the web"),
+                    );
+                }
+                AcrossShape::Tilt(k)
+            }
+        }
+        _ => {
+            if a.k.is_some() {
+                ctx.err(
+                    "across_profile.k",
+                    "`k:` belongs to shapes edges and tilt, not table",
+                );
+            }
+            let Some(rows) = &a.table else {
+                ctx.err("across_profile.table", "missing: expected a list of [y, f] pairs such as [[-0.6 m, 1.5], [0 m, 1], [0.6 m, 1.5]] covering the web width");
+                return None;
+            };
+            let mut t: Vec<(f64, f64)> = Vec::new();
+            let mut ok = true;
+            for (i, row) in rows.iter().enumerate() {
+                let p = format!("across_profile.table[{i}]");
+                if row.len() != 2 {
+                    ctx.err(
+                        &p,
+                        format!(
+                            "expected a pair [y, f] such as [0.3 m, 1.2], got {} value(s)",
+                            row.len()
+                        ),
+                    );
+                    ok = false;
+                    continue;
+                }
+                let y = ctx.qty(&row[0], Dim::Length, &format!("{p}[0]"));
+                let f = ctx.qty(&row[1], Dim::Number, &format!("{p}[1]"));
+                match (y, f) {
+                    (Some(y), Some(f)) => {
+                        if let Some(&(py, _)) = t.last()
+                            && y <= py
+                        {
+                            ctx.err(&p, "the y values must increase strictly from row to row");
+                            ok = false;
+                        }
+                        t.push((y, f));
+                    }
+                    _ => ok = false,
+                }
+            }
+            if !ok {
+                return None;
+            }
+            if t.len() < 2 {
+                ctx.err("across_profile.table", "expected at least two [y, f] pairs");
+                return None;
+            }
+            let h = width / 2.0;
+            if t[0].0 > -h + 1e-12 || t[t.len() - 1].0 < h - 1e-12 {
+                ctx.err(
+                    "across_profile.table",
+                    format!("the table must cover the whole web, y from {:.4} m to {:.4} m; it covers {:.4} m to {:.4} m", -h, h, t[0].0, t[t.len() - 1].0),
+                );
+                return None;
+            }
+            let prof = AcrossProfile {
+                shape: AcrossShape::Table(t),
+                width,
+            };
+            let f0 = prof.f(0.0);
+            if (f0 - 1.0).abs() > 1e-9 {
+                ctx.err(
+                    "across_profile.table",
+                    format!("f must be 1 on the centreline (the centreline density is what `charge:` sets), but the table gives f(0) = {f0}: divide every f by {f0}"),
+                );
+                return None;
+            }
+            return Some(prof);
+        }
+    };
+    Some(AcrossProfile { shape, width })
+}
+
+fn check_spans(ctx: &mut Ctx, path: &WebPath, rollers: &[Roller], ground: Option<f64>) {
+    for span in &path.spans {
+        if let Some(g) = ground
+            && (span.start[1] < g || span.end[1] < g)
+        {
+            ctx.err(
+                    "ground_plane",
+                    format!("span {} runs below the ground plane at z = {g:.4} m: raise the path or lower ground_plane", span.label()),
+                );
+        }
+        // A span that cuts through a roller it does not wrap.
+        for (ri, r) in rollers.iter().enumerate() {
+            let touches = |node: usize| matches!(path.nodes[node].kind, NodeKind::Roller { roller, .. } if roller == ri);
+            if touches(span.from_node) || touches(span.to_node) {
+                continue;
+            }
+            let d = span.direction();
+            let rel = [r.center[0] - span.start[0], r.center[1] - span.start[1]];
+            let t = (rel[0] * d[0] + rel[1] * d[1]).clamp(0.0, span.length);
+            let closest = [span.start[0] + t * d[0], span.start[1] + t * d[1]];
+            let dist = (r.center[0] - closest[0]).hypot(r.center[1] - closest[1]);
+            if dist < r.radius {
+                ctx.warn(
+                    "path",
+                    format!("span {} passes through roller {} ({:.1} mm inside its surface): check the path order and wrap directions", span.label(), r.id, (r.radius - dist) * 1e3),
+                );
+            }
+        }
+    }
+}
+
+fn validate_charge(
+    ctx: &mut Ctx,
+    raw: &RawLine,
+    path: &WebPath,
+    web: &Web,
+    across: &AcrossProfile,
+) -> Vec<ChargeEntry> {
+    let mut out = Vec::new();
+    for (i, c) in raw.charge.iter().enumerate() {
+        let p = format!("charge[{i}]");
+        let Some(at) = ctx.need(
+            &c.at,
+            &format!("{p}.at"),
+            "`start` or the id of a path node such as \"R1\"",
+        ) else {
+            continue;
+        };
+        let at = at.as_str().trim().to_string();
+        let s = if at.eq_ignore_ascii_case("start") {
+            Some(0.0)
+        } else {
+            let nodes = path.nodes_with_id(&at);
+            match nodes.len() {
+                0 => {
+                    let ids: Vec<&str> =
+                        path.nodes.iter().filter_map(|n| n.id.as_deref()).collect();
+                    ctx.err(format!("{p}.at"), format!("unknown node \"{at}\": expected `start` or one of the path's node ids ({})", ids.join(", ")));
+                    None
+                }
+                1 => Some(path.departure_s[nodes[0]]),
+                _ => {
+                    ctx.err(format!("{p}.at"), format!("node \"{at}\" appears {} times in the path, so the place is ambiguous: add a free point with its own id where the charge applies", nodes.len()));
+                    None
+                }
+            }
+        };
+        let (mode, value, key) = match (&c.sigma, &c.adds) {
+            (Some(v), None) => (ChargeMode::Set, v, "sigma"),
+            (None, Some(v)) => (ChargeMode::Add, v, "adds"),
+            (Some(_), Some(_)) => {
+                ctx.err(
+                    &p,
+                    "give either `sigma:` (sets the density) or `adds:` (adds to it), not both",
+                );
+                continue;
+            }
+            (None, None) => {
+                ctx.err(&p, "missing: expected `sigma:` or `adds:` with a surface charge density such as \"8 uC/m^2\"");
+                continue;
+            }
+        };
+        let Some(sigma) = ctx.qty(value, Dim::SurfaceChargeDensity, &format!("{p}.{key}")) else {
+            continue;
+        };
+        if sigma.abs() > ABSURD_SIGMA {
+            ctx.err(
+                format!("{p}.{key}"),
+                format!(
+                    "{} is about {:.0} times what air can hold on a sheet (2·ε0·Eb ≈ 53 µC/m²): likely a unit error — densities on webs are a few µC/m²",
+                    crate::units::format_quantity(sigma, Dim::SurfaceChargeDensity),
+                    sigma.abs() / isolated_sheet_limit()
+                ),
+            );
+            continue;
+        }
+        if let Some(s) = s {
+            if (s - path.total_length).abs() < 1e-12 && !path.spans.is_empty() {
+                ctx.warn(format!("{p}.at"), format!("charge leaving the last node \"{at}\" is outside the modelled path and has no effect"));
+            }
+            out.push(ChargeEntry {
+                at,
+                s,
+                mode,
+                sigma,
+                yaml_path: format!("{p}.{key}"),
+            });
+        }
+    }
+    // Entries apply in path order; entries at the same place keep file order.
+    out.sort_by(|a, b| a.s.total_cmp(&b.s));
+    // Propagate along the path to check the densities that result.
+    let steps = crate::charge::segment_amplitudes(&out, web.decay_length());
+    let fmax = across.max_abs();
+    let limit = isolated_sheet_limit();
+    for (entry, a) in out.iter().zip(steps) {
+        let peak = a.abs() * fmax;
+        if peak > ABSURD_SIGMA {
+            ctx.err(&entry.yaml_path, format!("the density leaving {} reaches {} (with the across-web profile): likely a unit error", entry.at, crate::units::format_quantity(peak, Dim::SurfaceChargeDensity)));
+        } else if peak > limit {
+            ctx.warn(
+                &entry.yaml_path,
+                format!(
+                    "the net density leaving {} reaches {} (with the across-web profile), above 2·ε0·Eb = {} that air can hold on an isolated sheet (Eb = 3 MV/m): the air would break down before such a charge is reached",
+                    entry.at,
+                    crate::units::format_quantity(peak, Dim::SurfaceChargeDensity),
+                    crate::units::format_quantity(limit, Dim::SurfaceChargeDensity)
+                ),
+            );
+        }
+    }
+    out
+}
+
+/// Distance from a 3-D point to the charged rectangle of a span [m].
+pub fn distance_to_span(span: &Span, width: f64, p: [f64; 3]) -> f64 {
+    let d = span.direction();
+    let rel = [p[0] - span.start[0], p[2] - span.start[1]];
+    let u = rel[0] * d[0] + rel[1] * d[1];
+    let h = -rel[0] * d[1] + rel[1] * d[0];
+    let du = if u < 0.0 {
+        -u
+    } else if u > span.length {
+        u - span.length
+    } else {
+        0.0
+    };
+    let dy = (p[1].abs() - width / 2.0).max(0.0);
+    (du * du + dy * dy + h * h).sqrt()
+}
+
+fn validate_points(
+    ctx: &mut Ctx,
+    raw: &RawLine,
+    path: &WebPath,
+    rollers: &[Roller],
+    web: &Web,
+    ground: Option<f64>,
+) -> Vec<Point> {
+    let mut out: Vec<Point> = Vec::new();
+    for (i, q) in raw.points.iter().enumerate() {
+        let p = format!("points[{i}]");
+        let id = ctx.id(&q.id, &format!("{p}.id"));
+        let kind = keyword(
+            ctx,
+            &q.kind,
+            &format!("{p}.kind"),
+            &["meter", "operator", "electronics", "probe"],
+        );
+        let at = ctx.lengths::<3>(
+            &q.at,
+            &format!("{p}.at"),
+            "[x, y, z] such as [2.0 m, 0.8 m, 1.1 m]",
+        );
+        if let Some(id) = &id
+            && out.iter().any(|o| &o.id == id)
+        {
+            ctx.err(format!("{p}.id"), format!("duplicate point id \"{id}\""));
+        }
+        let (Some(id), Some(kind), Some(at)) = (id, kind, at) else {
+            continue;
+        };
+        if let Some(msg) = point_problem(path, rollers, web.width, ground, at) {
+            ctx.err(format!("{p}.at"), msg);
+            continue;
+        }
+        let kind = match kind {
+            "meter" => PointKind::Meter,
+            "operator" => PointKind::Operator,
+            "electronics" => PointKind::Electronics,
+            _ => PointKind::Probe,
+        };
+        out.push(Point { id, kind, at });
+    }
+    out
+}
+
+/// Why a point cannot be evaluated (on the web, inside a roller, below the
+/// ground plane), or `None` when it can.
+pub fn point_problem(
+    path: &WebPath,
+    rollers: &[Roller],
+    width: f64,
+    ground: Option<f64>,
+    at: [f64; 3],
+) -> Option<String> {
+    if let Some(g) = ground
+        && at[2] < g
+    {
+        return Some(format!(
+            "z = {:.4} m is below the ground plane at z = {g:.4} m: the model has no field there",
+            at[2]
+        ));
+    }
+    for r in rollers {
+        let d = (at[0] - r.center[0]).hypot(at[2] - r.center[1]);
+        if d < r.radius && at[1].abs() <= width / 2.0 {
+            return Some(format!(
+                "the point lies inside roller {} (rollers are taken to be as long as the web is wide): move it outside",
+                r.id
+            ));
+        }
+    }
+    for s in &path.spans {
+        let d = distance_to_span(s, width, at);
+        if d < MIN_POINT_DISTANCE {
+            return Some(format!(
+                "the point is {:.2e} m from span {}, i.e. on the web: points must be at least 1 µm away (the field is discontinuous at a charged sheet)",
+                d,
+                s.label()
+            ));
+        }
+    }
+    None
+}
