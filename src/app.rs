@@ -5,7 +5,9 @@
 //! the command line; the core modules take checked types only.
 
 use crate::charge::{ChargeProfile, charge_profile};
-use crate::cli::{CheckArgs, Cli, Command, FieldArgs, OutputFormat};
+use crate::cli::{
+    AssessArgs, CheckArgs, Cli, Command, DemoArgs, FieldArgs, OutputFormat, ProfilesArgs,
+};
 use crate::error::Outcome;
 use crate::field::{ASSUMPTIONS, FieldModel, PointField, SolverSettings};
 use crate::model::validate::point_problem;
@@ -25,7 +27,9 @@ pub fn run(cli: Cli) -> Result<Outcome> {
     match cli.command {
         Command::Check(a) => check(&a),
         Command::Field(a) => field(&a),
-        Command::Demo(_) => demo(),
+        Command::Assess(a) => assess_cmd(&a),
+        Command::Profiles(a) => profiles_cmd(&a),
+        Command::Demo(a) => demo(&a),
     }
 }
 
@@ -422,47 +426,286 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
     Ok(Outcome::Pass)
 }
 
-fn demo() -> Result<Outcome> {
-    let line = parse_line(crate::DEMO_LINE)
-        .context("the built-in demo line (profiles/lines/demo.yaml)")?;
-    print_warnings(&line);
-    let charge = charge_profile(&line);
-    let model = FieldModel::new(&line, &charge, SolverSettings::default());
-    let reqs: Vec<PointRequest> = line
-        .points
+/// Everything an assessment run needs, checked before any solving.
+struct AssessJob<'a> {
+    line: Line,
+    line_file: String,
+    line_text: &'a str,
+    extra_profiles: &'a [String],
+    out: &'a Path,
+    settings: SolverSettings,
+    map_resolution: usize,
+}
+
+/// Checks that the output folder can be written before the long work.
+fn check_out_dir(out: &Path) -> Result<()> {
+    std::fs::create_dir_all(out)
+        .with_context(|| format!("creating the output folder '{}' (--out)", out.display()))?;
+    let probe = out.join(format!(".websigma-write-test-{}", std::process::id()));
+    std::fs::write(&probe, b"").with_context(|| {
+        format!(
+            "the output folder '{}' is not writable (--out)",
+            out.display()
+        )
+    })?;
+    let _ = std::fs::remove_file(&probe);
+    Ok(())
+}
+
+fn load_profiles(line: &Line, extra: &[String]) -> Result<Vec<crate::assess::ThresholdProfile>> {
+    let mut names: Vec<String> = line.assess.clone();
+    for e in extra {
+        if !names.contains(e) {
+            names.push(e.clone());
+        }
+    }
+    let mut out = Vec::new();
+    for n in &names {
+        out.push(
+            crate::assess::profile::load_profile(n)
+                .with_context(|| format!("threshold profile \"{n}\""))?,
+        );
+    }
+    Ok(crate::assess::with_air_limit(out))
+}
+
+/// The lowest |E| limit among the rules in force, for the map's contour.
+fn lowest_field_limit(profiles: &[crate::assess::ThresholdProfile]) -> Option<(f64, String)> {
+    profiles
         .iter()
-        .map(|p| PointRequest {
-            id: Some(format!("{} ({})", p.id, p.kind.text())),
-            at: p.at,
+        .flat_map(|p| p.rules.iter().map(move |r| (p, r)))
+        .filter(|(_, r)| r.dim == Dim::Field)
+        .filter_map(|(p, r)| {
+            r.fail
+                .or(r.warn)
+                .map(|v| (v, format!("{}/{}", p.name, r.id)))
+        })
+        .min_by(|a, b| a.0.total_cmp(&b.0))
+}
+
+/// Runs the whole pipeline and writes the report folder; returns its path
+/// and the assessment.
+fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::assess::Assessment)> {
+    use crate::report::{build, figures, folder, plot};
+    check_out_dir(job.out)?;
+    let line = &job.line;
+    let profiles = load_profiles(line, job.extra_profiles)?;
+    let charge = charge_profile(line);
+    let model = FieldModel::new(line, &charge, job.settings);
+    let pts: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
+    let points = crate::field::FieldMap {
+        points: pts
+            .par_iter()
+            .map(|&p| model.at(p, true))
+            .collect::<std::result::Result<Vec<_>, _>>()?,
+    };
+    let assessment = crate::assess::assess(line, &charge, &model, &points, &profiles)?;
+
+    // Figures.
+    let side = figures::side_view(line, &charge);
+    let (xr, zr) = figures::extent(line);
+    let nx = job.map_resolution.clamp(20, 1000);
+    let nz = ((nx as f64) * (zr[1] - zr[0]) / (xr[1] - xr[0]))
+        .round()
+        .clamp(10.0, 1000.0) as usize;
+    let (xs, zs, e) = crate::field::side_view_grid(&model, xr, zr, nx, nz, 0.0);
+    let grid = figures::field_grid(xs, zs, e, 0.0, lowest_field_limit(&profiles));
+    let sigma_limits: Vec<(f64, String)> = profiles
+        .iter()
+        .flat_map(|p| p.rules.iter().map(move |r| (p, r)))
+        .filter(|(_, r)| r.dim == Dim::SurfaceChargeDensity)
+        .filter_map(|(p, r)| r.fail.map(|v| (v, format!("{}/{} fail", p.name, r.id))))
+        .collect();
+    let curve = figures::charge_curve(line, &charge, sigma_limits);
+    let plots = vec![
+        build::Plot {
+            file: "side_view.png".into(),
+            caption: "Side view: rollers, web path coloured by charge density, zones and points of interest".into(),
+            png: plot::side_view_png(&side, 1400, 800)?,
+        },
+        build::Plot {
+            file: "field_map.png".into(),
+            caption: "Field strength |E| on the centreline plane y = 0 (logarithmic colour scale)".into(),
+            png: plot::field_map_png(&side, &grid, 1400, 800)?,
+        },
+        build::Plot {
+            file: "charge_along_path.png".into(),
+            caption: "Charge density along the web path, with the limits in force".into(),
+            png: plot::charge_png(&curve, 1400, 700)?,
+        },
+    ];
+    let report = build::build_report(
+        line,
+        &job.line_file,
+        job.line_text,
+        &charge,
+        &points,
+        &assessment,
+        &profiles,
+        job.settings.rel_tol(),
+        plots,
+        chrono::Utc::now(),
+    );
+    let files = folder::render_all(&report)?;
+    let dir = folder::write_folder(job.out, &report.meta.report_id, files.into_iter().map(Ok))?;
+    Ok((dir, assessment))
+}
+
+/// The short terminal summary: one line per finding, worst first.
+fn summary_table(a: &crate::assess::Assessment, max_rows: usize) -> String {
+    use tabled::settings::Style;
+    #[derive(tabled::Tabled)]
+    struct Row {
+        verdict: String,
+        rule: String,
+        subject: String,
+        value: String,
+        limit: String,
+        margin: String,
+        confidence: String,
+    }
+    let rows: Vec<Row> = a
+        .findings
+        .iter()
+        .take(max_rows)
+        .map(|f| Row {
+            verdict: f.verdict.text().to_uppercase(),
+            rule: format!("{}/{}", f.profile, f.rule),
+            subject: f.subject.clone(),
+            value: format_quantity(f.value, f.dim),
+            limit: format_quantity(f.limit, f.dim),
+            margin: crate::report::document::margin_text(f.margin),
+            confidence: f.confidence.text().to_string(),
         })
         .collect();
-    let res = evaluate(&model, &reqs, true)?;
+    let mut t = tabled::Table::new(rows);
+    t.with(Style::sharp());
+    let mut s = t.to_string();
+    if a.findings.len() > max_rows {
+        s.push_str(&format!(
+            "\n… and {} more findings in the report",
+            a.findings.len() - max_rows
+        ));
+    }
+    s
+}
+
+fn print_assessment(line: &Line, a: &crate::assess::Assessment, dir: &Path) -> Result<()> {
+    let n = |v: crate::assess::Verdict| a.findings.iter().filter(|f| f.verdict == v).count();
+    let s = format!(
+        "{}\n{}\n\nverdict: {} ({} fail, {} warn, {} pass)\nreport: {}\n\ncaution: {}\n",
+        line.title,
+        summary_table(a, 25),
+        a.verdict.text().to_uppercase(),
+        n(crate::assess::Verdict::Fail),
+        n(crate::assess::Verdict::Warn),
+        n(crate::assess::Verdict::Pass),
+        dir.display(),
+        crate::CAUTIONS
+    );
+    emit(&mut std::io::stdout().lock(), &s)
+}
+
+fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
+    let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
+    let text = crate::model::read_line_text(&a.line)?;
+    let line = parse_line(&text).map_err(|e| {
+        anyhow::Error::new(e).context(format!("invalid line description '{}'", a.line.display()))
+    })?;
+    print_warnings(&line);
+    let (dir, assessment) = run_assessment(AssessJob {
+        line_file: a.line.display().to_string(),
+        line: line.clone(),
+        line_text: &text,
+        extra_profiles: &a.profiles,
+        out: &a.out,
+        settings,
+        map_resolution: a.map_resolution,
+    })?;
+    print_assessment(&line, &assessment, &dir)?;
+    Ok(if assessment.verdict == crate::assess::Verdict::Fail {
+        Outcome::Exceeded
+    } else {
+        Outcome::Pass
+    })
+}
+
+fn profiles_cmd(a: &ProfilesArgs) -> Result<Outcome> {
+    use crate::assess::profile;
+    let mut s = String::new();
+    match &a.name {
+        None => {
+            let mut rows = Vec::new();
+            for (name, _) in profile::shipped() {
+                let p = profile::load_profile(name)?;
+                rows.push(vec![
+                    p.name.clone(),
+                    p.title.clone(),
+                    format!("{}", p.rules.len()),
+                ]);
+            }
+            s.push_str(&text::table(&["profile", "title", "rules"], &rows));
+            s.push_str("\nshow one with `websigma profiles NAME`; apply with `assess: [NAME]` in the line or `--profile NAME|FILE`\n");
+        }
+        Some(name) => {
+            let p = profile::load_profile(name)?;
+            s.push_str(&format!("{} — {}\n{}\n\n", p.name, p.title, p.description));
+            let rows: Vec<Vec<String>> = p
+                .rules
+                .iter()
+                .map(|r| {
+                    vec![
+                        r.id.clone(),
+                        r.what.clone(),
+                        r.warn
+                            .map(|w| format_quantity(w, r.dim))
+                            .unwrap_or_else(|| "—".into()),
+                        r.fail
+                            .map(|w| format_quantity(w, r.dim))
+                            .unwrap_or_else(|| "—".into()),
+                        r.confidence.text().to_string(),
+                    ]
+                })
+                .collect();
+            s.push_str(&text::table(
+                &["rule", "checks", "warn", "fail", "confidence"],
+                &rows,
+            ));
+            s.push_str("\nsources:\n");
+            for r in &p.rules {
+                s.push_str(&format!("  {}: {}\n", r.id, r.source));
+                if let Some(n) = &r.note {
+                    s.push_str(&format!("    note: {n}\n"));
+                }
+            }
+        }
+    }
+    emit(&mut std::io::stdout().lock(), &s)?;
+    Ok(Outcome::Pass)
+}
+
+fn demo(a: &DemoArgs) -> Result<Outcome> {
+    let text = crate::DEMO_LINE;
+    let line = parse_line(text).context("the built-in demo line (profiles/lines/demo.yaml)")?;
+    print_warnings(&line);
+    let charge = charge_profile(&line);
     let mut s = String::from("websigma demo — an invented example line, not a real plant\n\n");
     s.push_str(&summary(&line, &charge));
     s.push('\n');
     s.push_str(&text::spans_table(&report::span_rows(&line, &charge)));
-    s.push_str("\nfield and potential at the points of interest:\n");
-    let cells: Vec<Vec<String>> = reqs
-        .iter()
-        .zip(&res)
-        .map(|(q, f)| text::field_cells(q, f))
-        .collect();
-    s.push_str(&text::table(&text::FIELD_HEADER, &cells));
-    if let Some((q, f)) = reqs
-        .iter()
-        .zip(&res)
-        .max_by(|a, b| a.1.e_magnitude().total_cmp(&b.1.e_magnitude()))
-    {
-        s.push_str(&format!(
-            "\nspan contributions at the strongest-field point, {}:\n{}",
-            q.id.as_deref().unwrap_or("-"),
-            text::contributions_table(f)
-        ));
-    }
-    s.push('\n');
-    s.push_str(&assumptions_text());
-    s.push_str(&format!("\ncaution: {}\n", crate::CAUTIONS));
-    let mut out = std::io::stdout().lock();
-    emit(&mut out, &s)?;
+    emit(&mut std::io::stdout().lock(), &s)?;
+    let started = std::time::Instant::now();
+    let (dir, assessment) = run_assessment(AssessJob {
+        line_file: "profiles/lines/demo.yaml (built in)".into(),
+        line: line.clone(),
+        line_text: text,
+        extra_profiles: &[],
+        out: &a.out,
+        settings: SolverSettings::default(),
+        map_resolution: 160,
+    })?;
+    eprintln!("assessed in {:.1} s", started.elapsed().as_secs_f64());
+    print_assessment(&line, &assessment, &dir)?;
+    // A demonstration: exit 0 once the report is written, whatever it found.
     Ok(Outcome::Pass)
 }

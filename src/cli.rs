@@ -26,8 +26,39 @@ pub enum Command {
     Check(CheckArgs),
     /// Field and potential at points (table, CSV or JSON).
     Field(FieldArgs),
-    /// Run the built-in invented example line end to end.
+    /// Full assessment against threshold profiles; writes a report folder.
+    Assess(AssessArgs),
+    /// List the shipped threshold profiles, or show one with its sources.
+    Profiles(ProfilesArgs),
+    /// Run the built-in invented example line end to end and write its report.
     Demo(DemoArgs),
+}
+
+/// `websigma assess`
+#[derive(Debug, clap::Args)]
+pub struct AssessArgs {
+    /// The line description (YAML).
+    pub line: PathBuf,
+    /// A threshold profile to apply besides the line's `assess:` list: a
+    /// shipped name (see `websigma profiles`) or a YAML file. Repeatable.
+    #[arg(long = "profile", value_name = "NAME|FILE")]
+    pub profiles: Vec<String>,
+    /// Folder under which the report folder is created.
+    #[arg(long, value_name = "DIR", default_value = "reports")]
+    pub out: PathBuf,
+    /// Relative tolerance of the integration (1e-12 to 1e-2).
+    #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
+    pub tolerance: f64,
+    /// Points per side of the field map (the map has N × N/2 points).
+    #[arg(long, default_value_t = 160, value_name = "N")]
+    pub map_resolution: usize,
+}
+
+/// `websigma profiles`
+#[derive(Debug, clap::Args)]
+pub struct ProfilesArgs {
+    /// A profile to show in full.
+    pub name: Option<String>,
 }
 
 /// `websigma check`
@@ -54,14 +85,18 @@ pub struct FieldArgs {
     /// Also give each span's contribution (the span and its ground-plane image).
     #[arg(long)]
     pub contributions: bool,
-    /// Relative tolerance of the integration (1e-13 to 1e-2).
+    /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
     pub tolerance: f64,
 }
 
 /// `websigma demo`
 #[derive(Debug, clap::Args)]
-pub struct DemoArgs {}
+pub struct DemoArgs {
+    /// Folder under which the report folder is created.
+    #[arg(long, value_name = "DIR", default_value = "reports")]
+    pub out: PathBuf,
+}
 
 /// How results are printed.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]

@@ -22,6 +22,7 @@
 #![warn(missing_docs)]
 
 pub mod app;
+pub mod assess;
 pub mod charge;
 pub mod cli;
 pub mod error;

@@ -9,6 +9,7 @@
 mod analytic;
 mod cli;
 mod geometry;
+mod reports;
 mod solver;
 mod util;
 mod validation;

@@ -11,13 +11,6 @@ pub fn websigma() -> Command {
     c
 }
 
-/// Path of a fixture file.
-pub fn fixture(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("tests/fixtures")
-        .join(name)
-}
-
 /// A small valid line: two grounded rollers, a point before and after.
 pub const SMALL_LINE: &str = r#"
 line: Test line

@@ -70,7 +70,7 @@ pub struct SettingsError(String);
 
 impl SolverSettings {
     /// Smallest relative tolerance accepted (about 100 × machine epsilon).
-    pub const MIN_TOL: f64 = 1e-13;
+    pub const MIN_TOL: f64 = 1e-12;
     /// Largest relative tolerance accepted.
     pub const MAX_TOL: f64 = 1e-2;
 
@@ -366,4 +366,37 @@ pub fn solve(
         .map(|&p| model.at(p, contributions))
         .collect::<Result<Vec<_>, _>>()?;
     Ok(FieldMap { points })
+}
+
+/// |E| on a regular grid in the side-view plane at across position `y`:
+/// `nx × nz` points over `x ∈ [x0, x1]`, `z ∈ [z0, z1]`, row-major by z
+/// (`values[iz * nx + ix]`) [V/m]. Points on the web (within 1 µm) are NaN.
+pub fn side_view_grid(
+    model: &FieldModel,
+    x: [Meters; 2],
+    z: [Meters; 2],
+    nx: usize,
+    nz: usize,
+    y: Meters,
+) -> (Vec<Meters>, Vec<Meters>, Vec<VoltsPerMeter>) {
+    let step = |a: f64, b: f64, n: usize, i: usize| {
+        if n > 1 {
+            a + (b - a) * i as f64 / (n - 1) as f64
+        } else {
+            a
+        }
+    };
+    let xs: Vec<f64> = (0..nx).map(|i| step(x[0], x[1], nx, i)).collect();
+    let zs: Vec<f64> = (0..nz).map(|i| step(z[0], z[1], nz, i)).collect();
+    let values: Vec<f64> = (0..nx * nz)
+        .into_par_iter()
+        .map(|k| {
+            let p = [xs[k % nx], y, zs[k / nx]];
+            model
+                .at(p, false)
+                .map(|f| f.e_magnitude())
+                .unwrap_or(f64::NAN)
+        })
+        .collect();
+    (xs, zs, values)
 }

@@ -284,6 +284,97 @@ pub struct Point {
     pub kind: PointKind,
     /// Position `[x, y, z]` [m].
     pub at: [Meters; 3],
+    /// Body capacitance [F], when given (operators only).
+    pub capacitance: Option<crate::units::Farads>,
+}
+
+/// Gas group of a hazardous zone (IEC 60079-20-1 grouping).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub enum GasGroup {
+    /// IIA, e.g. propane, hexane, toluene.
+    IIA,
+    /// IIB, e.g. ethylene, diethyl ether.
+    IIB,
+    /// IIC, e.g. hydrogen, acetylene.
+    IIC,
+}
+
+impl GasGroup {
+    /// The keyword used in the YAML.
+    pub fn text(self) -> &'static str {
+        match self {
+            GasGroup::IIA => "IIA",
+            GasGroup::IIB => "IIB",
+            GasGroup::IIC => "IIC",
+        }
+    }
+}
+
+/// A hazardous area: an axis-aligned box with its classification.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Zone {
+    /// Identifier.
+    pub id: String,
+    /// Free-text name.
+    pub name: Option<String>,
+    /// Zone class 0, 1 or 2.
+    pub zone: u8,
+    /// Gas group.
+    pub gas_group: GasGroup,
+    /// Lowest minimum ignition energy present [J].
+    pub mie: crate::units::Joules,
+    /// Lower corner `[x, y, z]` [m].
+    pub min: [Meters; 3],
+    /// Upper corner `[x, y, z]` [m].
+    pub max: [Meters; 3],
+}
+
+impl Zone {
+    /// Whether a point lies inside the box (faces included).
+    pub fn contains(&self, p: [Meters; 3]) -> bool {
+        (0..3).all(|k| p[k] >= self.min[k] && p[k] <= self.max[k])
+    }
+
+    /// Whether any part of a span's charged rectangle lies inside the box:
+    /// the segment `[start, end]` in x-z, extruded over y ∈ [−w/2, w/2].
+    pub fn touches_span(&self, span: &Span, width: Meters) -> bool {
+        if self.max[1] < -width / 2.0 || self.min[1] > width / 2.0 {
+            return false;
+        }
+        // Clip the segment against the x and z slabs (Liang–Barsky).
+        let (x0, z0) = (span.start[0], span.start[1]);
+        let (dx, dz) = (span.end[0] - x0, span.end[1] - z0);
+        let mut t0: f64 = 0.0;
+        let mut t1: f64 = 1.0;
+        for (p0, d, lo, hi) in [
+            (x0, dx, self.min[0], self.max[0]),
+            (z0, dz, self.min[2], self.max[2]),
+        ] {
+            if d == 0.0 {
+                if p0 < lo || p0 > hi {
+                    return false;
+                }
+            } else {
+                let (a, b) = ((lo - p0) / d, (hi - p0) / d);
+                t0 = t0.max(a.min(b));
+                t1 = t1.min(a.max(b));
+            }
+        }
+        t0 <= t1
+    }
+
+    /// A label such as `Z1 (coating head enclosure, zone 1 IIA)`.
+    pub fn label(&self) -> String {
+        match &self.name {
+            Some(n) => format!(
+                "{} ({n}, zone {} {})",
+                self.id,
+                self.zone,
+                self.gas_group.text()
+            ),
+            None => format!("{} (zone {} {})", self.id, self.zone, self.gas_group.text()),
+        }
+    }
 }
 
 /// A validated line: every field is checked and consistent.
@@ -305,6 +396,10 @@ pub struct Line {
     pub charge: Vec<ChargeEntry>,
     /// Places of interest.
     pub points: Vec<Point>,
+    /// Hazardous zones.
+    pub zones: Vec<Zone>,
+    /// Names of the threshold profiles the line asks for (`assess:`).
+    pub assess: Vec<String>,
     /// Problems that are not fatal, to show the user and list in reports.
     pub warnings: Vec<Issue>,
 }
@@ -313,6 +408,27 @@ pub struct Line {
 pub fn parse_line(text: &str) -> Result<Line, ValidationError> {
     let raw = parse_raw(text)?;
     validate::validate(&raw)
+}
+
+/// Reads a line description file as text (size-limited, UTF-8).
+pub fn read_line_text(path: &FsPath) -> anyhow::Result<String> {
+    use anyhow::Context;
+    let meta = std::fs::metadata(path)
+        .with_context(|| format!("reading line description '{}'", path.display()))?;
+    if meta.len() > MAX_FILE_BYTES {
+        anyhow::bail!(
+            "line description '{}' is {} bytes: the limit is {} bytes (a line description is a short YAML file)",
+            path.display(),
+            meta.len(),
+            MAX_FILE_BYTES
+        );
+    }
+    std::fs::read_to_string(path).with_context(|| {
+        format!(
+            "reading line description '{}' (it must be UTF-8 text)",
+            path.display()
+        )
+    })
 }
 
 /// Reads, parses and validates a line description file.

@@ -78,6 +78,12 @@ pub struct RawLine {
     /// Places of interest.
     #[serde(default)]
     pub points: Vec<RawPoint>,
+    /// Hazardous areas.
+    #[serde(default)]
+    pub zones: Vec<RawZone>,
+    /// Names of threshold profiles to apply.
+    #[serde(default)]
+    pub assess: Vec<Scalar>,
 }
 
 /// `web:`
@@ -164,4 +170,35 @@ pub struct RawPoint {
     pub kind: Option<Scalar>,
     /// `[x, y, z]` lengths.
     pub at: Option<Vec<Scalar>>,
+    /// Body capacitance of an operator.
+    pub capacitance: Option<Scalar>,
+}
+
+/// `zones[i]`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawZone {
+    /// Identifier.
+    pub id: Option<Scalar>,
+    /// Free text.
+    pub name: Option<Scalar>,
+    /// 0 | 1 | 2
+    pub zone: Option<Scalar>,
+    /// IIA | IIB | IIC
+    pub gas_group: Option<Scalar>,
+    /// Lowest minimum ignition energy present, an energy.
+    pub mie: Option<Scalar>,
+    /// The box.
+    #[serde(rename = "box")]
+    pub bounds: Option<RawBox>,
+}
+
+/// `zones[i].box`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawBox {
+    /// One corner `[x, y, z]`.
+    pub from: Option<Vec<Scalar>>,
+    /// The opposite corner `[x, y, z]`.
+    pub to: Option<Vec<Scalar>>,
 }

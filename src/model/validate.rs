@@ -187,6 +187,8 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
     check_spans(&mut ctx, &path, &rollers, ground_plane);
     let charge = validate_charge(&mut ctx, raw, &path, &web, &across);
     let points = validate_points(&mut ctx, raw, &path, &rollers, &web, ground_plane);
+    let zones = validate_zones(&mut ctx, raw, &points, &rollers, &path);
+    let assess = validate_assess(&mut ctx, raw);
 
     if !ctx.issues.is_empty() {
         return Err(ValidationError { issues: ctx.issues });
@@ -200,6 +202,8 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
         across,
         charge,
         points,
+        zones,
+        assess,
         warnings: ctx.warnings,
     })
 }
@@ -805,7 +809,38 @@ fn validate_points(
             "electronics" => PointKind::Electronics,
             _ => PointKind::Probe,
         };
-        out.push(Point { id, kind, at });
+        let capacitance = match &q.capacitance {
+            None => None,
+            Some(c) if kind == PointKind::Operator => {
+                let c = ctx.qty(c, Dim::Capacitance, &format!("{p}.capacitance"));
+                let c = ctx.positive(c, Dim::Capacitance, &format!("{p}.capacitance"));
+                if let Some(v) = c
+                    && !(10e-12..=1e-9).contains(&v)
+                {
+                    ctx.warn(
+                        format!("{p}.capacitance"),
+                        format!(
+                            "{} is outside the 100–300 pF usual for a person (NFPA 77)",
+                            crate::units::format_quantity(v, Dim::Capacitance)
+                        ),
+                    );
+                }
+                c
+            }
+            Some(_) => {
+                ctx.err(
+                    format!("{p}.capacitance"),
+                    "a capacitance belongs to operators (kind: operator) only",
+                );
+                None
+            }
+        };
+        out.push(Point {
+            id,
+            kind,
+            at,
+            capacitance,
+        });
     }
     out
 }
@@ -847,4 +882,113 @@ pub fn point_problem(
         }
     }
     None
+}
+
+fn validate_zones(
+    ctx: &mut Ctx,
+    raw: &RawLine,
+    points: &[Point],
+    rollers: &[Roller],
+    path: &WebPath,
+) -> Vec<Zone> {
+    let mut out: Vec<Zone> = Vec::new();
+    for (i, z) in raw.zones.iter().enumerate() {
+        let p = format!("zones[{i}]");
+        let id = ctx.id(&z.id, &format!("{p}.id"));
+        if let Some(id) = &id {
+            let clash = out.iter().any(|o| &o.id == id)
+                || points.iter().any(|o| &o.id == id)
+                || rollers.iter().any(|o| &o.id == id)
+                || !path.nodes_with_id(id).is_empty();
+            if clash {
+                ctx.err(
+                    format!("{p}.id"),
+                    format!("duplicate id \"{id}\": zones need ids distinct from rollers, nodes and points"),
+                );
+            }
+        }
+        let class = keyword(ctx, &z.zone, &format!("{p}.zone"), &["0", "1", "2"]);
+        let group = keyword(
+            ctx,
+            &z.gas_group,
+            &format!("{p}.gas_group"),
+            &["IIA", "IIB", "IIC"],
+        );
+        let mie = ctx.req_qty(&z.mie, Dim::Energy, &format!("{p}.mie"));
+        let mie = ctx.positive(mie, Dim::Energy, &format!("{p}.mie"));
+        if let Some(m) = mie
+            && !(1e-6..=1e-1).contains(&m)
+        {
+            ctx.warn(
+                format!("{p}.mie"),
+                format!(
+                    "{} is outside the range of gases and vapours (about 0.009 mJ for carbon disulfide to a few mJ): check the unit",
+                    crate::units::format_quantity(m, Dim::Energy)
+                ),
+            );
+        }
+        let (from, to) = match &z.bounds {
+            None => {
+                ctx.err(
+                    format!("{p}.box"),
+                    "missing: expected {from: [x, y, z], to: [x, y, z]} giving two opposite corners",
+                );
+                (None, None)
+            }
+            Some(b) => (
+                ctx.lengths::<3>(
+                    &b.from,
+                    &format!("{p}.box.from"),
+                    "[x, y, z] such as [1.5 m, -1 m, 0.8 m]",
+                ),
+                ctx.lengths::<3>(
+                    &b.to,
+                    &format!("{p}.box.to"),
+                    "[x, y, z] such as [3 m, 1 m, 1.6 m]",
+                ),
+            ),
+        };
+        let (Some(id), Some(class), Some(group), Some(mie), Some(from), Some(to)) =
+            (id, class, group, mie, from, to)
+        else {
+            continue;
+        };
+        let min = [from[0].min(to[0]), from[1].min(to[1]), from[2].min(to[2])];
+        let max = [from[0].max(to[0]), from[1].max(to[1]), from[2].max(to[2])];
+        if (0..3).any(|k| max[k] - min[k] <= 0.0) {
+            ctx.err(
+                format!("{p}.box"),
+                "the box has no volume: `from` and `to` must differ in x, y and z",
+            );
+            continue;
+        }
+        let gas_group = match group {
+            "IIA" => GasGroup::IIA,
+            "IIB" => GasGroup::IIB,
+            _ => GasGroup::IIC,
+        };
+        out.push(Zone {
+            id,
+            name: z.name.as_ref().map(|n| n.as_str().trim().to_string()),
+            zone: class.parse().unwrap_or(2),
+            gas_group,
+            mie,
+            min,
+            max,
+        });
+    }
+    out
+}
+
+fn validate_assess(ctx: &mut Ctx, raw: &RawLine) -> Vec<String> {
+    let mut out: Vec<String> = Vec::new();
+    for (i, a) in raw.assess.iter().enumerate() {
+        let name = a.as_str().trim().to_string();
+        if name.is_empty() {
+            ctx.err(format!("assess[{i}]"), "expected the name of a threshold profile such as \"ex-zone-1\" (see `websigma profiles`)");
+        } else if !out.contains(&name) {
+            out.push(name);
+        }
+    }
+    out
 }

@@ -2,6 +2,7 @@
 
 use crate::field::PointField;
 use crate::report::PointRequest;
+use crate::report::build::Report;
 
 /// The header row; with contributions, four columns per span name.
 pub fn field_header(span_names: &[String], contributions: bool) -> String {
@@ -47,4 +48,78 @@ pub fn field_row(req: &PointRequest, f: &PointField) -> String {
         ));
     }
     r
+}
+
+/// `results.csv`: one row per finding.
+pub fn findings_csv(r: &Report) -> String {
+    let mut s = String::from(
+        "verdict,profile,rule,subject,check,value,unit,warn,fail,limit,margin,source,confidence,note\n",
+    );
+    let opt = |x: Option<f64>| x.map(|v| format!("{v:?}")).unwrap_or_default();
+    for f in &r.findings {
+        s.push_str(&format!(
+            "{},{},{},{},{},{:?},{},{},{},{:?},{:?},{},{},{}\n",
+            f.verdict.text(),
+            field_text(&f.profile),
+            field_text(&f.rule),
+            field_text(&f.subject),
+            field_text(&f.check),
+            f.value,
+            field_text(f.dim.si_unit()),
+            opt(f.warn),
+            opt(f.fail),
+            f.limit,
+            f.margin,
+            field_text(&f.source),
+            field_text(f.confidence.text()),
+            field_text(&f.note)
+        ));
+    }
+    s
+}
+
+/// `points.csv`: one row per place of interest.
+pub fn points_csv(r: &Report) -> String {
+    let mut s = String::from(
+        "id,kind,x_m,y_m,z_m,Ex_V_per_m,Ey_V_per_m,Ez_V_per_m,E_magnitude_V_per_m,V_V,zones\n",
+    );
+    for p in &r.points {
+        s.push_str(&format!(
+            "{},{},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{}\n",
+            field_text(&p.point.id),
+            p.point.kind.text(),
+            p.point.at[0],
+            p.point.at[1],
+            p.point.at[2],
+            p.e[0],
+            p.e[1],
+            p.e[2],
+            p.e_magnitude,
+            p.v,
+            field_text(&p.zones.join(" "))
+        ));
+    }
+    s
+}
+
+/// `spans.csv`: one row per span.
+pub fn spans_csv(r: &Report) -> String {
+    let mut s = String::from(
+        "id,label,from_to,length_m,angle_deg,sigma_start_C_per_m2,sigma_end_C_per_m2,sigma_peak_C_per_m2,zones\n",
+    );
+    for sp in &r.spans {
+        s.push_str(&format!(
+            "{},{},{},{:?},{:?},{:?},{:?},{:?},{}\n",
+            sp.row.name,
+            field_text(&sp.label),
+            field_text(&sp.row.from_to),
+            sp.row.length,
+            sp.row.angle_deg,
+            sp.row.sigma_start,
+            sp.row.sigma_end,
+            sp.sigma_peak,
+            field_text(&sp.zones.join(" "))
+        ));
+    }
+    s
 }

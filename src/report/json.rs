@@ -4,6 +4,7 @@
 
 use crate::field::PointField;
 use crate::report::PointRequest;
+use crate::report::build::Report;
 
 /// A JSON number: shortest round-trip text; `null` for NaN or infinity.
 pub fn num(x: f64) -> String {
@@ -74,6 +75,88 @@ pub fn field_point(req: &PointRequest, f: &PointField) -> String {
         s.push_str(&format!(", \"contributions\": [{}]", parts.join(", ")));
     }
     s.push('}');
+    s
+}
+
+/// `results.json`: verdict, findings, points and spans in SI units.
+pub fn results_json(r: &Report) -> String {
+    let mut s = String::from("{\n");
+    s.push_str(&format!(
+        "  \"report_id\": {},\n",
+        string(&r.meta.report_id)
+    ));
+    s.push_str(&format!("  \"line\": {},\n", string(&r.meta.title)));
+    s.push_str(&format!(
+        "  \"created_utc\": {},\n",
+        string(&r.meta.created_utc)
+    ));
+    s.push_str(&format!(
+        "  \"tool_version\": {},\n",
+        string(&r.meta.tool_version)
+    ));
+    s.push_str(&format!("  \"verdict\": {},\n", string(r.verdict.text())));
+    let worst = r.findings.iter().map(|f| f.margin).fold(0.0, f64::max);
+    s.push_str(&format!("  \"worst_margin\": {},\n", num(worst)));
+    s.push_str("  \"findings\": [\n");
+    let items: Vec<String> = r
+        .findings
+        .iter()
+        .map(|f| {
+            format!(
+                "    {{\"rule\": {}, \"profile\": {}, \"check\": {}, \"subject\": {}, \"value\": {}, \"unit\": {}, \"limit\": {}, \"warn\": {}, \"fail\": {}, \"margin\": {}, \"verdict\": {}, \"source\": {}, \"confidence\": {}, \"note\": {}}}",
+                string(&f.rule),
+                string(&f.profile),
+                string(&f.check),
+                string(&f.subject),
+                num(f.value),
+                string(f.dim.si_unit()),
+                num(f.limit),
+                f.warn.map(num).unwrap_or_else(|| "null".into()),
+                f.fail.map(num).unwrap_or_else(|| "null".into()),
+                num(f.margin),
+                string(f.verdict.text()),
+                string(&f.source),
+                string(f.confidence.text()),
+                string(&f.note)
+            )
+        })
+        .collect();
+    s.push_str(&items.join(",\n"));
+    s.push_str("\n  ],\n  \"points\": [\n");
+    let items: Vec<String> = r
+        .points
+        .iter()
+        .map(|p| {
+            format!(
+                "    {{\"id\": {}, \"kind\": {}, \"at\": {}, \"E\": {}, \"E_magnitude\": {}, \"V\": {}}}",
+                string(&p.point.id),
+                string(p.point.kind.text()),
+                array(&p.point.at),
+                array(&p.e),
+                num(p.e_magnitude),
+                num(p.v)
+            )
+        })
+        .collect();
+    s.push_str(&items.join(",\n"));
+    s.push_str("\n  ],\n  \"spans\": [\n");
+    let items: Vec<String> = r
+        .spans
+        .iter()
+        .map(|sp| {
+            format!(
+                "    {{\"id\": {}, \"label\": {}, \"sigma_start\": {}, \"sigma_end\": {}, \"sigma_peak\": {}, \"length\": {}}}",
+                string(&sp.row.name),
+                string(&sp.label),
+                num(sp.row.sigma_start),
+                num(sp.row.sigma_end),
+                num(sp.sigma_peak),
+                num(sp.row.length)
+            )
+        })
+        .collect();
+    s.push_str(&items.join(",\n"));
+    s.push_str("\n  ]\n}\n");
     s
 }
 

@@ -5,9 +5,23 @@
 //! terminal, [`csv`] and [`json`] in SI units for other programs. The field
 //! writers work row by row so that very long point lists stream.
 
+pub mod build;
 pub mod csv;
+pub mod document;
+pub mod figures;
+pub mod folder;
+pub mod html;
 pub mod json;
+pub mod markdown;
+pub mod plot;
+pub mod table;
 pub mod text;
+
+/// A writer turns the report into the bytes of one file.
+pub trait Writer {
+    /// The file's contents.
+    fn render(&self, r: &build::Report) -> anyhow::Result<Vec<u8>>;
+}
 
 use crate::charge::ChargeProfile;
 use crate::model::Line;

@@ -1,0 +1,375 @@
+//! The report as plain data, built once from the assessment.
+//!
+//! `build_report` gathers what every writer needs — inputs, results,
+//! findings, recommendations, references, plots — so that the Markdown,
+//! HTML, CSV and JSON writers only format. Recommendations are chosen here
+//! from the failing and warning findings (which span to neutralise, which
+//! conductor to earth); no field is computed here.
+
+use crate::assess::{Assessment, Finding, SubjectKind, ThresholdProfile, Verdict};
+use crate::charge::ChargeProfile;
+use crate::field::{ASSUMPTIONS, FieldMap, SpanContribution};
+use crate::model::{ChargeMode, Line, NodeKind, Point, Zone};
+use crate::report::{SpanRow, span_rows};
+use crate::units::Meters;
+
+/// Identification of a report.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ReportMeta {
+    /// Title of the line.
+    pub title: String,
+    /// `<line-slug>-<yyyymmddThhmmssZ>`.
+    pub report_id: String,
+    /// UTC time of the run, RFC 3339.
+    pub created_utc: String,
+    /// websigma version.
+    pub tool_version: String,
+    /// The line description file as given.
+    pub line_file: String,
+    /// SHA-256 of the line description text, hex.
+    pub line_sha256: String,
+}
+
+/// A span's results.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SpanResult {
+    /// The derived-span row (ends, length, σ at both ends).
+    pub row: SpanRow,
+    /// Label `S6 (R5-R6)`.
+    pub label: String,
+    /// Largest |σ| on the span, across-web peak included [C/m²].
+    pub sigma_peak: f64,
+    /// Ids of the zones the span's rectangle touches.
+    pub zones: Vec<String>,
+}
+
+/// A point's results.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PointResult {
+    /// The place of interest.
+    pub point: Point,
+    /// Field [V/m].
+    pub e: [f64; 3],
+    /// |E| [V/m].
+    pub e_magnitude: f64,
+    /// Potential [V].
+    pub v: f64,
+    /// Ids of the zones containing it.
+    pub zones: Vec<String>,
+}
+
+/// A plot to include.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Plot {
+    /// File name, e.g. `side_view.png`.
+    pub file: String,
+    /// Caption.
+    pub caption: String,
+    /// PNG bytes.
+    pub png: Vec<u8>,
+}
+
+/// A profile in force, for the inputs section and the manifest.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ProfileRef {
+    /// Name.
+    pub name: String,
+    /// Title.
+    pub title: String,
+    /// `shipped` or the file path.
+    pub origin: String,
+    /// SHA-256 of its YAML text.
+    pub sha256: String,
+    /// Number of rules.
+    pub rules: usize,
+}
+
+/// Everything a report says, computed once.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Report {
+    /// Identification.
+    pub meta: ReportMeta,
+    /// Overall verdict.
+    pub verdict: Verdict,
+    /// Counts of findings by verdict: pass, warn, fail.
+    pub counts: [usize; 3],
+    /// The validated line (inputs section).
+    pub line: Line,
+    /// Profiles in force.
+    pub profiles: Vec<ProfileRef>,
+    /// Solver relative tolerance.
+    pub rel_tol: f64,
+    /// Modelling assumptions (solver and rules).
+    pub assumptions: Vec<String>,
+    /// Per-span results.
+    pub spans: Vec<SpanResult>,
+    /// Per-point results.
+    pub points: Vec<PointResult>,
+    /// Findings, worst first.
+    pub findings: Vec<Finding>,
+    /// Span contributions at the worst points: (point id, shares largest first).
+    pub contributions: Vec<(String, Vec<SpanContribution>)>,
+    /// What to do about the failing and warning findings.
+    pub recommendations: Vec<String>,
+    /// What the model does not cover.
+    pub limitations: Vec<String>,
+    /// Every source cited by a rule, once.
+    pub references: Vec<String>,
+    /// Warnings raised while reading the input.
+    pub warnings: Vec<String>,
+    /// PNG plots.
+    pub plots: Vec<Plot>,
+}
+
+/// SHA-256 of bytes as lower-case hex.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::Digest;
+    let d = sha2::Sha256::digest(bytes);
+    d.iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// A file-name-safe slug of a title: lower case, digits and dashes, ≤ 40 chars.
+pub fn slug(title: &str) -> String {
+    let mut s = String::new();
+    for c in title.chars() {
+        if c.is_ascii_alphanumeric() {
+            s.push(c.to_ascii_lowercase());
+        } else if !s.ends_with('-') && !s.is_empty() {
+            s.push('-');
+        }
+        if s.len() >= 40 {
+            break;
+        }
+    }
+    let s = s.trim_end_matches('-').to_string();
+    if s.is_empty() { "line".to_string() } else { s }
+}
+
+/// What the model does not cover (stated in every report).
+pub const LIMITATIONS: &[&str] = &[
+    "The charge on the web is what the line description states; nothing here measures it. Charging at contacts and nips is not predicted, only entered.",
+    "Grounded rollers, frames and machine parts other than the ground plane are not modelled as conductors: near them the real field is lower and the real potential of the web much lower than computed here, so potentials far from the ground plane are upper estimates.",
+    "The wrap arcs are not integrated; the web is a thin sheet whose own permittivity is neglected.",
+    "Brush-discharge incendivity depends on charge transfer, which no published surface charge limit captures; the web-charge limits are common practice and must be read as screening values.",
+    "Operators are points insulated from earth; their real body voltage depends on footwear, flooring and movement.",
+];
+
+/// Builds the report. `now` is the UTC time of the run (given, so tests can fix it).
+#[allow(clippy::too_many_arguments)]
+pub fn build_report(
+    line: &Line,
+    line_file: &str,
+    line_text: &str,
+    charge: &ChargeProfile,
+    points: &FieldMap,
+    assessment: &Assessment,
+    profiles: &[ThresholdProfile],
+    rel_tol: f64,
+    plots: Vec<Plot>,
+    now: chrono::DateTime<chrono::Utc>,
+) -> Report {
+    let stamp = now.format("%Y%m%dT%H%M%SZ").to_string();
+    let meta = ReportMeta {
+        title: line.title.clone(),
+        report_id: format!("{}-{stamp}", slug(&line.title)),
+        created_utc: now.to_rfc3339_opts(chrono::SecondsFormat::Secs, true),
+        tool_version: env!("CARGO_PKG_VERSION").to_string(),
+        line_file: line_file.to_string(),
+        line_sha256: sha256_hex(line_text.as_bytes()),
+    };
+    let zones_touching = |zones: &[Zone], f: &dyn Fn(&Zone) -> bool| -> Vec<String> {
+        zones
+            .iter()
+            .filter(|z| f(z))
+            .map(|z| z.id.clone())
+            .collect()
+    };
+    let fmax = charge.across.max_abs();
+    let spans: Vec<SpanResult> = span_rows(line, charge)
+        .into_iter()
+        .zip(&line.path.spans)
+        .map(|(row, s)| {
+            let peak = charge
+                .pieces_between(s.s_start, s.s_end)
+                .iter()
+                .map(|p| p.2.abs())
+                .fold(0.0, f64::max)
+                * fmax;
+            SpanResult {
+                label: s.label(),
+                sigma_peak: peak,
+                zones: zones_touching(&line.zones, &|z| z.touches_span(s, line.web.width)),
+                row,
+            }
+        })
+        .collect();
+    let point_results: Vec<PointResult> = line
+        .points
+        .iter()
+        .zip(&points.points)
+        .map(|(p, f)| PointResult {
+            point: p.clone(),
+            e: f.e,
+            e_magnitude: f.e_magnitude(),
+            v: f.v,
+            zones: zones_touching(&line.zones, &|z| z.contains(p.at)),
+        })
+        .collect();
+
+    let mut counts = [0usize; 3];
+    for f in &assessment.findings {
+        counts[f.verdict as usize] += 1;
+    }
+    // Contributions at the worst points: the first three distinct points
+    // among the findings (worst first).
+    let mut contributions: Vec<(String, Vec<SpanContribution>)> = Vec::new();
+    for f in &assessment.findings {
+        if f.subject_kind == SubjectKind::Point
+            && !f.contributions.is_empty()
+            && !contributions.iter().any(|(id, _)| id == &f.subject)
+        {
+            contributions.push((f.subject.clone(), f.contributions.clone()));
+        }
+        if contributions.len() == 3 {
+            break;
+        }
+    }
+    let mut references: Vec<String> = Vec::new();
+    for p in profiles {
+        for r in &p.rules {
+            if !references.contains(&r.source) {
+                references.push(r.source.clone());
+            }
+        }
+    }
+    for extra in [
+        "Coulomb's law, superposition and the method of images: D. J. Griffiths, Introduction to Electrodynamics, 4th ed., §2.1, §3.2",
+        "Charge relaxation τ = ε0·εr·ρ: continuity equation and Ohm's law (Griffiths §7.1)",
+        "ε0 = 8.8541878128e-12 F/m: CODATA 2018",
+    ] {
+        references.push(extra.to_string());
+    }
+    let mut assumptions: Vec<String> = ASSUMPTIONS.iter().map(|s| s.to_string()).collect();
+    assumptions.extend(assessment.assumptions.iter().cloned());
+
+    Report {
+        meta,
+        verdict: assessment.verdict,
+        counts,
+        line: line.clone(),
+        profiles: profiles
+            .iter()
+            .map(|p| ProfileRef {
+                name: p.name.clone(),
+                title: p.title.clone(),
+                origin: p.origin.clone(),
+                sha256: sha256_hex(p.text.as_bytes()),
+                rules: p.rules.len(),
+            })
+            .collect(),
+        rel_tol,
+        assumptions,
+        spans,
+        points: point_results,
+        findings: assessment.findings.clone(),
+        contributions,
+        recommendations: recommendations(line, &assessment.findings),
+        limitations: LIMITATIONS.iter().map(|s| s.to_string()).collect(),
+        references,
+        warnings: line.warnings.iter().map(|w| w.to_string()).collect(),
+        plots,
+    }
+}
+
+/// Recommendations from the failing and warning findings, most urgent first.
+fn recommendations(line: &Line, findings: &[Finding]) -> Vec<String> {
+    let mut out: Vec<String> = Vec::new();
+    let mut push = |s: String| {
+        if !out.contains(&s) {
+            out.push(s);
+        }
+    };
+    for f in findings.iter().filter(|f| f.verdict != Verdict::Pass) {
+        let urgency = if f.verdict == Verdict::Fail {
+            "Required"
+        } else {
+            "Advised"
+        };
+        match f.subject_kind {
+            SubjectKind::Span => push(format!(
+                "{urgency}: reduce the charge on span {} ({}) — neutralise it with a static eliminator on the free span upstream, after the last charging point, where a meter would read the web's field; re-measure after fitting.",
+                f.subject, f.check
+            )),
+            SubjectKind::Roller => push(format!(
+                "{urgency}: bond roller {} to earth (resistance to earth below 1e6 Ω, TRBS 2153 8.3.3) — {}.",
+                f.subject, f.note
+            )),
+            SubjectKind::Point => {
+                let dominant = f
+                    .contributions
+                    .first()
+                    .map(|c| {
+                        format!(
+                            " The largest share of the field there comes from span {}.",
+                            c.span
+                        )
+                    })
+                    .unwrap_or_default();
+                push(format!(
+                    "{urgency}: at {} ({}), neutralise the spans that dominate the field there, keep the person or item farther from the web, or earth the person (footwear and flooring below 1e8 Ω, NFPA 77).{dominant}",
+                    f.subject, f.check
+                ))
+            }
+            SubjectKind::Web => push(format!("{urgency}: {} — {}.", f.check, f.note)),
+        }
+    }
+    if out.is_empty() {
+        out.push(format!(
+            "No limit in the profiles applied is reached on {}. Keep the earthing and eliminators in place and verify with measurements on the running line.",
+            line.title
+        ));
+    }
+    out
+}
+
+/// A short text for the charge entries of the inputs section.
+pub fn charge_entry_text(line: &Line) -> Vec<(String, String, f64)> {
+    line.charge
+        .iter()
+        .map(|c| {
+            (
+                c.at.clone(),
+                match c.mode {
+                    ChargeMode::Set => "sets".to_string(),
+                    ChargeMode::Add => "adds".to_string(),
+                },
+                c.sigma,
+            )
+        })
+        .collect()
+}
+
+/// The path nodes as text: `UNWIND (point [0 m, 1.45 m])`, `R1 (roller, cw)`.
+pub fn node_texts(line: &Line) -> Vec<String> {
+    line.path
+        .nodes
+        .iter()
+        .enumerate()
+        .map(|(i, n)| {
+            let id = n.id.clone().unwrap_or_else(|| format!("path[{i}]"));
+            match n.kind {
+                NodeKind::Point(p) => format!(
+                    "{id}: point [{}, {}]",
+                    crate::units::format_quantity(p[0], crate::units::Dim::Length),
+                    crate::units::format_quantity(p[1], crate::units::Dim::Length)
+                ),
+                NodeKind::Roller { wrap, .. } => format!("{id}: roller, wrap {}", wrap.text()),
+            }
+        })
+        .collect()
+}
+
+/// Distance unit helper for writers.
+pub fn len_text(x: Meters) -> String {
+    crate::units::format_quantity(x, crate::units::Dim::Length)
+}

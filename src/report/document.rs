@@ -1,0 +1,494 @@
+//! The report laid out once as sections of blocks, for every markup writer.
+//!
+//! Markdown and HTML render the same [`Section`]s, so the two reports carry
+//! the same content by construction. Values are formatted here with SI
+//! prefixes; nothing is computed.
+
+use crate::assess::Verdict;
+use crate::report::build::{Report, charge_entry_text, len_text, node_texts};
+use crate::units::{Dim, format_quantity, format_si};
+
+/// A piece of content.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Block {
+    /// A paragraph of text.
+    Para(String),
+    /// A bulleted list.
+    List(Vec<String>),
+    /// A table with a header row.
+    Table {
+        /// Column titles.
+        header: Vec<String>,
+        /// Rows of cells.
+        rows: Vec<Vec<String>>,
+    },
+    /// An image file with its caption.
+    Image {
+        /// File name in the report folder.
+        file: String,
+        /// Caption.
+        caption: String,
+    },
+    /// The overall verdict.
+    Verdict(Verdict, String),
+    /// Highlighted safety text.
+    Caution(String),
+    /// Lines left blank to be filled in by hand.
+    SignOff(Vec<String>),
+}
+
+/// A titled section.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Section {
+    /// Heading.
+    pub title: String,
+    /// Content.
+    pub blocks: Vec<Block>,
+}
+
+fn sec(title: &str, blocks: Vec<Block>) -> Section {
+    Section {
+        title: title.to_string(),
+        blocks,
+    }
+}
+
+fn table(header: &[&str], rows: Vec<Vec<String>>) -> Block {
+    Block::Table {
+        header: header.iter().map(|s| s.to_string()).collect(),
+        rows,
+    }
+}
+
+fn q(x: f64, d: Dim) -> String {
+    format_quantity(x, d)
+}
+
+fn verdict_cell(v: Verdict) -> String {
+    match v {
+        Verdict::Fail => "FAIL".into(),
+        Verdict::Warn => "WARN".into(),
+        Verdict::Pass => "pass".into(),
+    }
+}
+
+/// The margin as `1.23×`.
+pub fn margin_text(m: f64) -> String {
+    if m >= 100.0 {
+        format!("{m:.0}×")
+    } else {
+        format!("{m:.2}×")
+    }
+}
+
+/// Lays out the whole report.
+pub fn layout(r: &Report) -> Vec<Section> {
+    let line = &r.line;
+    let mut out = Vec::new();
+    out.push(sec(
+        "Report",
+        vec![table(
+            &["item", "value"],
+            vec![
+                vec!["line".into(), r.meta.title.clone()],
+                vec!["report id".into(), r.meta.report_id.clone()],
+                vec!["date (UTC)".into(), r.meta.created_utc.clone()],
+                vec!["tool".into(), format!("websigma {}", r.meta.tool_version)],
+                vec!["line description".into(), r.meta.line_file.clone()],
+                vec!["its SHA-256".into(), r.meta.line_sha256.clone()],
+            ],
+        )],
+    ));
+    out.push(sec(
+        "Scope",
+        vec![Block::Para(format!(
+            "Electrostatic assessment of the moving web on {}: the field and potential that the charge on its {} free spans produces at {} places of interest, checked against {} threshold profile(s) ({}) for {} hazardous zone(s). The assessment covers the charged web only; see Limitations.",
+            line.title,
+            line.path.spans.len(),
+            line.points.len(),
+            r.profiles.len(),
+            r.profiles.iter().map(|p| p.name.as_str()).collect::<Vec<_>>().join(", "),
+            line.zones.len()
+        ))],
+    ));
+    let worst: Vec<String> = r
+        .findings
+        .iter()
+        .filter(|f| f.verdict != Verdict::Pass)
+        .take(5)
+        .map(|f| {
+            format!(
+                "{} — {} on {}: {} against {} ({} of the limit)",
+                verdict_cell(f.verdict),
+                f.check,
+                f.subject,
+                q(f.value, f.dim),
+                q(f.limit, f.dim),
+                margin_text(f.margin)
+            )
+        })
+        .collect();
+    let mut summary = vec![Block::Verdict(
+        r.verdict,
+        format!(
+            "{} finding(s): {} fail, {} warn, {} pass.",
+            r.findings.len(),
+            r.counts[2],
+            r.counts[1],
+            r.counts[0]
+        ),
+    )];
+    if !worst.is_empty() {
+        summary.push(Block::Para("Worst findings:".into()));
+        summary.push(Block::List(worst));
+    }
+    out.push(sec("Summary", summary));
+
+    let mut method = vec![
+        Block::Para(format!(
+            "The web is modelled as a thin sheet carrying the surface charge density σ(s, y) = σc(s)·f(y) along its path, with relaxation σc(s) = A·exp(−(s − s0)/(v·τ)) between charging points (τ = {}, v·τ = {}). The field and potential at each point are Coulomb integrals over every free span, superposed, {}. Uniform spans use the closed form of a charged rectangle; others integrate across the web exactly and along it with double-exponential quadrature, split at the foot of the perpendicular, with the error estimate checked against the tolerance.",
+            q(line.web.relaxation_time, Dim::Time),
+            if line.web.decay_length().is_finite() {
+                len_text(line.web.decay_length())
+            } else {
+                "infinite".into()
+            },
+            match line.ground_plane {
+                Some(g) => format!(
+                    "with the image of every span in the grounded plane z = {} (potentials relative to it)",
+                    len_text(g)
+                ),
+                None =>
+                    "with potentials relative to zero at infinity (no ground plane given)".into(),
+            }
+        )),
+        Block::Para(format!(
+            "Solver accuracy: relative tolerance {:e} on V and |E| for points from 0.1 mm to 100 m from the web (checked in the test suite against closed forms and an independent integration).",
+            r.rel_tol
+        )),
+        Block::Para("Assumptions:".into()),
+        Block::List(r.assumptions.clone()),
+    ];
+    if !r.warnings.is_empty() {
+        method.push(Block::Para(
+            "Warnings raised while reading the input:".into(),
+        ));
+        method.push(Block::List(r.warnings.clone()));
+    }
+    out.push(sec("Method", method));
+
+    let w = &line.web;
+    let mut web_rows = vec![
+        vec![
+            "material".into(),
+            w.material.clone().unwrap_or_else(|| "not given".into()),
+        ],
+        vec!["width".into(), len_text(w.width)],
+        vec!["thickness".into(), len_text(w.thickness)],
+        vec![
+            "relative permittivity εr".into(),
+            format!("{}", w.relative_permittivity),
+        ],
+    ];
+    if let Some(rho) = w.volume_resistivity {
+        web_rows.push(vec![
+            "volume resistivity ρ".into(),
+            q(rho, Dim::Resistivity),
+        ]);
+    }
+    web_rows.push(vec![
+        "relaxation time τ".into(),
+        q(w.relaxation_time, Dim::Time),
+    ]);
+    web_rows.push(vec![
+        "speed".into(),
+        format!(
+            "{} ({})",
+            q(w.speed, Dim::Speed),
+            format_si(w.speed * 60.0, "m/min")
+        ),
+    ]);
+    if let Some(b) = w.breakdown_strength {
+        web_rows.push(vec!["breakdown strength".into(), format_si(b, "V/m")]);
+    }
+    web_rows.push(vec!["across-web profile".into(), line.across.describe()]);
+    web_rows.push(vec![
+        "ground plane".into(),
+        line.ground_plane
+            .map(len_text)
+            .unwrap_or_else(|| "none".into()),
+    ]);
+    let rollers = line
+        .rollers
+        .iter()
+        .map(|ro| {
+            vec![
+                ro.id.clone(),
+                format!("[{}, {}]", len_text(ro.center[0]), len_text(ro.center[1])),
+                len_text(2.0 * ro.radius),
+                ro.earthing.text().to_string(),
+            ]
+        })
+        .collect();
+    let charge = charge_entry_text(line)
+        .into_iter()
+        .map(|(at, mode, s)| vec![at, mode, q(s, Dim::SurfaceChargeDensity)])
+        .collect();
+    let points = line
+        .points
+        .iter()
+        .map(|p| {
+            vec![
+                p.id.clone(),
+                p.kind.text().to_string(),
+                format!(
+                    "[{}, {}, {}]",
+                    len_text(p.at[0]),
+                    len_text(p.at[1]),
+                    len_text(p.at[2])
+                ),
+                p.capacitance
+                    .map(|c| q(c, Dim::Capacitance))
+                    .unwrap_or_else(|| "—".into()),
+            ]
+        })
+        .collect();
+    let zones = line
+        .zones
+        .iter()
+        .map(|z| {
+            vec![
+                z.id.clone(),
+                z.name.clone().unwrap_or_default(),
+                format!("{}", z.zone),
+                z.gas_group.text().to_string(),
+                q(z.mie, Dim::Energy),
+                format!(
+                    "[{}, {}, {}]",
+                    len_text(z.min[0]),
+                    len_text(z.min[1]),
+                    len_text(z.min[2])
+                ),
+                format!(
+                    "[{}, {}, {}]",
+                    len_text(z.max[0]),
+                    len_text(z.max[1]),
+                    len_text(z.max[2])
+                ),
+            ]
+        })
+        .collect();
+    let profiles = r
+        .profiles
+        .iter()
+        .map(|p| {
+            vec![
+                p.name.clone(),
+                p.title.clone(),
+                format!("{}", p.rules),
+                p.origin.clone(),
+            ]
+        })
+        .collect();
+    out.push(sec(
+        "Inputs",
+        vec![
+            Block::Para("Web and line:".into()),
+            table(&["property", "value"], web_rows),
+            Block::Para("Rollers:".into()),
+            table(
+                &["roller", "centre [x, z]", "diameter", "earthing"],
+                rollers,
+            ),
+            Block::Para("Path, in travel order:".into()),
+            Block::List(node_texts(line)),
+            Block::Para("Charge entries (centreline density leaving the node):".into()),
+            table(&["at", "mode", "σ"], charge),
+            Block::Para("Places of interest:".into()),
+            table(&["id", "kind", "at [x, y, z]", "capacitance"], points),
+            Block::Para("Hazardous zones:".into()),
+            table(
+                &["id", "name", "zone", "gas group", "MIE", "from", "to"],
+                zones,
+            ),
+            Block::Para("Threshold profiles in force:".into()),
+            table(&["profile", "title", "rules", "origin"], profiles),
+        ],
+    ));
+
+    let span_rows = r
+        .spans
+        .iter()
+        .map(|s| {
+            vec![
+                s.label.clone(),
+                s.row.from_to.clone(),
+                len_text(s.row.length),
+                format!("{:.1}°", s.row.angle_deg),
+                q(s.row.sigma_start, Dim::SurfaceChargeDensity),
+                q(s.row.sigma_end, Dim::SurfaceChargeDensity),
+                q(s.sigma_peak, Dim::SurfaceChargeDensity),
+                if s.zones.is_empty() {
+                    "—".into()
+                } else {
+                    s.zones.join(", ")
+                },
+            ]
+        })
+        .collect();
+    let point_rows = r
+        .points
+        .iter()
+        .map(|p| {
+            vec![
+                p.point.id.clone(),
+                p.point.kind.text().to_string(),
+                format_si(p.e_magnitude, "V/m"),
+                format!(
+                    "[{}, {}, {}]",
+                    format_si(p.e[0], "V/m"),
+                    format_si(p.e[1], "V/m"),
+                    format_si(p.e[2], "V/m")
+                ),
+                format_si(p.v, "V"),
+                if p.zones.is_empty() {
+                    "—".into()
+                } else {
+                    p.zones.join(", ")
+                },
+            ]
+        })
+        .collect();
+    out.push(sec(
+        "Results",
+        vec![
+            Block::Para(
+                "Per span (σ is the centreline density; the peak includes the across-web profile):"
+                    .into(),
+            ),
+            table(
+                &[
+                    "span",
+                    "from → to",
+                    "length",
+                    "angle",
+                    "σ start",
+                    "σ end",
+                    "|σ| peak",
+                    "zones",
+                ],
+                span_rows,
+            ),
+            Block::Para("Per point:".into()),
+            table(
+                &["point", "kind", "|E|", "E [x, y, z]", "V", "zones"],
+                point_rows,
+            ),
+        ],
+    ));
+
+    let finding_rows = r
+        .findings
+        .iter()
+        .map(|f| {
+            let conf = if f.confidence.needs_verification() {
+                format!("{} ⚠ VERIFY", f.confidence.text())
+            } else {
+                f.confidence.text().to_string()
+            };
+            vec![
+                verdict_cell(f.verdict),
+                format!("{}/{}", f.profile, f.rule),
+                f.subject.clone(),
+                f.check.clone(),
+                q(f.value, f.dim),
+                format!(
+                    "{}{}",
+                    f.warn
+                        .map(|w| format!("warn {} ", q(w, f.dim)))
+                        .unwrap_or_default(),
+                    f.fail
+                        .map(|x| format!("fail {}", q(x, f.dim)))
+                        .unwrap_or_default()
+                )
+                .trim()
+                .to_string(),
+                margin_text(f.margin),
+                f.note.clone(),
+                f.source.clone(),
+                conf,
+            ]
+        })
+        .collect();
+    out.push(sec(
+        "Findings",
+        vec![
+            Block::Para("Margin = value ÷ governing limit (the failure limit where the rule has one): above 1× the limit is reached. Limits marked VERIFY are recalled, not read in the source: check them against the current edition before relying on them.".into()),
+            table(
+                &["verdict", "rule", "subject", "checks", "value", "limits", "margin", "note", "source", "confidence"],
+                finding_rows,
+            ),
+        ],
+    ));
+
+    let mut contrib = Vec::new();
+    if r.contributions.is_empty() {
+        contrib.push(Block::Para("No point finding to break down.".into()));
+    }
+    for (id, parts) in &r.contributions {
+        contrib.push(Block::Para(format!(
+            "At {id} (largest |E| first; each span together with its ground-plane image):"
+        )));
+        contrib.push(table(
+            &["span", "|E|", "E [x, y, z]", "V"],
+            parts
+                .iter()
+                .map(|c| {
+                    let m = (c.e[0] * c.e[0] + c.e[1] * c.e[1] + c.e[2] * c.e[2]).sqrt();
+                    vec![
+                        c.span.clone(),
+                        format_si(m, "V/m"),
+                        format!(
+                            "[{}, {}, {}]",
+                            format_si(c.e[0], "V/m"),
+                            format_si(c.e[1], "V/m"),
+                            format_si(c.e[2], "V/m")
+                        ),
+                        format_si(c.v, "V"),
+                    ]
+                })
+                .collect(),
+        ));
+    }
+    out.push(sec("Span contributions at the worst points", contrib));
+
+    out.push(sec(
+        "Plots",
+        r.plots
+            .iter()
+            .map(|p| Block::Image {
+                file: p.file.clone(),
+                caption: p.caption.clone(),
+            })
+            .collect(),
+    ));
+    out.push(sec(
+        "Recommendations",
+        vec![Block::List(r.recommendations.clone())],
+    ));
+    out.push(sec("Limitations", vec![Block::List(r.limitations.clone())]));
+    out.push(sec(
+        "Cautions",
+        vec![Block::Caution(crate::CAUTIONS.to_string())],
+    ));
+    out.push(sec("References", vec![Block::List(r.references.clone())]));
+    out.push(sec(
+        "Sign-off",
+        vec![Block::SignOff(vec![
+            "Prepared by:".into(),
+            "Checked by:".into(),
+            "Date:".into(),
+        ])],
+    ));
+    out
+}
