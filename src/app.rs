@@ -19,6 +19,9 @@ use rayon::prelude::*;
 use std::io::{BufRead, BufReader, Write};
 use std::path::Path;
 
+/// Field-map resolution (points across) of the demo's report.
+pub const DEMO_MAP_RESOLUTION: usize = 160;
+
 /// Points evaluated per chunk when streaming a point file.
 const CHUNK: usize = 4096;
 
@@ -483,10 +486,78 @@ fn lowest_field_limit(profiles: &[crate::assess::ThresholdProfile]) -> Option<(f
         .min_by(|a, b| a.0.total_cmp(&b.0))
 }
 
+/// The largest |σ| on the path, across-web peak included [C/m²].
+fn curve_peak(charge: &ChargeProfile, line: &Line) -> f64 {
+    charge
+        .pieces_between(0.0, line.path.total_length)
+        .iter()
+        .map(|p| p.2.abs())
+        .fold(0.0, f64::max)
+        * charge.across.max_abs()
+}
+
+/// The three report pictures of a line: side view, field map at y = 0 and
+/// charge along the path (the field map is computed here on an
+/// `map_resolution`-wide grid).
+pub fn make_plots(
+    line: &Line,
+    charge: &ChargeProfile,
+    model: &FieldModel,
+    profiles: &[crate::assess::ThresholdProfile],
+    assessment: &crate::assess::Assessment,
+    map_resolution: usize,
+) -> Result<Vec<crate::report::build::Plot>> {
+    use crate::report::{build, figures, plot};
+    // Figures.
+    let side = figures::side_view(line, charge);
+    let (xr, zr) = figures::extent(line);
+    let nx = map_resolution.clamp(20, 1000);
+    let nz = ((nx as f64) * (zr[1] - zr[0]) / (xr[1] - xr[0]))
+        .round()
+        .clamp(10.0, 1000.0) as usize;
+    let (xs, zs, e) = crate::field::side_view_grid(model, xr, zr, nx, nz, 0.0);
+    let grid = figures::field_grid(xs, zs, e, 0.0, lowest_field_limit(profiles));
+    let height = figures::picture_height(xr, zr, 1400);
+    // Charge limits that apply somewhere on this line (from the findings),
+    // without those so far above the charge that they would flatten the plot.
+    let peak = curve_peak(charge, line);
+    let mut sigma_limits: Vec<(f64, String)> = Vec::new();
+    for f in &assessment.findings {
+        if f.dim != Dim::SurfaceChargeDensity {
+            continue;
+        }
+        let label = format!("{}/{} fail", f.profile, f.rule);
+        if let Some(v) = f.fail
+            && !sigma_limits.iter().any(|(_, l)| l == &label)
+            && (v <= 3.0 * peak || sigma_limits.is_empty())
+        {
+            sigma_limits.push((v, label));
+        }
+    }
+    let curve = figures::charge_curve(line, charge, sigma_limits);
+    Ok(vec![
+        build::Plot {
+            file: "side_view.png".into(),
+            caption: "Side view: rollers, web path coloured by charge density, zones and points of interest".into(),
+            png: plot::side_view_png(&side, 1400, height)?,
+        },
+        build::Plot {
+            file: "field_map.png".into(),
+            caption: "Field strength |E| on the centreline plane y = 0 (logarithmic colour scale)".into(),
+            png: plot::field_map_png(&side, &grid, 1400, height)?,
+        },
+        build::Plot {
+            file: "charge_along_path.png".into(),
+            caption: "Charge density along the web path, with the limits in force".into(),
+            png: plot::charge_png(&curve, 1400, 700)?,
+        },
+    ])
+}
+
 /// Runs the whole pipeline and writes the report folder; returns its path
 /// and the assessment.
 fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::assess::Assessment)> {
-    use crate::report::{build, figures, folder, plot};
+    use crate::report::{build, folder};
     check_out_dir(job.out)?;
     let line = &job.line;
     let profiles = load_profiles(line, job.extra_profiles)?;
@@ -501,39 +572,14 @@ fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::asse
     };
     let assessment = crate::assess::assess(line, &charge, &model, &points, &profiles)?;
 
-    // Figures.
-    let side = figures::side_view(line, &charge);
-    let (xr, zr) = figures::extent(line);
-    let nx = job.map_resolution.clamp(20, 1000);
-    let nz = ((nx as f64) * (zr[1] - zr[0]) / (xr[1] - xr[0]))
-        .round()
-        .clamp(10.0, 1000.0) as usize;
-    let (xs, zs, e) = crate::field::side_view_grid(&model, xr, zr, nx, nz, 0.0);
-    let grid = figures::field_grid(xs, zs, e, 0.0, lowest_field_limit(&profiles));
-    let sigma_limits: Vec<(f64, String)> = profiles
-        .iter()
-        .flat_map(|p| p.rules.iter().map(move |r| (p, r)))
-        .filter(|(_, r)| r.dim == Dim::SurfaceChargeDensity)
-        .filter_map(|(p, r)| r.fail.map(|v| (v, format!("{}/{} fail", p.name, r.id))))
-        .collect();
-    let curve = figures::charge_curve(line, &charge, sigma_limits);
-    let plots = vec![
-        build::Plot {
-            file: "side_view.png".into(),
-            caption: "Side view: rollers, web path coloured by charge density, zones and points of interest".into(),
-            png: plot::side_view_png(&side, 1400, 800)?,
-        },
-        build::Plot {
-            file: "field_map.png".into(),
-            caption: "Field strength |E| on the centreline plane y = 0 (logarithmic colour scale)".into(),
-            png: plot::field_map_png(&side, &grid, 1400, 800)?,
-        },
-        build::Plot {
-            file: "charge_along_path.png".into(),
-            caption: "Charge density along the web path, with the limits in force".into(),
-            png: plot::charge_png(&curve, 1400, 700)?,
-        },
-    ];
+    let plots = make_plots(
+        line,
+        &charge,
+        &model,
+        &profiles,
+        &assessment,
+        job.map_resolution,
+    )?;
     let report = build::build_report(
         line,
         &job.line_file,
@@ -702,7 +748,7 @@ fn demo(a: &DemoArgs) -> Result<Outcome> {
         extra_profiles: &[],
         out: &a.out,
         settings: SolverSettings::default(),
-        map_resolution: 160,
+        map_resolution: DEMO_MAP_RESOLUTION,
     })?;
     eprintln!("assessed in {:.1} s", started.elapsed().as_secs_f64());
     print_assessment(&line, &assessment, &dir)?;

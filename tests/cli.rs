@@ -289,17 +289,63 @@ fn warnings_go_to_stderr_and_do_not_fail() {
 }
 
 #[test]
-fn demo_runs_end_to_end() {
-    websigma()
+fn demo_runs_end_to_end_and_writes_its_report() {
+    let d = tempfile::tempdir().unwrap();
+    let out = websigma()
         .arg("demo")
+        .arg("--out")
+        .arg(d.path())
+        .output()
+        .unwrap();
+    let stdout = String::from_utf8_lossy(&out.stdout);
+    // A demonstration exits 0 once the report is written, even though it fails limits.
+    assert_eq!(
+        out.status.code(),
+        Some(0),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    assert!(stdout.contains("invented example"));
+    assert!(stdout.contains("S12"));
+    assert!(stdout.contains("verdict: FAIL"));
+    assert!(stdout.contains("caution: Estimates from a model are not measurements"));
+    let dirs: Vec<_> = std::fs::read_dir(d.path())
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .collect();
+    assert_eq!(dirs.len(), 1);
+    for f in [
+        "report.md",
+        "report.html",
+        "results.csv",
+        "points.csv",
+        "spans.csv",
+        "results.json",
+        "side_view.png",
+        "field_map.png",
+        "charge_along_path.png",
+        "manifest.json",
+    ] {
+        assert!(dirs[0].join(f).is_file(), "missing {f}");
+    }
+    assert!(stdout.contains(&dirs[0].display().to_string()));
+}
+
+#[test]
+fn profiles_lists_and_shows_sources() {
+    websigma()
+        .arg("profiles")
         .assert()
         .code(0)
-        .stdout(predicate::str::contains("invented example"))
-        .stdout(predicate::str::contains("S12"))
-        .stdout(predicate::str::contains("OP1 (operator)"))
-        .stdout(predicate::str::contains(
-            "caution: Estimates from a model are not measurements",
-        ));
+        .stdout(predicate::str::contains("ex-zone-1"))
+        .stdout(predicate::str::contains("operator-shock"));
+    websigma()
+        .args(["profiles", "electronics"])
+        .assert()
+        .code(0)
+        .stdout(predicate::str::contains("sources:"))
+        .stdout(predicate::str::contains("verify"));
+    websigma().args(["profiles", "nope"]).assert().code(2);
 }
 
 #[test]

@@ -1,12 +1,15 @@
 //! The one integration-test binary: every test module is compiled here.
 //!
 //! - `analytic`: the field solver against closed forms and published results;
+//! - `assess`: threshold profiles and the rules applied to small lines;
+//! - `reports`: writer snapshots, the HTML, PNGs, folders, `assess` exit codes;
 //! - `solver`: path-level physics (superposition, images, symmetry);
 //! - `geometry`: web path tangents and arc lengths through the public API;
 //! - `validation`: bad input refused with a located message;
 //! - `cli`: the binary end to end.
 
 mod analytic;
+mod assess;
 mod cli;
 mod geometry;
 mod reports;

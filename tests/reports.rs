@@ -255,9 +255,13 @@ fn pngs_decode_with_the_expected_size_and_are_not_blank() {
         .unwrap()
         .unwrap()
         .path();
+    let line = parse_line(ZONE_LINE).unwrap();
+    let (xr, zr) = websigma::report::figures::extent(&line);
+    let h = websigma::report::figures::picture_height(xr, zr, 1400);
+    assert!(h < 800, "a flat line gets a flat picture: {h}");
     for (name, w, h) in [
-        ("side_view.png", 1400, 800),
-        ("field_map.png", 1400, 800),
+        ("side_view.png", 1400, h),
+        ("field_map.png", 1400, h),
         ("charge_along_path.png", 1400, 700),
     ] {
         let bytes = std::fs::read(dir.join(name)).unwrap();
@@ -342,24 +346,38 @@ fn assess_exit_codes() {
 /// `WEBSIGMA_UPDATE_SAMPLE=1 cargo test sample_pictures`.
 #[test]
 fn sample_pictures_are_current() {
-    use websigma::report::{figures, plot};
     let line = parse_line(websigma::DEMO_LINE).unwrap();
+    let profiles = with_air_limit(
+        line.assess
+            .iter()
+            .map(|n| websigma::assess::profile::load_profile(n).unwrap())
+            .collect(),
+    );
     let charge = charge_profile(&line);
     let model = FieldModel::new(&line, &charge, SolverSettings::default());
-    let side = figures::side_view(&line, &charge);
-    let (xr, zr) = figures::extent(&line);
-    let (xs, zs, e) = websigma::field::side_view_grid(&model, xr, zr, 120, 30, 0.0);
-    let grid = figures::field_grid(xs, zs, e, 0.0, Some((79e3, "electronics limit".into())));
-    let pictures = [
-        (
-            "side_view.png",
-            plot::side_view_png(&side, 1400, 800).unwrap(),
-        ),
-        (
-            "field_map.png",
-            plot::field_map_png(&side, &grid, 1400, 800).unwrap(),
-        ),
-    ];
+    let points = FieldMap {
+        points: line
+            .points
+            .iter()
+            .map(|p| model.at(p.at, true).unwrap())
+            .collect(),
+    };
+    let a = assess(&line, &charge, &model, &points, &profiles).unwrap();
+    // The demo's own resolution, so the sample is exactly what `demo` writes.
+    let plots = websigma::app::make_plots(
+        &line,
+        &charge,
+        &model,
+        &profiles,
+        &a,
+        websigma::app::DEMO_MAP_RESOLUTION,
+    )
+    .unwrap();
+    let pictures: Vec<(String, Vec<u8>)> = plots
+        .into_iter()
+        .filter(|p| p.file != "charge_along_path.png")
+        .map(|p| (p.file, p.png))
+        .collect();
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("reports/sample");
     for (name, bytes) in pictures {
         let path = dir.join(name);

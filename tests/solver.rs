@@ -139,11 +139,8 @@ fn ground_plane_equals_explicit_mirror_line() {
         let v = b.v + c.v;
         let e: Vec<f64> = (0..3).map(|k| b.e[k] + c.e[k]).collect();
         assert!(rel(a.v, v) < 1e-9, "{p:?}: {} vs {v}", a.v);
-        for k in 0..3 {
-            assert!(
-                (a.e[k] - e[k]).abs() <= 1e-9 * a.e_magnitude(),
-                "{p:?} E{k}"
-            );
+        for (k, (ak, ek)) in a.e.iter().zip(&e).enumerate() {
+            assert!((ak - ek).abs() <= 1e-9 * a.e_magnitude(), "{p:?} E{k}");
         }
     }
 }

@@ -65,11 +65,7 @@ pub struct ValidationError {
 impl fmt::Display for ValidationError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let n = self.issues.len();
-        write!(
-            f,
-            "the line description has {n} problem{}",
-            if n == 1 { "" } else { "s" }
-        )?;
+        write!(f, "{n} problem{}", if n == 1 { "" } else { "s" })?;
         for i in &self.issues {
             write!(f, "\n  {i}")?;
         }

@@ -43,7 +43,7 @@ pub fn side_view(line: &Line, charge: &ChargeProfile) -> SideView {
         })
         .collect();
     SideView {
-        title: format!("{} — side view", line.title),
+        title: line.title.clone(),
         rollers: line
             .rollers
             .iter()
@@ -61,7 +61,7 @@ pub fn side_view(line: &Line, charge: &ChargeProfile) -> SideView {
             .iter()
             .map(|z| PlotZone {
                 id: z.id.clone(),
-                label: z.label(),
+                label: z.name.clone().unwrap_or_else(|| z.id.clone()),
                 x: [z.min[0], z.max[0]],
                 z: [z.min[2], z.max[2]],
                 zone: z.zone,
@@ -106,6 +106,15 @@ pub fn extent(line: &Line) -> ([f64; 2], [f64; 2]) {
         zr[0] = g;
     }
     ([x[0] - m, x[1] + m], zr)
+}
+
+/// Height [px] of an equal-scale side-view picture `width` px wide covering
+/// `x` × `z` [m]: the drawing area keeps 1 m in x equal to 1 m in z, plus
+/// room for the title, axes and legend.
+pub fn picture_height(x: [f64; 2], z: [f64; 2], width: u32) -> u32 {
+    let plot_w = width.saturating_sub(330) as f64;
+    let ratio = ((z[1] - z[0]) / (x[1] - x[0]).max(1e-9)).clamp(0.05, 3.0);
+    ((plot_w * ratio).round() as u32 + 200).clamp(480, 1400)
 }
 
 /// The field grid for the map, with the lowest field limit in force.
