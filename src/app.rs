@@ -4,14 +4,16 @@
 //! This is the only module (besides `cli.rs` and `main.rs`) that knows about
 //! the command line; the core modules take checked types only.
 
-use crate::charge::{ChargeProfile, charge_profile};
+use crate::charge::ChargeProfile;
 use crate::cli::{
     AssessArgs, CheckArgs, Cli, Command, DemoArgs, FieldArgs, OutputFormat, ProfilesArgs,
+    ReadingsArgs,
 };
 use crate::error::Outcome;
 use crate::field::{ASSUMPTIONS, FieldModel, PointField, SolverSettings};
 use crate::model::validate::point_problem;
 use crate::model::{Line, load_line, parse_line};
+use crate::readings::{ReadingsResult, invert_readings};
 use crate::report::{self, PointRequest, csv, json, text};
 use crate::units::{Dim, format_quantity, parse_quantity_or};
 use anyhow::{Context, Result, bail};
@@ -32,6 +34,7 @@ pub fn run(cli: Cli) -> Result<Outcome> {
         Command::Field(a) => field(&a),
         Command::Assess(a) => assess_cmd(&a),
         Command::Profiles(a) => profiles_cmd(&a),
+        Command::Readings(a) => readings_cmd(&a),
         Command::Demo(a) => demo(&a),
     }
 }
@@ -118,10 +121,22 @@ fn assumptions_text() -> String {
     s
 }
 
+/// The charge along the path: the model's, with the segments that hold
+/// readings fitted to them. Reading warnings go to stderr.
+fn line_charge(line: &Line, settings: SolverSettings) -> Result<(ChargeProfile, ReadingsResult)> {
+    let r = invert_readings(line, settings).context("converting the meter readings")?;
+    for x in &r.readings {
+        for w in &x.warnings {
+            eprintln!("warning: reading {}: {w}", x.id);
+        }
+    }
+    Ok((r.charge.clone(), r))
+}
+
 fn check(a: &CheckArgs) -> Result<Outcome> {
     let line = load_line(&a.line)?;
     print_warnings(&line);
-    let charge = charge_profile(&line);
+    let (charge, _) = line_charge(&line, SolverSettings::default())?;
     let mut out = std::io::stdout().lock();
     let mut s = summary(&line, &charge);
     s.push('\n');
@@ -342,7 +357,7 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
     let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
     let line = load_line(&a.line)?;
     print_warnings(&line);
-    let charge = charge_profile(&line);
+    let (charge, _) = line_charge(&line, settings)?;
     let model = FieldModel::new(&line, &charge, settings);
     let spans: Vec<String> = line.path.spans.iter().map(|s| s.name.clone()).collect();
     let mut w = FieldWriter {
@@ -499,9 +514,11 @@ fn curve_peak(charge: &ChargeProfile, line: &Line) -> f64 {
 /// The three report pictures of a line: side view, field map at y = 0 and
 /// charge along the path (the field map is computed here on an
 /// `map_resolution`-wide grid).
+#[allow(clippy::too_many_arguments)]
 pub fn make_plots(
     line: &Line,
     charge: &ChargeProfile,
+    readings: &ReadingsResult,
     model: &FieldModel,
     profiles: &[crate::assess::ThresholdProfile],
     assessment: &crate::assess::Assessment,
@@ -534,7 +551,12 @@ pub fn make_plots(
             sigma_limits.push((v, label));
         }
     }
-    let curve = figures::charge_curve(line, charge, sigma_limits);
+    let mut curve = figures::charge_curve(line, charge, sigma_limits);
+    curve.markers = readings
+        .readings
+        .iter()
+        .map(|r| (r.s, r.sigma, r.sigma_low, r.sigma_high, r.id.clone()))
+        .collect();
     Ok(vec![
         build::Plot {
             file: "side_view.png".into(),
@@ -561,7 +583,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::asse
     check_out_dir(job.out)?;
     let line = &job.line;
     let profiles = load_profiles(line, job.extra_profiles)?;
-    let charge = charge_profile(line);
+    let (charge, readings) = line_charge(line, job.settings)?;
     let model = FieldModel::new(line, &charge, job.settings);
     let pts: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
     let points = crate::field::FieldMap {
@@ -575,6 +597,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::asse
     let plots = make_plots(
         line,
         &charge,
+        &readings,
         &model,
         &profiles,
         &assessment,
@@ -585,6 +608,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::asse
         &job.line_file,
         job.line_text,
         &charge,
+        &readings,
         &points,
         &assessment,
         &profiles,
@@ -676,6 +700,33 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
     })
 }
 
+fn readings_cmd(a: &ReadingsArgs) -> Result<Outcome> {
+    let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
+    let line = load_line(&a.line)?;
+    print_warnings(&line);
+    let (_, r) = line_charge(&line, settings)?;
+    if r.readings.is_empty() {
+        bail!(
+            "the line has no `readings:`: add field-meter readings (span, position, distance, side, reading) to convert"
+        );
+    }
+    let s = match a.format {
+        OutputFormat::Table => {
+            let mut s = text::readings_table(&r);
+            s.push_str(&format!(
+                "\nσ is the density at the meter's foot from all readings together ({}).\n",
+                r.method
+            ));
+            s.push_str("naive: σ = 2·ε0·E (isolated sheet) and ε0·E (all field on one side), the infinite-sheet rule (Gauss's law)\n");
+            s
+        }
+        OutputFormat::Csv => csv::readings_csv(&r.readings),
+        OutputFormat::Json => json::readings_json(&r),
+    };
+    emit(&mut std::io::stdout().lock(), &s)?;
+    Ok(Outcome::Pass)
+}
+
 fn profiles_cmd(a: &ProfilesArgs) -> Result<Outcome> {
     use crate::assess::profile;
     let mut s = String::new();
@@ -734,11 +785,15 @@ fn demo(a: &DemoArgs) -> Result<Outcome> {
     let text = crate::DEMO_LINE;
     let line = parse_line(text).context("the built-in demo line (profiles/lines/demo.yaml)")?;
     print_warnings(&line);
-    let charge = charge_profile(&line);
+    let (charge, readings) = line_charge(&line, SolverSettings::default())?;
     let mut s = String::from("websigma demo — an invented example line, not a real plant\n\n");
     s.push_str(&summary(&line, &charge));
     s.push('\n');
     s.push_str(&text::spans_table(&report::span_rows(&line, &charge)));
+    if !readings.readings.is_empty() {
+        s.push_str("\nmeter readings converted with the line's geometry (beside the infinite-sheet rule):\n");
+        s.push_str(&text::readings_table(&readings));
+    }
     emit(&mut std::io::stdout().lock(), &s)?;
     let started = std::time::Instant::now();
     let (dir, assessment) = run_assessment(AssessJob {

@@ -28,6 +28,8 @@ pub enum Command {
     Field(FieldArgs),
     /// Full assessment against threshold profiles; writes a report folder.
     Assess(AssessArgs),
+    /// Meter readings converted to surface charge density with the line's geometry.
+    Readings(ReadingsArgs),
     /// List the shipped threshold profiles, or show one with its sources.
     Profiles(ProfilesArgs),
     /// Run the built-in invented example line end to end and write its report.
@@ -52,6 +54,19 @@ pub struct AssessArgs {
     /// Points per side of the field map (the map has N × N/2 points).
     #[arg(long, default_value_t = 160, value_name = "N")]
     pub map_resolution: usize,
+}
+
+/// `websigma readings`
+#[derive(Debug, clap::Args)]
+pub struct ReadingsArgs {
+    /// The line description (YAML).
+    pub line: PathBuf,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = OutputFormat::Table)]
+    pub format: OutputFormat,
+    /// Relative tolerance of the integration (1e-12 to 1e-2).
+    #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
+    pub tolerance: f64,
 }
 
 /// `websigma profiles`

@@ -4,7 +4,6 @@
 
 use crate::util::{temp_yaml, websigma};
 use websigma::assess::{assess, with_air_limit};
-use websigma::charge::charge_profile;
 use websigma::field::{FieldMap, FieldModel, SolverSettings};
 use websigma::model::parse_line;
 use websigma::report::build::{Report, build_report};
@@ -49,6 +48,8 @@ zones:
     gas_group: IIA
     mie: 0.24 mJ
     box: {from: [0.5 m, -1.5 m, 0.5 m], to: [2.2 m, 1.5 m, 1.6 m]}
+readings:
+  - {id: MR1, span: A-B, position: 50 %, distance: 25 mm, side: above, reading: 90 kV/m}
 assess: [ex-zone-1, operator-shock, electronics]
 "#;
 
@@ -60,7 +61,8 @@ fn report() -> Report {
             .map(|n| websigma::assess::profile::load_profile(n).unwrap())
             .collect(),
     );
-    let charge = charge_profile(&line);
+    let readings = websigma::readings::invert_readings(&line, SolverSettings::default()).unwrap();
+    let charge = readings.charge.clone();
     let model = FieldModel::new(&line, &charge, SolverSettings::default());
     let points = FieldMap {
         points: line
@@ -78,6 +80,7 @@ fn report() -> Report {
         "zone_line.yaml",
         ZONE_LINE,
         &charge,
+        &readings,
         &points,
         &a,
         &profiles,
@@ -353,7 +356,8 @@ fn sample_pictures_are_current() {
             .map(|n| websigma::assess::profile::load_profile(n).unwrap())
             .collect(),
     );
-    let charge = charge_profile(&line);
+    let readings = websigma::readings::invert_readings(&line, SolverSettings::default()).unwrap();
+    let charge = readings.charge.clone();
     let model = FieldModel::new(&line, &charge, SolverSettings::default());
     let points = FieldMap {
         points: line
@@ -367,6 +371,7 @@ fn sample_pictures_are_current() {
     let plots = websigma::app::make_plots(
         &line,
         &charge,
+        &readings,
         &model,
         &profiles,
         &a,

@@ -130,30 +130,57 @@ pub fn segment_amplitudes(entries: &[ChargeEntry], lambda: Meters) -> Vec<Coulom
 
 /// Builds the charge profile of a validated line.
 pub fn charge_profile(line: &Line) -> ChargeProfile {
+    charge_profile_with(line, &[])
+}
+
+/// Arc lengths where charge segments start: 0 and every distinct place of a
+/// charge entry further down the path [m].
+pub fn segment_starts(line: &Line) -> Vec<Meters> {
+    let mut starts = vec![0.0];
+    for e in &line.charge {
+        if e.s > *starts.last().unwrap_or(&0.0) {
+            starts.push(e.s);
+        }
+    }
+    starts
+}
+
+/// The charge profile with the starting density of some segments imposed
+/// (`(segment index, A [C/m²])`, e.g. from meter readings): an imposed
+/// segment ignores the entries that open it; the others set or add as the
+/// entries say, carrying the relaxed density in from upstream.
+pub fn charge_profile_with(line: &Line, overrides: &[(usize, f64)]) -> ChargeProfile {
     let lambda = line.web.decay_length();
     let total = line.path.total_length;
-    let amps = segment_amplitudes(&line.charge, lambda);
-    let mut segments = vec![ChargeSegment {
-        s_start: 0.0,
-        s_end: total,
-        amplitude: 0.0,
-        origin: "start of path (uncharged until a charge entry)".to_string(),
-    }];
-    for (e, a) in line.charge.iter().zip(amps) {
-        let last = segments.len() - 1;
-        if e.s <= segments[last].s_start {
-            // Same place as the current segment's start: the later entry wins.
-            segments[last].amplitude = a;
-            segments[last].origin = e.at.clone();
+    let starts = segment_starts(line);
+    let mut segments: Vec<ChargeSegment> = Vec::with_capacity(starts.len());
+    let mut carried = 0.0;
+    for (k, &s0) in starts.iter().enumerate() {
+        let s1 = starts.get(k + 1).copied().unwrap_or(total);
+        let mut a = carried;
+        let mut origin = if k == 0 {
+            "start of path (uncharged until a charge entry)".to_string()
         } else {
-            segments[last].s_end = e.s;
-            segments.push(ChargeSegment {
-                s_start: e.s,
-                s_end: total,
-                amplitude: a,
-                origin: e.at.clone(),
-            });
+            "carried in".to_string()
+        };
+        for e in line.charge.iter().filter(|e| e.s == s0) {
+            a = match e.mode {
+                ChargeMode::Set => e.sigma,
+                ChargeMode::Add => a + e.sigma,
+            };
+            origin = e.at.clone();
         }
+        if let Some(&(_, v)) = overrides.iter().find(|(i, _)| *i == k) {
+            a = v;
+            origin = format!("{origin} (from readings)");
+        }
+        segments.push(ChargeSegment {
+            s_start: s0,
+            s_end: s1,
+            amplitude: a,
+            origin,
+        });
+        carried = a * decay(s1 - s0, lambda);
     }
     ChargeProfile {
         segments,

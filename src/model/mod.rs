@@ -373,6 +373,83 @@ impl Zone {
     }
 }
 
+/// Which side of a span a meter is on.
+///
+/// Every span has two normals; "above" is the one pointing up (positive z
+/// component). For a vertical span, where neither points up, "above" is the
+/// one pointing in +x (downstream in the machine direction).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Side {
+    /// The normal with positive z (or +x on a vertical span).
+    Above,
+    /// The opposite side.
+    Below,
+}
+
+impl Side {
+    /// The keyword used in the YAML.
+    pub fn text(self) -> &'static str {
+        match self {
+            Side::Above => "above",
+            Side::Below => "below",
+        }
+    }
+}
+
+/// What a reading measured.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum ReadingValue {
+    /// A field reading [V/m]; positive when the field points from the web to the meter.
+    Field(f64),
+    /// A voltage shown by a meter calibrated at a distance [V], [m] (distance
+    /// not given: `None`).
+    Voltage(f64, Option<Meters>),
+    /// A surface charge density measured directly [C/m²].
+    Sigma(f64),
+}
+
+/// A validated reading.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Reading {
+    /// Identifier (given, or `reading[i]`).
+    pub id: String,
+    /// Index of the span.
+    pub span: usize,
+    /// Distance along the span from its start [m].
+    pub along: Meters,
+    /// Across-web offset from the centreline [m].
+    pub across: Meters,
+    /// Meter face to web, along the span's normal [m].
+    pub distance: Meters,
+    /// Side of the span.
+    pub side: Side,
+    /// What was read.
+    pub value: ReadingValue,
+}
+
+/// Meter accuracy applied to every reading.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MeterSpec {
+    /// Relative accuracy of the reading [1].
+    pub accuracy: f64,
+    /// Zero uncertainty [V/m].
+    pub offset: VoltsPerMeter,
+    /// Uncertainty of the meter distance [m].
+    pub distance_tolerance: Meters,
+}
+
+impl Default for MeterSpec {
+    /// 5 % of the reading, 1 kV/m offset, 2 mm on the distance (typical
+    /// hand-held field meters; common practice, stated in every output).
+    fn default() -> Self {
+        MeterSpec {
+            accuracy: 0.05,
+            offset: 1e3,
+            distance_tolerance: 2e-3,
+        }
+    }
+}
+
 /// A validated line: every field is checked and consistent.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Line {
@@ -396,6 +473,10 @@ pub struct Line {
     pub zones: Vec<Zone>,
     /// Names of the threshold profiles the line asks for (`assess:`).
     pub assess: Vec<String>,
+    /// Field-meter and density readings.
+    pub readings: Vec<Reading>,
+    /// Meter accuracy used for every reading.
+    pub meter: MeterSpec,
     /// Problems that are not fatal, to show the user and list in reports.
     pub warnings: Vec<Issue>,
 }

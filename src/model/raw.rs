@@ -84,6 +84,49 @@ pub struct RawLine {
     /// Names of threshold profiles to apply.
     #[serde(default)]
     pub assess: Vec<Scalar>,
+    /// Field-meter (or density) readings.
+    #[serde(default)]
+    pub readings: Vec<RawReading>,
+    /// Defaults for every reading's meter.
+    pub meter: Option<RawMeter>,
+}
+
+/// `readings[i]`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawReading {
+    /// Optional identifier.
+    pub id: Option<Scalar>,
+    /// Span name or `FROM-TO`.
+    pub span: Option<Scalar>,
+    /// Along the span: a percentage or a length from its start.
+    pub position: Option<Scalar>,
+    /// Offset from the centreline, a length (default 0).
+    pub across: Option<Scalar>,
+    /// Meter face to web, a length.
+    pub distance: Option<Scalar>,
+    /// above | below
+    pub side: Option<Scalar>,
+    /// A field reading.
+    pub reading: Option<Scalar>,
+    /// A voltage reading of a meter calibrated at a distance.
+    pub voltage: Option<Scalar>,
+    /// The distance at which a voltage-reading meter is calibrated.
+    pub calibrated_at: Option<Scalar>,
+    /// A density measured directly.
+    pub sigma: Option<Scalar>,
+}
+
+/// `meter:`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawMeter {
+    /// A percentage of the reading.
+    pub accuracy: Option<Scalar>,
+    /// A field.
+    pub offset: Option<Scalar>,
+    /// A length.
+    pub distance_tolerance: Option<Scalar>,
 }
 
 /// `web:`

@@ -189,6 +189,8 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
     let points = validate_points(&mut ctx, raw, &path, &rollers, &web, ground_plane);
     let zones = validate_zones(&mut ctx, raw, &points, &rollers, &path);
     let assess = validate_assess(&mut ctx, raw);
+    let meter = validate_meter(&mut ctx, raw);
+    let readings = validate_readings(&mut ctx, raw, &path, &rollers, &web, ground_plane);
 
     if !ctx.issues.is_empty() {
         return Err(ValidationError { issues: ctx.issues });
@@ -204,6 +206,8 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
         points,
         zones,
         assess,
+        readings,
+        meter,
         warnings: ctx.warnings,
     })
 }
@@ -989,6 +993,256 @@ fn validate_assess(ctx: &mut Ctx, raw: &RawLine) -> Vec<String> {
         } else if !out.contains(&name) {
             out.push(name);
         }
+    }
+    out
+}
+
+fn validate_meter(ctx: &mut Ctx, raw: &RawLine) -> MeterSpec {
+    let mut m = MeterSpec::default();
+    let Some(r) = &raw.meter else {
+        return m;
+    };
+    if let Some(a) = &r.accuracy
+        && let Some(v) = ctx.qty(a, Dim::Percent, "meter.accuracy")
+    {
+        if (0.0..1.0).contains(&v) {
+            m.accuracy = v;
+        } else {
+            ctx.err(
+                "meter.accuracy",
+                "expected a percentage from 0 % to below 100 %, such as \"5 %\"",
+            );
+        }
+    }
+    if let Some(o) = &r.offset
+        && let Some(v) = ctx.qty(o, Dim::Field, "meter.offset")
+    {
+        if v >= 0.0 {
+            m.offset = v;
+        } else {
+            ctx.err(
+                "meter.offset",
+                "expected a field of zero or more, such as \"1 kV/m\"",
+            );
+        }
+    }
+    if let Some(d) = &r.distance_tolerance
+        && let Some(v) = ctx.qty(d, Dim::Length, "meter.distance_tolerance")
+    {
+        if v >= 0.0 {
+            m.distance_tolerance = v;
+        } else {
+            ctx.err(
+                "meter.distance_tolerance",
+                "expected a length of zero or more, such as \"2 mm\"",
+            );
+        }
+    }
+    m
+}
+
+/// The meter's position and the unit normal from the web towards it.
+pub fn meter_geometry(
+    span: &Span,
+    along: f64,
+    across: f64,
+    distance: f64,
+    side: Side,
+) -> ([f64; 3], [f64; 3]) {
+    let d = span.direction();
+    // Left normal of the travel direction in the x-z plane.
+    let mut n = [-d[1], d[0]];
+    let up = if n[1].abs() > 1e-12 {
+        n[1] > 0.0
+    } else {
+        n[0] > 0.0
+    };
+    if !up {
+        n = [-n[0], -n[1]];
+    }
+    if side == Side::Below {
+        n = [-n[0], -n[1]];
+    }
+    let foot = [span.start[0] + along * d[0], span.start[1] + along * d[1]];
+    (
+        [foot[0] + distance * n[0], across, foot[1] + distance * n[1]],
+        [n[0], 0.0, n[1]],
+    )
+}
+
+fn validate_readings(
+    ctx: &mut Ctx,
+    raw: &RawLine,
+    path: &WebPath,
+    rollers: &[Roller],
+    web: &Web,
+    ground: Option<f64>,
+) -> Vec<Reading> {
+    let mut out: Vec<Reading> = Vec::new();
+    for (i, r) in raw.readings.iter().enumerate() {
+        let p = format!("readings[{i}]");
+        let id = match &r.id {
+            Some(_) => ctx.id(&r.id, &format!("{p}.id")),
+            None => Some(format!("reading[{i}]")),
+        };
+        if let Some(id) = &id
+            && out.iter().any(|o| &o.id == id)
+        {
+            ctx.err(format!("{p}.id"), format!("duplicate reading id \"{id}\""));
+        }
+        let span = match ctx.need(
+            &r.span,
+            &format!("{p}.span"),
+            "a span name such as \"S3\" or \"R2-R3\"",
+        ) {
+            None => None,
+            Some(s) => match path.span_index(s.as_str()) {
+                Some(k) => Some(k),
+                None => {
+                    let names: Vec<String> = path.spans.iter().map(|s| s.label()).collect();
+                    ctx.err(
+                        format!("{p}.span"),
+                        format!(
+                            "unknown span \"{}\": expected one of {}",
+                            s.as_str().trim(),
+                            names.join(", ")
+                        ),
+                    );
+                    None
+                }
+            },
+        };
+        let along = match (&r.position, span) {
+            (None, _) => {
+                ctx.err(format!("{p}.position"), "missing: expected a percentage of the span such as \"50 %\" or a length from its start such as \"400 mm\"");
+                None
+            }
+            (Some(pos), Some(k)) => {
+                let len = path.spans[k].length;
+                let t = pos.as_str().trim();
+                let v = if t.ends_with('%') {
+                    ctx.qty(pos, Dim::Percent, &format!("{p}.position"))
+                        .map(|f| f * len)
+                } else {
+                    ctx.qty(pos, Dim::Length, &format!("{p}.position"))
+                };
+                match v {
+                    Some(a) if (0.0..=len).contains(&a) => Some(a),
+                    Some(a) => {
+                        ctx.err(
+                            format!("{p}.position"),
+                            format!(
+                                "{} is outside span {} ({} long): expected 0 % to 100 % or a length up to the span's length",
+                                crate::units::format_quantity(a, Dim::Length),
+                                path.spans[k].label(),
+                                crate::units::format_quantity(len, Dim::Length)
+                            ),
+                        );
+                        None
+                    }
+                    None => None,
+                }
+            }
+            (Some(_), None) => None,
+        };
+        let across = match &r.across {
+            None => Some(0.0),
+            Some(a) => ctx.qty(a, Dim::Length, &format!("{p}.across")),
+        };
+        if let Some(a) = across
+            && a.abs() > web.width / 2.0
+        {
+            ctx.err(
+                format!("{p}.across"),
+                format!(
+                    "{} is off the web (half width {}): a reading is taken over the web",
+                    crate::units::format_quantity(a, Dim::Length),
+                    crate::units::format_quantity(web.width / 2.0, Dim::Length)
+                ),
+            );
+        }
+        let distance = ctx.req_qty(&r.distance, Dim::Length, &format!("{p}.distance"));
+        let distance = ctx.positive(distance, Dim::Length, &format!("{p}.distance"));
+        let side = keyword(ctx, &r.side, &format!("{p}.side"), &["above", "below"]).map(|s| {
+            if s == "above" {
+                Side::Above
+            } else {
+                Side::Below
+            }
+        });
+        let value = match (&r.reading, &r.voltage, &r.sigma) {
+            (Some(v), None, None) => {
+                if r.calibrated_at.is_some() {
+                    ctx.err(
+                        format!("{p}.calibrated_at"),
+                        "`calibrated_at:` belongs to a `voltage:` reading",
+                    );
+                }
+                ctx.qty(v, Dim::Field, &format!("{p}.reading"))
+                    .map(ReadingValue::Field)
+            }
+            (None, Some(v), None) => {
+                let volts = ctx.qty(v, Dim::Voltage, &format!("{p}.voltage"));
+                let cal = match &r.calibrated_at {
+                    None => Some(None),
+                    Some(c) => {
+                        let path = format!("{p}.calibrated_at");
+                        let c = ctx.qty(c, Dim::Length, &path);
+                        ctx.positive(c, Dim::Length, &path).map(Some)
+                    }
+                };
+                match (volts, cal) {
+                    (Some(v), Some(c)) => Some(ReadingValue::Voltage(v, c)),
+                    _ => None,
+                }
+            }
+            (None, None, Some(v)) => ctx
+                .qty(v, Dim::SurfaceChargeDensity, &format!("{p}.sigma"))
+                .map(ReadingValue::Sigma),
+            (None, None, None) => {
+                ctx.err(&p, "missing: expected `reading:` (a field such as \"48 kV/m\"), `voltage:` with `calibrated_at:`, or `sigma:`");
+                None
+            }
+            _ => {
+                ctx.err(
+                    &p,
+                    "give one of `reading:`, `voltage:` or `sigma:`, not several",
+                );
+                None
+            }
+        };
+        let (
+            Some(id),
+            Some(span),
+            Some(along),
+            Some(across),
+            Some(distance),
+            Some(side),
+            Some(value),
+        ) = (id, span, along, across, distance, side, value)
+        else {
+            continue;
+        };
+        let (at, _) = meter_geometry(&path.spans[span], along, across, distance, side);
+        if let Some(msg) = point_problem(path, rollers, web.width, ground, at) {
+            ctx.err(
+                format!("{p}.distance"),
+                format!(
+                    "the meter would stand at [{:.4} m, {:.4} m, {:.4} m]: {msg}",
+                    at[0], at[1], at[2]
+                ),
+            );
+            continue;
+        }
+        out.push(Reading {
+            id,
+            span,
+            along,
+            across,
+            distance,
+            side,
+            value,
+        });
     }
     out
 }

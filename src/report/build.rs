@@ -10,6 +10,7 @@ use crate::assess::{Assessment, Finding, SubjectKind, ThresholdProfile, Verdict}
 use crate::charge::ChargeProfile;
 use crate::field::{ASSUMPTIONS, FieldMap, SpanContribution};
 use crate::model::{ChargeMode, Line, NodeKind, Point, Zone};
+use crate::readings::{ReadingResult, ReadingsResult, SegmentFit};
 use crate::report::{SpanRow, span_rows};
 use crate::units::Meters;
 
@@ -119,6 +120,12 @@ pub struct Report {
     pub warnings: Vec<String>,
     /// PNG plots.
     pub plots: Vec<Plot>,
+    /// Meter readings converted to charge density.
+    pub readings: Vec<ReadingResult>,
+    /// The charge segments the readings determine.
+    pub reading_segments: Vec<SegmentFit>,
+    /// How the reading bounds were computed.
+    pub reading_method: String,
 }
 
 /// SHA-256 of bytes as lower-case hex.
@@ -161,6 +168,7 @@ pub fn build_report(
     line_file: &str,
     line_text: &str,
     charge: &ChargeProfile,
+    readings: &ReadingsResult,
     points: &FieldMap,
     assessment: &Assessment,
     profiles: &[ThresholdProfile],
@@ -276,8 +284,20 @@ pub fn build_report(
         recommendations: recommendations(line, &assessment.findings),
         limitations: LIMITATIONS.iter().map(|s| s.to_string()).collect(),
         references,
-        warnings: line.warnings.iter().map(|w| w.to_string()).collect(),
+        warnings: line
+            .warnings
+            .iter()
+            .map(|w| w.to_string())
+            .chain(readings.readings.iter().flat_map(|r| {
+                r.warnings
+                    .iter()
+                    .map(move |w| format!("reading {}: {w}", r.id))
+            }))
+            .collect(),
         plots,
+        readings: readings.readings.clone(),
+        reading_segments: readings.segments.clone(),
+        reading_method: readings.method.clone(),
     }
 }
 

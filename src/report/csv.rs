@@ -123,3 +123,31 @@ pub fn spans_csv(r: &Report) -> String {
     }
     s
 }
+
+/// The readings conversion as CSV, SI units.
+pub fn readings_csv(readings: &[crate::readings::ReadingResult]) -> String {
+    let mut s = String::from(
+        "id,span,position_m,distance_m,reading_SI,field_V_per_m,sigma_C_per_m2,sigma_low_C_per_m2,sigma_high_C_per_m2,sigma_naive_isolated_C_per_m2,sigma_naive_one_sided_C_per_m2,sigma_model_C_per_m2,residual_SI,warnings\n",
+    );
+    let opt = |x: Option<f64>| x.map(|v| format!("{v:?}")).unwrap_or_default();
+    for x in readings {
+        s.push_str(&format!(
+            "{},{},{:?},{:?},{:?},{},{:?},{:?},{:?},{},{},{:?},{:?},{}\n",
+            field_text(&x.id),
+            field_text(&x.span),
+            x.position,
+            x.distance,
+            x.reading,
+            opt(x.field),
+            x.sigma,
+            x.sigma_low,
+            x.sigma_high,
+            opt(x.sigma_naive_isolated),
+            opt(x.sigma_naive_one_sided),
+            x.sigma_model,
+            x.residual,
+            field_text(&x.warnings.join("; "))
+        ));
+    }
+    s
+}

@@ -81,6 +81,52 @@ pub fn margin_text(m: f64) -> String {
     }
 }
 
+fn reading_table(r: &Report) -> Block {
+    let sd = |x: f64| format_quantity(x, Dim::SurfaceChargeDensity);
+    let ratio = |n: Option<f64>, g: f64| match n {
+        Some(n) if g != 0.0 => format!("{} ({:.2}×)", sd(n), n / g),
+        Some(n) => sd(n),
+        None => "—".into(),
+    };
+    table(
+        &[
+            "reading",
+            "span",
+            "position",
+            "distance",
+            "read",
+            "σ (geometry)",
+            "σ bounds",
+            "naive 2ε0E",
+            "naive ε0E",
+            "charge entries predict",
+            "flags",
+        ],
+        r.readings
+            .iter()
+            .map(|x| {
+                vec![
+                    x.id.clone(),
+                    x.span.clone(),
+                    len_text(x.position),
+                    len_text(x.distance),
+                    x.reading_text.clone(),
+                    sd(x.sigma),
+                    format!("{} … {}", sd(x.sigma_low), sd(x.sigma_high)),
+                    ratio(x.sigma_naive_isolated, x.sigma),
+                    ratio(x.sigma_naive_one_sided, x.sigma),
+                    sd(x.sigma_model),
+                    if x.warnings.is_empty() {
+                        "—".into()
+                    } else {
+                        x.warnings.join("; ")
+                    },
+                ]
+            })
+            .collect(),
+    )
+}
+
 /// Lays out the whole report.
 pub fn layout(r: &Report) -> Vec<Section> {
     let line = &r.line;
@@ -118,7 +164,7 @@ pub fn layout(r: &Report) -> Vec<Section> {
         .take(5)
         .map(|f| {
             format!(
-                "{} — {} on {}: {} against {} ({} of the limit)",
+                "{} — {} on {}: {} against {} ({} the limit)",
                 verdict_cell(f.verdict),
                 f.check,
                 f.subject,
@@ -311,6 +357,15 @@ pub fn layout(r: &Report) -> Vec<Section> {
                 &["id", "name", "zone", "gas group", "MIE", "from", "to"],
                 zones,
             ),
+            Block::Para(if r.readings.is_empty() {
+                "Meter readings: none — the charge is as the charge entries state.".to_string()
+            } else {
+                format!(
+                    "Meter readings converted to surface charge density with the line's geometry (all spans and images), beside the infinite-sheet rule; σ is the density at the meter's foot, {}:",
+                    r.reading_method
+                )
+            }),
+            reading_table(r),
             Block::Para("Threshold profiles in force:".into()),
             table(&["profile", "title", "rules", "origin"], profiles),
         ],

@@ -156,8 +156,48 @@ pub fn results_json(r: &Report) -> String {
         })
         .collect();
     s.push_str(&items.join(",\n"));
+    s.push_str("\n  ],\n  \"readings\": [\n");
+    let items: Vec<String> = r
+        .readings
+        .iter()
+        .map(|x| format!("    {}", reading_object(x)))
+        .collect();
+    s.push_str(&items.join(",\n"));
     s.push_str("\n  ]\n}\n");
     s
+}
+
+/// One reading as a JSON object (SI units).
+pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
+    let opt = |v: Option<f64>| v.map(num).unwrap_or_else(|| "null".into());
+    let warnings: Vec<String> = x.warnings.iter().map(|w| string(w)).collect();
+    format!(
+        "{{\"id\": {}, \"span\": {}, \"position\": {}, \"distance\": {}, \"reading\": {}, \"field\": {}, \"sigma\": {}, \"sigma_low\": {}, \"sigma_high\": {}, \"sigma_naive_isolated\": {}, \"sigma_naive_one_sided\": {}, \"sigma_model\": {}, \"residual\": {}, \"warnings\": [{}]}}",
+        string(&x.id),
+        string(&x.span),
+        num(x.position),
+        num(x.distance),
+        num(x.reading),
+        opt(x.field),
+        num(x.sigma),
+        num(x.sigma_low),
+        num(x.sigma_high),
+        opt(x.sigma_naive_isolated),
+        opt(x.sigma_naive_one_sided),
+        num(x.sigma_model),
+        num(x.residual),
+        warnings.join(", ")
+    )
+}
+
+/// `websigma readings --format json`.
+pub fn readings_json(r: &crate::readings::ReadingsResult) -> String {
+    let items: Vec<String> = r
+        .readings
+        .iter()
+        .map(|x| format!("  {}", reading_object(x)))
+        .collect();
+    format!("{{\"readings\": [\n{}\n]}}\n", items.join(",\n"))
 }
 
 #[cfg(test)]

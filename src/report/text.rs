@@ -124,6 +124,69 @@ pub fn contributions_table(f: &PointField) -> String {
     table(&["span (+ image)", "Ex", "Ey", "Ez", "|E|", "V"], &rows)
 }
 
+/// The readings conversion table.
+pub fn readings_table(r: &crate::readings::ReadingsResult) -> String {
+    let sd = |x: f64| format_quantity(x, Dim::SurfaceChargeDensity);
+    let rows: Vec<Vec<String>> = r
+        .readings
+        .iter()
+        .map(|x| {
+            let ratio = |n: Option<f64>| match n {
+                Some(n) if x.sigma != 0.0 => format!("{} ({:.2}×)", sd(n), n / x.sigma),
+                Some(n) => sd(n),
+                None => "—".into(),
+            };
+            vec![
+                x.id.clone(),
+                x.span.clone(),
+                len(x.position),
+                len(x.distance),
+                x.reading_text.clone(),
+                x.field
+                    .map(|e| format_si(e, "V/m"))
+                    .unwrap_or_else(|| "—".into()),
+                sd(x.sigma),
+                format!("{} … {}", sd(x.sigma_low), sd(x.sigma_high)),
+                ratio(x.sigma_naive_isolated),
+                ratio(x.sigma_naive_one_sided),
+                if x.field.is_some() {
+                    format_si(x.residual, "V/m")
+                } else {
+                    sd(x.residual)
+                },
+                if x.warnings.is_empty() {
+                    "—".into()
+                } else {
+                    format!("{} warning(s)", x.warnings.len())
+                },
+            ]
+        })
+        .collect();
+    let mut s = table(
+        &[
+            "reading",
+            "span",
+            "position",
+            "distance",
+            "read",
+            "E",
+            "σ (geometry)",
+            "σ bounds",
+            "naive 2ε0E",
+            "naive ε0E",
+            "residual",
+            "flags",
+        ],
+        &rows,
+    );
+    for x in &r.readings {
+        for w in &x.warnings {
+            s.push_str(&format!("  {}: {w}\n", x.id));
+        }
+    }
+    s
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -1,0 +1,517 @@
+//! # Meter readings to surface charge density
+//!
+//! Between the model and the field stages: `(Line, readings) → ChargeProfile`.
+//! A field meter held at distance d from a span reads the component of the
+//! field along the span's normal, which depends on the distance, the web's
+//! width, the other spans and the ground plane — not only on the density
+//! under the meter. Since the field is linear in the densities,
+//!
+//! $$ r_m = \sum_k A_k\, G_{km}, \qquad G_{km} = \hat n_m\cdot\mathbf E_k(\mathbf r_m), $$
+//!
+//! where A_k is the starting density of charge segment k and G_km the field
+//! that segment k with A_k = 1 C/m² (and its relaxation and across-web
+//! shape) produces at meter m along the meter's normal n̂_m (the unit vector
+//! from the web to the meter: a positively charged web reads positive). A
+//! segment holding readings takes its A from them, overriding the `charge`
+//! entry that opens it; the densities downstream follow by relaxation and
+//! the entries (`adds:` carries the fitted density on), so every A_k is an
+//! affine function of the unknowns x_j and so is every reading:
+//! r = b + M x. The unknowns are found together by weighted linear least
+//! squares, each reading weighted by its uncertainty
+//! u_m = a·|r_m| + e0 (meter accuracy a, zero offset e0):
+//!
+//! $$ \hat x = (M^T W M)^{-1} M^T W (r - b), \qquad W = \mathrm{diag}(u_m^{-2}). $$
+//!
+//! Uncertainty: x̂ is linear in the readings, x̂ = P (r − b), so a box of
+//! reading errors |δr_m| ≤ u_m gives the exact bounds |δx_j| ≤ Σ_m |P_jm| u_m;
+//! the distance tolerance is taken by solving again with every meter moved by
+//! ± its tolerance and widening the bounds to the extremes (the field falls
+//! monotonically with distance). The naive infinite-sheet values
+//! σ = 2ε0·E (isolated sheet) and σ = ε0·E (all field on one side, Gauss's
+//! law) are shown beside the result.
+//!
+//! | symbol | meaning | unit |
+//! | --- | --- | --- |
+//! | r_m | reading m as a field (a voltage reading ÷ its calibrated distance) | V/m |
+//! | A_k, x_j | starting density of segment k; the unknown ones | C/m² |
+//! | G_km | normal field at meter m per unit A_k | V/m per C/m² |
+//! | u_m | reading uncertainty | V/m |
+//! | ε0 | vacuum permittivity | F/m |
+//!
+//! Assumptions: the meter reads the undisturbed field at its sensing point
+//! (the meter body does not perturb it); the density across the web has the
+//! shape the line gives; a meter reads the net charge of both faces.
+//!
+//! ## Reference
+//! Least squares: Å. Björck, *Numerical Methods for Least Squares Problems*
+//! (SIAM, 1996), ch. 1. Infinite-sheet rule: Gauss's law (FACTS.md). Field
+//! meter practice (reading ÷ calibrated distance, mid-span readings): K.
+//! Robinson, PFFC "Static Beat" 2010 and 2019; NFPA 77 (2000) 5.4.
+
+use crate::charge::{ChargeProfile, charge_profile, charge_profile_with};
+use crate::field::{FieldError, FieldModel, SolverSettings};
+use crate::model::validate::{AIR_BREAKDOWN_FIELD, meter_geometry};
+use crate::model::{Line, NodeKind, Reading, ReadingValue};
+use crate::units::{Dim, EPS0, Meters, format_quantity};
+
+/// Calibrated distance assumed for a voltage reading that gives none [m]
+/// (25 mm = 1 inch, the usual calibration of hand-held meters; FACTS.md).
+pub const DEFAULT_CALIBRATION: Meters = 0.025;
+
+/// Readings closer to a roller node than this many meter distances are
+/// warned about (common practice: take readings mid-span).
+pub const ROLLER_CLEARANCE: f64 = 3.0;
+
+/// What one reading gives.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ReadingResult {
+    /// Identifier.
+    pub id: String,
+    /// Span label.
+    pub span: String,
+    /// Distance along the span from its start [m].
+    pub position: Meters,
+    /// Arc length of the meter's foot on the path [m].
+    pub s: Meters,
+    /// Meter face to web [m].
+    pub distance: Meters,
+    /// Meter position [m].
+    pub at: [Meters; 3],
+    /// The reading as entered, in words.
+    pub reading_text: String,
+    /// The reading as entered, SI (V/m, V or C/m²).
+    pub reading: f64,
+    /// The field the reading implies [V/m]; `None` for a density reading.
+    pub field: Option<f64>,
+    /// Geometry-aware density at the meter's foot [C/m²].
+    pub sigma: f64,
+    /// Lower bound [C/m²].
+    pub sigma_low: f64,
+    /// Upper bound [C/m²].
+    pub sigma_high: f64,
+    /// What the `charge` entries alone predict there [C/m²].
+    pub sigma_model: f64,
+    /// 2ε0·E [C/m²].
+    pub sigma_naive_isolated: Option<f64>,
+    /// ε0·E [C/m²].
+    pub sigma_naive_one_sided: Option<f64>,
+    /// Reading minus the fitted model's prediction, in the reading's unit
+    /// (V/m, or C/m² for a density reading).
+    pub residual: f64,
+    /// The residual's uncertainty scale u (same unit).
+    pub uncertainty: f64,
+    /// Problems and flags, in words.
+    pub warnings: Vec<String>,
+}
+
+/// A charge segment whose starting density the readings determine.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SegmentFit {
+    /// Segment index.
+    pub index: usize,
+    /// What opens it.
+    pub origin: String,
+    /// Arc length of its start [m].
+    pub s_start: Meters,
+    /// What the charge entries predict [C/m²].
+    pub predicted: f64,
+    /// What the readings give [C/m²].
+    pub fitted: f64,
+    /// Lower bound [C/m²].
+    pub low: f64,
+    /// Upper bound [C/m²].
+    pub high: f64,
+    /// Number of readings on it.
+    pub readings: usize,
+}
+
+/// The readings converted, and the charge profile that results.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ReadingsResult {
+    /// The charge along the path with the fitted densities.
+    pub charge: ChargeProfile,
+    /// One entry per reading, in input order.
+    pub readings: Vec<ReadingResult>,
+    /// One entry per fitted segment.
+    pub segments: Vec<SegmentFit>,
+    /// How the bounds were computed, in words.
+    pub method: String,
+}
+
+/// Errors of the inversion.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ReadingsError {
+    /// The field could not be computed at a meter.
+    #[error("computing the field at a meter: {0}")]
+    Field(#[from] FieldError),
+    /// The readings do not determine the densities.
+    #[error(
+        "the readings do not determine the charge of segment starting at {0}: add a reading over that stretch of web"
+    )]
+    Singular(String),
+}
+
+struct Row {
+    reading: usize,
+    /// Unknown-independent part b_m.
+    b: f64,
+    /// Coefficients M_mj.
+    m: Vec<f64>,
+    /// The reading r_m (V/m, or C/m² for density rows).
+    r: f64,
+    /// Uncertainty u_m.
+    u: f64,
+}
+
+fn segment_of(charge: &ChargeProfile, s: f64) -> usize {
+    charge
+        .segments
+        .iter()
+        .rposition(|g| s >= g.s_start)
+        .unwrap_or(0)
+}
+
+/// The field the reading implies [V/m], and whether the calibration was assumed.
+fn implied_field(r: &Reading) -> (Option<f64>, bool) {
+    match r.value {
+        ReadingValue::Field(e) => (Some(e), false),
+        ReadingValue::Voltage(v, Some(cal)) => (Some(v / cal), false),
+        ReadingValue::Voltage(v, None) => (Some(v / DEFAULT_CALIBRATION), true),
+        ReadingValue::Sigma(_) => (None, false),
+    }
+}
+
+/// A unit-amplitude profile of segment k alone.
+fn unit_profile(base: &ChargeProfile, k: usize) -> ChargeProfile {
+    let mut p = base.clone();
+    for (i, g) in p.segments.iter_mut().enumerate() {
+        g.amplitude = if i == k { 1.0 } else { 0.0 };
+    }
+    p
+}
+
+/// Builds the least-squares rows for meters at `distances`.
+fn rows(
+    line: &Line,
+    base: &ChargeProfile,
+    unknowns: &[usize],
+    distances: &[f64],
+    settings: SolverSettings,
+) -> Result<Vec<Row>, FieldError> {
+    // A(x) = A0 + Σ_j x_j T_j.
+    let zero: Vec<(usize, f64)> = unknowns.iter().map(|&k| (k, 0.0)).collect();
+    let a0: Vec<f64> = charge_profile_with(line, &zero)
+        .segments
+        .iter()
+        .map(|g| g.amplitude)
+        .collect();
+    let t: Vec<Vec<f64>> = unknowns
+        .iter()
+        .map(|&kj| {
+            let ov: Vec<(usize, f64)> = unknowns
+                .iter()
+                .map(|&k| (k, if k == kj { 1.0 } else { 0.0 }))
+                .collect();
+            charge_profile_with(line, &ov)
+                .segments
+                .iter()
+                .zip(&a0)
+                .map(|(g, a)| g.amplitude - a)
+                .collect()
+        })
+        .collect();
+    let models: Vec<FieldModel> = (0..base.segments.len())
+        .map(|k| FieldModel::new(line, &unit_profile(base, k), settings))
+        .collect();
+    let m = line.meter;
+    let mut out = Vec::new();
+    for (i, r) in line.readings.iter().enumerate() {
+        let span = &line.path.spans[r.span];
+        let s = span.s_start + r.along;
+        let k_own = segment_of(base, s);
+        match implied_field(r).0 {
+            Some(e) => {
+                let (at, n) = meter_geometry(span, r.along, r.across, distances[i], r.side);
+                let mut g = Vec::with_capacity(models.len());
+                for model in &models {
+                    let f = model.at(at, false)?;
+                    g.push(f.e[0] * n[0] + f.e[1] * n[1] + f.e[2] * n[2]);
+                }
+                let b: f64 = a0.iter().zip(&g).map(|(a, g)| a * g).sum();
+                let coeffs = t
+                    .iter()
+                    .map(|tj| tj.iter().zip(&g).map(|(a, g)| a * g).sum())
+                    .collect();
+                out.push(Row {
+                    reading: i,
+                    b,
+                    m: coeffs,
+                    r: e,
+                    u: m.accuracy * e.abs() + m.offset,
+                });
+            }
+            None => {
+                let ReadingValue::Sigma(sig) = r.value else {
+                    continue;
+                };
+                let seg = &base.segments[k_own];
+                let shape = crate::charge::decay(s - seg.s_start, base.decay_length)
+                    * base.across.f(r.across);
+                out.push(Row {
+                    reading: i,
+                    b: a0[k_own] * shape,
+                    m: t.iter().map(|tj| tj[k_own] * shape).collect(),
+                    r: sig,
+                    u: m.accuracy * sig.abs() + EPS0 * m.offset,
+                });
+            }
+        }
+    }
+    Ok(out)
+}
+
+/// Solves the weighted normal equations; returns x̂ and P = (MᵀWM)⁻¹MᵀW.
+fn solve(rows: &[Row], n: usize) -> Option<(Vec<f64>, Vec<Vec<f64>>)> {
+    let mut a = vec![vec![0.0; n]; n];
+    for r in rows {
+        let w = 1.0 / (r.u * r.u);
+        for (ai, mi) in a.iter_mut().zip(&r.m) {
+            for (aij, mj) in ai.iter_mut().zip(&r.m) {
+                *aij += w * mi * mj;
+            }
+        }
+    }
+    let inv = invert(a)?;
+    // P = inv · Mᵀ W
+    let p: Vec<Vec<f64>> = (0..n)
+        .map(|i| {
+            rows.iter()
+                .map(|r| (0..n).map(|j| inv[i][j] * r.m[j]).sum::<f64>() / (r.u * r.u))
+                .collect()
+        })
+        .collect();
+    let x = (0..n)
+        .map(|i| {
+            rows.iter()
+                .zip(&p[i])
+                .map(|(r, pij)| pij * (r.r - r.b))
+                .sum()
+        })
+        .collect();
+    Some((x, p))
+}
+
+/// Gauss–Jordan inversion with partial pivoting; `None` when singular.
+fn invert(mut a: Vec<Vec<f64>>) -> Option<Vec<Vec<f64>>> {
+    let n = a.len();
+    let scale = a.iter().flatten().fold(0.0f64, |m, v| m.max(v.abs()));
+    let mut inv: Vec<Vec<f64>> = (0..n)
+        .map(|i| (0..n).map(|j| if i == j { 1.0 } else { 0.0 }).collect())
+        .collect();
+    for c in 0..n {
+        let p = (c..n).max_by(|&i, &j| a[i][c].abs().total_cmp(&a[j][c].abs()))?;
+        if a[p][c].abs().is_nan() || a[p][c].abs() <= 1e-14 * scale {
+            return None;
+        }
+        a.swap(c, p);
+        inv.swap(c, p);
+        let d = a[c][c];
+        for j in 0..n {
+            a[c][j] /= d;
+            inv[c][j] /= d;
+        }
+        for i in 0..n {
+            if i != c {
+                let f = a[i][c];
+                if f != 0.0 {
+                    for j in 0..n {
+                        a[i][j] -= f * a[c][j];
+                        inv[i][j] -= f * inv[c][j];
+                    }
+                }
+            }
+        }
+    }
+    Some(inv)
+}
+
+/// Converts the line's readings; without readings the model's charge is
+/// returned unchanged with an empty table.
+pub fn invert_readings(
+    line: &Line,
+    settings: SolverSettings,
+) -> Result<ReadingsResult, ReadingsError> {
+    let model = charge_profile(line);
+    if line.readings.is_empty() {
+        return Ok(ReadingsResult {
+            charge: model,
+            readings: Vec::new(),
+            segments: Vec::new(),
+            method: String::new(),
+        });
+    }
+    let mut unknowns: Vec<usize> = line
+        .readings
+        .iter()
+        .map(|r| segment_of(&model, line.path.spans[r.span].s_start + r.along))
+        .collect();
+    unknowns.sort_unstable();
+    unknowns.dedup();
+    let n = unknowns.len();
+    let d0: Vec<f64> = line.readings.iter().map(|r| r.distance).collect();
+    let tol = line.meter.distance_tolerance;
+    let dp: Vec<f64> = d0.iter().map(|d| d + tol).collect();
+    let dm: Vec<f64> = d0
+        .iter()
+        .map(|d| if d - tol > 0.0 { d - tol } else { 0.5 * d })
+        .collect();
+    let singular = |k: usize| ReadingsError::Singular(model.segments[k].origin.clone());
+    let r0 = rows(line, &model, &unknowns, &d0, settings)?;
+    let (x, p) = solve(&r0, n).ok_or_else(|| singular(unknowns[0]))?;
+    let mut lo = x.clone();
+    let mut hi = x.clone();
+    if tol > 0.0 {
+        for d in [&dp, &dm] {
+            let rr = rows(line, &model, &unknowns, d, settings)?;
+            if let Some((xd, _)) = solve(&rr, n) {
+                for j in 0..n {
+                    lo[j] = lo[j].min(xd[j]);
+                    hi[j] = hi[j].max(xd[j]);
+                }
+            }
+        }
+    }
+    for j in 0..n {
+        let dx: f64 = p[j].iter().zip(&r0).map(|(pj, r)| pj.abs() * r.u).sum();
+        lo[j] -= dx;
+        hi[j] += dx;
+    }
+    let overrides: Vec<(usize, f64)> = unknowns.iter().copied().zip(x.iter().copied()).collect();
+    let charge = charge_profile_with(line, &overrides);
+
+    let segments = unknowns
+        .iter()
+        .enumerate()
+        .map(|(j, &k)| SegmentFit {
+            index: k,
+            origin: model.segments[k].origin.clone(),
+            s_start: model.segments[k].s_start,
+            predicted: model.segments[k].amplitude,
+            fitted: x[j],
+            low: lo[j],
+            high: hi[j],
+            readings: line
+                .readings
+                .iter()
+                .filter(|r| segment_of(&model, line.path.spans[r.span].s_start + r.along) == k)
+                .count(),
+        })
+        .collect::<Vec<_>>();
+
+    let mut results = Vec::with_capacity(line.readings.len());
+    for (i, r) in line.readings.iter().enumerate() {
+        let span = &line.path.spans[r.span];
+        let s = span.s_start + r.along;
+        let k = segment_of(&model, s);
+        let j = unknowns.iter().position(|&u| u == k).unwrap_or(0);
+        let shape = crate::charge::decay(s - model.segments[k].s_start, model.decay_length)
+            * model.across.f(r.across);
+        let (b1, b2) = (lo[j] * shape, hi[j] * shape);
+        let row = r0.iter().find(|row| row.reading == i);
+        let predicted =
+            row.map(|row| row.b + row.m.iter().zip(&x).map(|(m, x)| m * x).sum::<f64>());
+        let (field, assumed_cal) = implied_field(r);
+        let (reading, reading_text) = match r.value {
+            ReadingValue::Field(e) => (e, format_quantity(e, Dim::Field)),
+            ReadingValue::Voltage(v, c) => (
+                v,
+                format!(
+                    "{} at {}{}",
+                    format_quantity(v, Dim::Voltage),
+                    format_quantity(c.unwrap_or(DEFAULT_CALIBRATION), Dim::Length),
+                    if c.is_none() { " (assumed)" } else { "" }
+                ),
+            ),
+            ReadingValue::Sigma(sg) => (sg, format_quantity(sg, Dim::SurfaceChargeDensity)),
+        };
+        let residual = match (row, predicted) {
+            (Some(row), Some(pred)) => row.r - pred,
+            _ => 0.0,
+        };
+        let uncertainty = row.map(|r| r.u).unwrap_or(0.0);
+        let mut warnings = Vec::new();
+        let near = |node: usize| matches!(line.path.nodes[node].kind, NodeKind::Roller { .. });
+        let clearance = ROLLER_CLEARANCE * r.distance;
+        if (r.along < clearance && near(span.from_node))
+            || (span.length - r.along < clearance && near(span.to_node))
+        {
+            warnings.push(format!(
+                "the meter is within {} meter distances of a roller the web touches: the grounded roller suppresses the reading — take readings mid-span",
+                ROLLER_CLEARANCE
+            ));
+        }
+        if let Some(e) = field
+            && e.abs() >= AIR_BREAKDOWN_FIELD
+        {
+            warnings.push(format!(
+                "the reading implies {}, at or above the 3 MV/m that air can hold: check the unit and the meter",
+                format_quantity(e, Dim::Field)
+            ));
+        }
+        if r.distance > line.web.width / 3.0 {
+            warnings.push("the meter is farther from the web than a third of its width: the reading mostly measures the web's total charge, not its local density".to_string());
+        }
+        if assumed_cal {
+            warnings.push("a voltage reading without `calibrated_at:`: 25 mm (1 inch) assumed, the usual calibration — give the meter's calibrated distance".to_string());
+        }
+        let others = segments.get(j).map(|g| g.readings).unwrap_or(1);
+        if uncertainty > 0.0 && residual.abs() > 3.0 * uncertainty {
+            let why = if others > 1 {
+                "inconsistent with the other readings on this stretch of web: the charge may vary across the web more than the profile says, or a charging point upstream is missing from `charge:`"
+            } else {
+                "the model cannot match it: check the meter position, the side, and the geometry near the meter"
+            };
+            warnings.push(format!(
+                "residual {} is more than 3 times the reading's uncertainty: {why}",
+                if field.is_some() {
+                    format_quantity(residual, Dim::Field)
+                } else {
+                    format_quantity(residual, Dim::SurfaceChargeDensity)
+                }
+            ));
+        }
+        results.push(ReadingResult {
+            id: r.id.clone(),
+            span: span.label(),
+            position: r.along,
+            s,
+            distance: r.distance,
+            at: meter_geometry(span, r.along, r.across, r.distance, r.side).0,
+            reading_text,
+            reading,
+            field,
+            sigma: charge.sigma(s, r.across),
+            sigma_low: b1.min(b2),
+            sigma_high: b1.max(b2),
+            sigma_model: model.sigma(s, r.across),
+            sigma_naive_isolated: field.map(|e| 2.0 * EPS0 * e),
+            sigma_naive_one_sided: field.map(|e| EPS0 * e),
+            residual,
+            uncertainty,
+            warnings,
+        });
+    }
+    Ok(ReadingsResult {
+        charge,
+        readings: results,
+        segments,
+        method: format!(
+            "weighted least squares over {} reading(s) for {} segment density(ies); bounds = exact worst case of the reading errors (accuracy {} of the reading + offset {}, linear in the readings) added to the extremes from moving every meter by ± {}",
+            line.readings.len(),
+            n,
+            format_quantity(line.meter.accuracy, Dim::Percent),
+            format_quantity(line.meter.offset, Dim::Field),
+            format_quantity(tol, Dim::Length)
+        ),
+    })
+}
