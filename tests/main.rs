@@ -11,6 +11,7 @@
 mod analytic;
 mod assess;
 mod cli;
+mod eliminators;
 mod geometry;
 mod reports;
 mod solver;

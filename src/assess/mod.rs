@@ -89,6 +89,7 @@
 //!   ESD-sensitive items.
 //! - The limits themselves: the profiles under `profiles/thresholds/`.
 
+pub mod eliminators;
 pub mod profile;
 
 pub use profile::{
@@ -142,6 +143,8 @@ pub enum SubjectKind {
     Roller,
     /// The web as a whole (material properties).
     Web,
+    /// A static eliminator.
+    Eliminator,
 }
 
 /// One rule applied to one subject.
@@ -793,6 +796,7 @@ pub fn assess(
         }
     }
     let mut findings = run.findings;
+    findings.extend(eliminators::eliminator_findings(line, charge));
     findings.sort_by(|a, b| {
         b.verdict
             .cmp(&a.verdict)

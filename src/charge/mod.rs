@@ -36,7 +36,7 @@
 //! D. J. Griffiths, *Introduction to Electrodynamics*, 4th ed., §7.1;
 //! NFPA 77 annex on charge relaxation).
 
-use crate::model::{ChargeEntry, ChargeMode, Line};
+use crate::model::{ChargeEntry, ChargeMode, Eliminator, EliminatorKind, Line};
 use crate::units::{CoulombsPerSquareMeter, Meters};
 
 /// A stretch of path over which σc follows one relaxation curve.
@@ -128,28 +128,61 @@ pub fn segment_amplitudes(entries: &[ChargeEntry], lambda: Meters) -> Vec<Coulom
     out
 }
 
-/// Builds the charge profile of a validated line.
+/// Builds the charge profile of a validated line, every eliminator taken as
+/// working (whether a passive device ionises depends on the field at its
+/// tips: the readings stage decides that with the solver, see
+/// [`charge_profile_with`]).
 pub fn charge_profile(line: &Line) -> ChargeProfile {
-    charge_profile_with(line, &[])
+    charge_profile_with(line, &[], &vec![true; line.eliminators.len()])
 }
 
-/// Arc lengths where charge segments start: 0 and every distinct place of a
-/// charge entry further down the path [m].
+/// Arc lengths where charge segments start: 0, every distinct place of a
+/// charge entry and every eliminator further down the path [m].
 pub fn segment_starts(line: &Line) -> Vec<Meters> {
-    let mut starts = vec![0.0];
-    for e in &line.charge {
-        if e.s > *starts.last().unwrap_or(&0.0) {
-            starts.push(e.s);
-        }
-    }
+    let mut starts: Vec<Meters> = std::iter::once(0.0)
+        .chain(line.charge.iter().map(|e| e.s))
+        .chain(line.eliminators.iter().map(|e| e.s))
+        .collect();
+    starts.sort_by(f64::total_cmp);
+    starts.dedup();
     starts
 }
 
+/// The density an eliminator leaves, from the density σ arriving [C/m²]:
+///
+/// - powered bar: σ′ = σ·(1 − η) + σ_off (K. Robinson, PFFC: η ≥ 95 %);
+/// - passive device, when it ionises: σ′ = sign(σ)·max(|σ|·(1 − η), σ_res),
+///   never more than |σ| (J. A. McInally, IEEE Trans. Ind. Appl. IA-13(3),
+///   1977: a passive device cannot go below about 1–2 µC/m²); when it does
+///   not ionise, σ′ = σ.
+pub fn neutralise(
+    e: &Eliminator,
+    sigma: CoulombsPerSquareMeter,
+    active: bool,
+) -> CoulombsPerSquareMeter {
+    match e.kind {
+        EliminatorKind::Powered => sigma * (1.0 - e.efficiency) + e.residual,
+        EliminatorKind::Passive if active => {
+            let m = (sigma.abs() * (1.0 - e.efficiency))
+                .max(e.residual)
+                .min(sigma.abs());
+            m.copysign(sigma)
+        }
+        EliminatorKind::Passive => sigma,
+    }
+}
+
 /// The charge profile with the starting density of some segments imposed
-/// (`(segment index, A [C/m²])`, e.g. from meter readings): an imposed
-/// segment ignores the entries that open it; the others set or add as the
-/// entries say, carrying the relaxed density in from upstream.
-pub fn charge_profile_with(line: &Line, overrides: &[(usize, f64)]) -> ChargeProfile {
+/// (`(segment index, A [C/m²])`, e.g. from meter readings) and with each
+/// eliminator working or not (`active[i]` for `line.eliminators[i]`; powered
+/// bars always work). At a segment start the charge entries there apply
+/// first, then the eliminators there; an imposed segment ignores both. The
+/// others carry the relaxed density in from upstream.
+pub fn charge_profile_with(
+    line: &Line,
+    overrides: &[(usize, f64)],
+    active: &[bool],
+) -> ChargeProfile {
     let lambda = line.web.decay_length();
     let total = line.path.total_length;
     let starts = segment_starts(line);
@@ -170,6 +203,21 @@ pub fn charge_profile_with(line: &Line, overrides: &[(usize, f64)]) -> ChargePro
             };
             origin = e.at.clone();
         }
+        for (i, e) in line
+            .eliminators
+            .iter()
+            .enumerate()
+            .filter(|(_, e)| e.s == s0)
+        {
+            let on = active.get(i).copied().unwrap_or(true);
+            a = neutralise(e, a, on);
+            origin = format!(
+                "{} ({} eliminator{})",
+                e.id,
+                e.kind.text(),
+                if on { "" } else { ", not ionising" }
+            );
+        }
         if let Some(&(_, v)) = overrides.iter().find(|(i, _)| *i == k) {
             a = v;
             origin = format!("{origin} (from readings)");
@@ -187,6 +235,14 @@ pub fn charge_profile_with(line: &Line, overrides: &[(usize, f64)]) -> ChargePro
         decay_length: lambda,
         across: line.across.clone(),
     }
+}
+
+/// The charge the entries state with no eliminator at all (for the
+/// "without eliminators" curve).
+pub fn charge_without_eliminators(line: &Line) -> ChargeProfile {
+    let mut bare = line.clone();
+    bare.eliminators.clear();
+    charge_profile(&bare)
 }
 
 #[cfg(test)]

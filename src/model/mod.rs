@@ -450,6 +450,68 @@ impl Default for MeterSpec {
     }
 }
 
+/// What kind of static eliminator.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum EliminatorKind {
+    /// A powered ionising bar (AC or DC).
+    Powered,
+    /// A passive device (tinsel, brush, cord) that ionises by induction.
+    Passive,
+}
+
+impl EliminatorKind {
+    /// The keyword used in the YAML.
+    pub fn text(self) -> &'static str {
+        match self {
+            EliminatorKind::Powered => "powered",
+            EliminatorKind::Passive => "passive",
+        }
+    }
+}
+
+/// Default efficiency of a powered bar [1]: target ≥ 95 % (K. Robinson, PFFC).
+pub const POWERED_EFFICIENCY: f64 = 0.95;
+/// Default efficiency of a passive device [1]: target > 80 % (K. Robinson, PFFC).
+pub const PASSIVE_EFFICIENCY: f64 = 0.80;
+/// Default residual of a passive device [C/m²]: about 1–2 µC/m² (J. A.
+/// McInally, IEEE Trans. Ind. Appl. IA-13(3), 1977); 1.5 µC/m² taken.
+pub const PASSIVE_RESIDUAL: f64 = 1.5e-6;
+/// Web potential at which a passive device starts to ionise [V]: about
+/// 3–5 kV (trade knowledge, from memory — verify); 4 kV taken. The default
+/// onset field at the tips is this divided by the tip distance.
+pub const PASSIVE_ONSET_VOLTAGE: f64 = 4e3;
+/// Default ion output of a powered bar [A/m]: about 1000 µA per metre of bar
+/// (K. Robinson, PFFC).
+pub const POWERED_ION_OUTPUT: f64 = 1e-3;
+
+/// A validated static eliminator.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Eliminator {
+    /// Identifier.
+    pub id: String,
+    /// Powered or passive.
+    pub kind: EliminatorKind,
+    /// Index of the span.
+    pub span: usize,
+    /// Distance along the span from its start [m].
+    pub along: Meters,
+    /// Arc length of the bar's position on the path [m].
+    pub s: Meters,
+    /// Bar (tips) to web [m].
+    pub distance: Meters,
+    /// Side of the span.
+    pub side: Side,
+    /// Fraction of the arriving density removed, η [1].
+    pub efficiency: f64,
+    /// Powered: signed offset added after neutralising; passive: the
+    /// density magnitude it cannot go below [C/m²].
+    pub residual: CoulombsPerSquareMeter,
+    /// Passive: field at the tips needed to ionise [V/m].
+    pub onset: Option<VoltsPerMeter>,
+    /// Powered: ion output per metre of bar [A/m].
+    pub ion_output: f64,
+}
+
 /// A validated line: every field is checked and consistent.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Line {
@@ -477,6 +539,8 @@ pub struct Line {
     pub readings: Vec<Reading>,
     /// Meter accuracy used for every reading.
     pub meter: MeterSpec,
+    /// Static eliminators, in path order.
+    pub eliminators: Vec<Eliminator>,
     /// Problems that are not fatal, to show the user and list in reports.
     pub warnings: Vec<Issue>,
 }

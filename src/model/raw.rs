@@ -89,6 +89,36 @@ pub struct RawLine {
     pub readings: Vec<RawReading>,
     /// Defaults for every reading's meter.
     pub meter: Option<RawMeter>,
+    /// Static eliminators.
+    #[serde(default)]
+    pub eliminators: Vec<RawEliminator>,
+}
+
+/// `eliminators[i]`
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawEliminator {
+    /// Identifier.
+    pub id: Option<Scalar>,
+    /// powered | passive
+    pub kind: Option<Scalar>,
+    /// Span name or `FROM-TO`.
+    pub span: Option<Scalar>,
+    /// Along the span: a percentage or a length from its start.
+    pub position: Option<Scalar>,
+    /// Bar to web, a length.
+    pub distance: Option<Scalar>,
+    /// above | below
+    pub side: Option<Scalar>,
+    /// Fraction of the arriving charge removed, a percentage.
+    pub efficiency: Option<Scalar>,
+    /// Powered: density left over (offset, signed); passive: the density it
+    /// cannot go below.
+    pub residual: Option<Scalar>,
+    /// Passive: field at the tips below which it does not ionise.
+    pub onset: Option<Scalar>,
+    /// Powered: ion output per metre of bar (a current per length, in µA/m).
+    pub ion_output: Option<Scalar>,
 }
 
 /// `readings[i]`

@@ -191,6 +191,7 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
     let assess = validate_assess(&mut ctx, raw);
     let meter = validate_meter(&mut ctx, raw);
     let readings = validate_readings(&mut ctx, raw, &path, &rollers, &web, ground_plane);
+    let eliminators = validate_eliminators(&mut ctx, raw, &path, &rollers, &web, ground_plane);
 
     if !ctx.issues.is_empty() {
         return Err(ValidationError { issues: ctx.issues });
@@ -208,6 +209,7 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
         assess,
         readings,
         meter,
+        eliminators,
         warnings: ctx.warnings,
     })
 }
@@ -1244,5 +1246,206 @@ fn validate_readings(
             value,
         });
     }
+    out
+}
+
+/// A span and a position along it (`50 %` or a length), checked.
+fn span_position(
+    ctx: &mut Ctx,
+    path: &WebPath,
+    span: &Option<Scalar>,
+    position: &Option<Scalar>,
+    p: &str,
+) -> Option<(usize, f64)> {
+    let k = match ctx.need(
+        span,
+        &format!("{p}.span"),
+        "a span name such as \"S3\" or \"R2-R3\"",
+    ) {
+        None => None,
+        Some(s) => match path.span_index(s.as_str()) {
+            Some(k) => Some(k),
+            None => {
+                let names: Vec<String> = path.spans.iter().map(|s| s.label()).collect();
+                ctx.err(
+                    format!("{p}.span"),
+                    format!(
+                        "unknown span \"{}\": expected one of {}",
+                        s.as_str().trim(),
+                        names.join(", ")
+                    ),
+                );
+                None
+            }
+        },
+    };
+    let Some(pos) = position else {
+        ctx.err(
+            format!("{p}.position"),
+            "missing: expected a percentage of the span such as \"50 %\" or a length from its start such as \"400 mm\"",
+        );
+        return None;
+    };
+    let k = k?;
+    let len = path.spans[k].length;
+    let v = if pos.as_str().trim().ends_with('%') {
+        ctx.qty(pos, Dim::Percent, &format!("{p}.position"))
+            .map(|f| f * len)
+    } else {
+        ctx.qty(pos, Dim::Length, &format!("{p}.position"))
+    }?;
+    if !(0.0..=len).contains(&v) {
+        ctx.err(
+            format!("{p}.position"),
+            format!(
+                "{} is outside span {} ({} long): expected 0 % to 100 % or a length up to the span's length",
+                crate::units::format_quantity(v, Dim::Length),
+                path.spans[k].label(),
+                crate::units::format_quantity(len, Dim::Length)
+            ),
+        );
+        return None;
+    }
+    Some((k, v))
+}
+
+fn validate_eliminators(
+    ctx: &mut Ctx,
+    raw: &RawLine,
+    path: &WebPath,
+    rollers: &[Roller],
+    web: &Web,
+    ground: Option<f64>,
+) -> Vec<Eliminator> {
+    let mut out: Vec<Eliminator> = Vec::new();
+    for (i, e) in raw.eliminators.iter().enumerate() {
+        let p = format!("eliminators[{i}]");
+        let id = ctx.id(&e.id, &format!("{p}.id"));
+        if let Some(id) = &id
+            && out.iter().any(|o| &o.id == id)
+        {
+            ctx.err(
+                format!("{p}.id"),
+                format!("duplicate eliminator id \"{id}\""),
+            );
+        }
+        let kind = keyword(ctx, &e.kind, &format!("{p}.kind"), &["powered", "passive"]).map(|k| {
+            if k == "powered" {
+                EliminatorKind::Powered
+            } else {
+                EliminatorKind::Passive
+            }
+        });
+        let place = span_position(ctx, path, &e.span, &e.position, &p);
+        let distance = ctx.req_qty(&e.distance, Dim::Length, &format!("{p}.distance"));
+        let distance = ctx.positive(distance, Dim::Length, &format!("{p}.distance"));
+        let side = keyword(ctx, &e.side, &format!("{p}.side"), &["above", "below"]).map(|s| {
+            if s == "above" {
+                Side::Above
+            } else {
+                Side::Below
+            }
+        });
+        let efficiency = match &e.efficiency {
+            None => None,
+            Some(v) => match ctx.qty(v, Dim::Percent, &format!("{p}.efficiency")) {
+                Some(x) if (0.0..=1.0).contains(&x) => Some(x),
+                Some(_) => {
+                    ctx.err(
+                        format!("{p}.efficiency"),
+                        "expected a percentage from 0 % to 100 %, such as \"95 %\"",
+                    );
+                    None
+                }
+                None => None,
+            },
+        };
+        let residual = e
+            .residual
+            .as_ref()
+            .and_then(|v| ctx.qty(v, Dim::SurfaceChargeDensity, &format!("{p}.residual")));
+        let onset = e
+            .onset
+            .as_ref()
+            .and_then(|v| ctx.qty(v, Dim::Field, &format!("{p}.onset")));
+        let onset = onset.and_then(|v| ctx.positive(Some(v), Dim::Field, &format!("{p}.onset")));
+        let ion_output = match &e.ion_output {
+            None => Some(POWERED_ION_OUTPUT),
+            Some(v) => {
+                let t = v.as_str().trim();
+                let num = t
+                    .strip_suffix("uA/m")
+                    .or_else(|| t.strip_suffix("µA/m"))
+                    .or_else(|| t.strip_suffix("μA/m"))
+                    .and_then(|n| n.trim().parse::<f64>().ok())
+                    .filter(|x| x.is_finite() && *x > 0.0);
+                if num.is_none() {
+                    ctx.err(
+                        format!("{p}.ion_output"),
+                        format!("expected a positive ion output per metre of bar such as \"1000 uA/m\", got \"{t}\""),
+                    );
+                }
+                num.map(|x| x * 1e-6)
+            }
+        };
+        let (
+            Some(id),
+            Some(kind),
+            Some((span, along)),
+            Some(distance),
+            Some(side),
+            Some(ion_output),
+        ) = (id, kind, place, distance, side, ion_output)
+        else {
+            continue;
+        };
+        if kind == EliminatorKind::Powered && e.onset.is_some() {
+            ctx.err(
+                format!("{p}.onset"),
+                "an onset belongs to passive devices (kind: passive)",
+            );
+            continue;
+        }
+        let (at, _) = meter_geometry(&path.spans[span], along, 0.0, distance, side);
+        if let Some(msg) = point_problem(path, rollers, web.width, ground, at) {
+            ctx.err(
+                format!("{p}.distance"),
+                format!(
+                    "the bar would stand at [{:.4} m, {:.4} m]: {msg}",
+                    at[0], at[2]
+                ),
+            );
+            continue;
+        }
+        let (default_eff, default_res) = match kind {
+            EliminatorKind::Powered => (POWERED_EFFICIENCY, 0.0),
+            EliminatorKind::Passive => (PASSIVE_EFFICIENCY, PASSIVE_RESIDUAL),
+        };
+        let residual = residual.unwrap_or(default_res);
+        if kind == EliminatorKind::Passive && residual < 0.0 {
+            ctx.err(
+                format!("{p}.residual"),
+                "a passive device's residual is a magnitude: expected zero or more",
+            );
+            continue;
+        }
+        out.push(Eliminator {
+            id,
+            kind,
+            span,
+            along,
+            s: path.spans[span].s_start + along,
+            distance,
+            side,
+            efficiency: efficiency.unwrap_or(default_eff),
+            residual,
+            onset: match kind {
+                EliminatorKind::Passive => Some(onset.unwrap_or(PASSIVE_ONSET_VOLTAGE / distance)),
+                EliminatorKind::Powered => None,
+            },
+            ion_output,
+        });
+    }
+    out.sort_by(|a, b| a.s.total_cmp(&b.s));
     out
 }

@@ -48,7 +48,7 @@
 //! meter practice (reading ÷ calibrated distance, mid-span readings): K.
 //! Robinson, PFFC "Static Beat" 2010 and 2019; NFPA 77 (2000) 5.4.
 
-use crate::charge::{ChargeProfile, charge_profile, charge_profile_with};
+use crate::charge::{ChargeProfile, charge_profile_with};
 use crate::field::{FieldError, FieldModel, SolverSettings};
 use crate::model::validate::{AIR_BREAKDOWN_FIELD, meter_geometry};
 use crate::model::{Line, NodeKind, Reading, ReadingValue};
@@ -136,6 +136,8 @@ pub struct ReadingsResult {
     pub segments: Vec<SegmentFit>,
     /// How the bounds were computed, in words.
     pub method: String,
+    /// What every eliminator does.
+    pub eliminators: Vec<EliminatorState>,
 }
 
 /// Errors of the inversion.
@@ -196,11 +198,12 @@ fn rows(
     base: &ChargeProfile,
     unknowns: &[usize],
     distances: &[f64],
+    active: &[bool],
     settings: SolverSettings,
 ) -> Result<Vec<Row>, FieldError> {
     // A(x) = A0 + Σ_j x_j T_j.
     let zero: Vec<(usize, f64)> = unknowns.iter().map(|&k| (k, 0.0)).collect();
-    let a0: Vec<f64> = charge_profile_with(line, &zero)
+    let a0: Vec<f64> = charge_profile_with(line, &zero, active)
         .segments
         .iter()
         .map(|g| g.amplitude)
@@ -212,7 +215,7 @@ fn rows(
                 .iter()
                 .map(|&k| (k, if k == kj { 1.0 } else { 0.0 }))
                 .collect();
-            charge_profile_with(line, &ov)
+            charge_profile_with(line, &ov, active)
                 .segments
                 .iter()
                 .zip(&a0)
@@ -335,19 +338,99 @@ fn invert(mut a: Vec<Vec<f64>>) -> Option<Vec<Vec<f64>>> {
     Some(inv)
 }
 
+/// What an eliminator does on this line.
+#[derive(Debug, Clone, PartialEq)]
+pub struct EliminatorState {
+    /// Index into `line.eliminators`.
+    pub index: usize,
+    /// Centreline density arriving [C/m²].
+    pub sigma_in: f64,
+    /// Centreline density leaving [C/m²].
+    pub sigma_out: f64,
+    /// Passive: |E| at the tips from the charge arriving there [V/m].
+    pub tip_field: Option<f64>,
+    /// Whether it ionises (always for powered bars).
+    pub active: bool,
+}
+
+/// Decides, in path order, whether each passive device ionises: the field
+/// at its tips, computed from the charge as it arrives there (upstream
+/// devices applied, this and later passive devices not), must reach its
+/// onset. Returns the activity flags and the tip fields.
+pub fn passive_activity(
+    line: &Line,
+    overrides: &[(usize, f64)],
+    settings: SolverSettings,
+) -> Result<(Vec<bool>, Vec<Option<f64>>), FieldError> {
+    use crate::model::EliminatorKind;
+    let n = line.eliminators.len();
+    let mut active: Vec<bool> = line
+        .eliminators
+        .iter()
+        .map(|e| e.kind == EliminatorKind::Powered)
+        .collect();
+    let mut tips = vec![None; n];
+    for i in 0..n {
+        let e = &line.eliminators[i];
+        if e.kind != EliminatorKind::Passive {
+            continue;
+        }
+        let profile = charge_profile_with(line, overrides, &active);
+        let model = FieldModel::new(line, &profile, settings);
+        let (tip, _) = meter_geometry(&line.path.spans[e.span], e.along, 0.0, e.distance, e.side);
+        let f = model.at(tip, false)?.e_magnitude();
+        tips[i] = Some(f);
+        active[i] = f >= e.onset.unwrap_or(f64::INFINITY);
+    }
+    Ok((active, tips))
+}
+
+/// The density arriving at and leaving every eliminator.
+fn eliminator_states(
+    line: &Line,
+    charge: &ChargeProfile,
+    active: &[bool],
+    tips: &[Option<f64>],
+) -> Vec<EliminatorState> {
+    line.eliminators
+        .iter()
+        .enumerate()
+        .map(|(i, e)| {
+            let k = segment_of(charge, e.s);
+            let before = if k == 0 {
+                0.0
+            } else {
+                let g = &charge.segments[k - 1];
+                g.amplitude * crate::charge::decay(g.s_end - g.s_start, charge.decay_length)
+            };
+            EliminatorState {
+                index: i,
+                sigma_in: before,
+                sigma_out: charge.segments[k].amplitude,
+                tip_field: tips.get(i).copied().flatten(),
+                active: active.get(i).copied().unwrap_or(true),
+            }
+        })
+        .collect()
+}
+
 /// Converts the line's readings; without readings the model's charge is
-/// returned unchanged with an empty table.
+/// returned (with the passive devices' activity decided by the solver) and
+/// an empty table.
 pub fn invert_readings(
     line: &Line,
     settings: SolverSettings,
 ) -> Result<ReadingsResult, ReadingsError> {
-    let model = charge_profile(line);
+    let (mut active, mut tips) = passive_activity(line, &[], settings)?;
+    let model = charge_profile_with(line, &[], &active);
     if line.readings.is_empty() {
+        let eliminators = eliminator_states(line, &model, &active, &tips);
         return Ok(ReadingsResult {
             charge: model,
             readings: Vec::new(),
             segments: Vec::new(),
             method: String::new(),
+            eliminators,
         });
     }
     let mut unknowns: Vec<usize> = line
@@ -366,13 +449,13 @@ pub fn invert_readings(
         .map(|d| if d - tol > 0.0 { d - tol } else { 0.5 * d })
         .collect();
     let singular = |k: usize| ReadingsError::Singular(model.segments[k].origin.clone());
-    let r0 = rows(line, &model, &unknowns, &d0, settings)?;
+    let r0 = rows(line, &model, &unknowns, &d0, &active, settings)?;
     let (x, p) = solve(&r0, n).ok_or_else(|| singular(unknowns[0]))?;
     let mut lo = x.clone();
     let mut hi = x.clone();
     if tol > 0.0 {
         for d in [&dp, &dm] {
-            let rr = rows(line, &model, &unknowns, d, settings)?;
+            let rr = rows(line, &model, &unknowns, d, &active, settings)?;
             if let Some((xd, _)) = solve(&rr, n) {
                 for j in 0..n {
                     lo[j] = lo[j].min(xd[j]);
@@ -387,7 +470,13 @@ pub fn invert_readings(
         hi[j] += dx;
     }
     let overrides: Vec<(usize, f64)> = unknowns.iter().copied().zip(x.iter().copied()).collect();
-    let charge = charge_profile_with(line, &overrides);
+    // The fitted charge may change what a passive device downstream sees.
+    let (active2, tips2) = passive_activity(line, &overrides, settings)?;
+    if active2 != active {
+        active = active2;
+    }
+    tips = tips2;
+    let charge = charge_profile_with(line, &overrides, &active);
 
     let segments = unknowns
         .iter()
@@ -501,7 +590,9 @@ pub fn invert_readings(
             warnings,
         });
     }
+    let eliminators = eliminator_states(line, &charge, &active, &tips);
     Ok(ReadingsResult {
+        eliminators,
         charge,
         readings: results,
         segments,

@@ -126,6 +126,8 @@ pub struct Report {
     pub reading_segments: Vec<SegmentFit>,
     /// How the reading bounds were computed.
     pub reading_method: String,
+    /// What every eliminator does (density in and out, ionising or not).
+    pub eliminators: Vec<crate::readings::EliminatorState>,
 }
 
 /// SHA-256 of bytes as lower-case hex.
@@ -298,6 +300,7 @@ pub fn build_report(
         readings: readings.readings.clone(),
         reading_segments: readings.segments.clone(),
         reading_method: readings.method.clone(),
+        eliminators: readings.eliminators.clone(),
     }
 }
 
@@ -340,6 +343,10 @@ fn recommendations(line: &Line, findings: &[Finding]) -> Vec<String> {
                     f.subject, f.check
                 ))
             }
+            SubjectKind::Eliminator => push(format!(
+                "{urgency}: eliminator {} — {} ({}).",
+                f.subject, f.check, f.note
+            )),
             SubjectKind::Web => push(format!("{urgency}: {} — {}.", f.check, f.note)),
         }
     }

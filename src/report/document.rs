@@ -81,6 +81,54 @@ pub fn margin_text(m: f64) -> String {
     }
 }
 
+fn eliminator_table(r: &Report) -> Block {
+    let sd = |x: f64| format_quantity(x, Dim::SurfaceChargeDensity);
+    table(
+        &[
+            "eliminator",
+            "kind",
+            "span",
+            "position",
+            "distance",
+            "side",
+            "η",
+            "residual",
+            "σ in",
+            "σ out",
+            "ionising",
+        ],
+        r.line
+            .eliminators
+            .iter()
+            .enumerate()
+            .map(|(i, e)| {
+                let st = r.eliminators.iter().find(|s| s.index == i);
+                vec![
+                    e.id.clone(),
+                    e.kind.text().to_string(),
+                    r.line.path.spans[e.span].label(),
+                    len_text(e.along),
+                    len_text(e.distance),
+                    e.side.text().to_string(),
+                    format_quantity(e.efficiency, Dim::Percent),
+                    sd(e.residual),
+                    st.map(|s| sd(s.sigma_in)).unwrap_or_default(),
+                    st.map(|s| sd(s.sigma_out)).unwrap_or_default(),
+                    match (st, e.onset) {
+                        (Some(s), Some(on)) => format!(
+                            "{} (tips {} / onset {})",
+                            if s.active { "yes" } else { "no" },
+                            format_si(s.tip_field.unwrap_or(0.0), "V/m"),
+                            format_si(on, "V/m")
+                        ),
+                        _ => "yes (powered)".into(),
+                    },
+                ]
+            })
+            .collect(),
+    )
+}
+
 fn reading_table(r: &Report) -> Block {
     let sd = |x: f64| format_quantity(x, Dim::SurfaceChargeDensity);
     let ratio = |n: Option<f64>, g: f64| match n {
@@ -366,6 +414,12 @@ pub fn layout(r: &Report) -> Vec<Section> {
                 )
             }),
             reading_table(r),
+            Block::Para(if line.eliminators.is_empty() {
+                "Static eliminators: none.".to_string()
+            } else {
+                "Static eliminators (models: powered σ′ = σ·(1 − η) + offset; passive σ′ = max(|σ|·(1 − η), residual) while the field at its tips reaches the onset — K. Robinson, PFFC; J. A. McInally 1977; the passive onset default is from memory, verify):".to_string()
+            }),
+            eliminator_table(r),
             Block::Para("Threshold profiles in force:".into()),
             table(&["profile", "title", "rules", "origin"], profiles),
         ],

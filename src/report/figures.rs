@@ -6,7 +6,8 @@
 use crate::charge::ChargeProfile;
 use crate::model::{Line, NodeKind};
 use crate::report::plot::{
-    ChargeCurve, FieldGrid, PlotArc, PlotPoint, PlotRoller, PlotSpan, PlotZone, SideView,
+    ChargeCurve, FieldGrid, PlotArc, PlotMarker, PlotPoint, PlotRoller, PlotSpan, PlotZone,
+    SideView,
 };
 
 /// The side view of the line.
@@ -77,7 +78,25 @@ pub fn side_view(line: &Line, charge: &ChargeProfile) -> SideView {
                 z: p.at[2],
             })
             .collect(),
-        markers: Vec::new(),
+        markers: line
+            .eliminators
+            .iter()
+            .map(|e| {
+                let (at, _) = crate::model::validate::meter_geometry(
+                    &line.path.spans[e.span],
+                    e.along,
+                    0.0,
+                    e.distance,
+                    e.side,
+                );
+                PlotMarker {
+                    id: e.id.clone(),
+                    x: at[0],
+                    z: at[2],
+                    label: format!("{} ({})", e.id, e.kind.text()),
+                }
+            })
+            .collect(),
         ground: line.ground_plane,
     }
 }
@@ -167,13 +186,22 @@ pub fn charge_curve(
             (line.path.departure_s[i], label)
         })
         .collect();
+    let extra = if line.eliminators.is_empty() {
+        Vec::new()
+    } else {
+        let bare = crate::charge::charge_without_eliminators(line);
+        vec![(
+            "σc without eliminators".to_string(),
+            s.iter().map(|&x| bare.sigma_c(x)).collect(),
+        )]
+    };
     ChargeCurve {
         s,
         sigma_c,
         sigma_peak,
         nodes,
         limits,
-        extra: Vec::new(),
+        extra,
         markers: Vec::new(),
     }
 }
