@@ -37,6 +37,7 @@ use crate::units::{Dim, format_quantity, format_si};
 /// Name under which these findings are listed.
 pub const PROFILE: &str = "eliminators";
 
+#[allow(clippy::too_many_arguments)]
 fn finding(
     rule: &str,
     check: &str,
