@@ -28,6 +28,7 @@ pub mod cli;
 pub mod error;
 pub mod field;
 pub mod model;
+pub mod plan;
 pub mod readings;
 pub mod report;
 pub mod units;

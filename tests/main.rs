@@ -13,6 +13,7 @@ mod assess;
 mod cli;
 mod eliminators;
 mod geometry;
+mod readings;
 mod reports;
 mod solver;
 mod util;

@@ -98,7 +98,7 @@ pub use profile::{
 };
 
 use crate::charge::ChargeProfile;
-use crate::field::{FieldError, FieldMap, FieldModel, PointField, SpanContribution};
+use crate::field::{FieldAt, FieldError, FieldMap, PointField, SpanContribution};
 use crate::model::validate::distance_to_span;
 use crate::model::{Earthing, Line, Point, Roller, Span, Zone};
 use crate::units::{Dim, EPS0, Farads, Joules, Meters, Volts, format_quantity};
@@ -315,7 +315,7 @@ fn box_distance(a: ([f64; 3], [f64; 3]), b: ([f64; 3], [f64; 3])) -> f64 {
 struct Run<'a> {
     line: &'a Line,
     charge: &'a ChargeProfile,
-    model: &'a FieldModel,
+    model: &'a dyn FieldAt,
     fields: &'a [PointField],
     findings: Vec<Finding>,
     assumptions: Vec<String>,
@@ -601,7 +601,7 @@ impl<'a> Run<'a> {
                     y,
                     span.start[1] + u * dir[1] + WEB_OFFSET * n[1],
                 ];
-                match self.model.at(q, false) {
+                match self.model.field_at(q, false) {
                     Ok(f) => best = Some(best.unwrap_or(0.0).max(f.v.abs())),
                     // Near another span's end (a sharp turn at a free point)
                     // a sample may sit on that span: skip that sample.
@@ -767,7 +767,7 @@ fn sorted_contributions(f: &PointField) -> Vec<SpanContribution> {
 pub fn assess(
     line: &Line,
     charge: &ChargeProfile,
-    model: &FieldModel,
+    model: &dyn FieldAt,
     points: &FieldMap,
     profiles: &[ThresholdProfile],
 ) -> Result<Assessment, FieldError> {
@@ -778,7 +778,7 @@ pub fn assess(
         recomputed = line
             .points
             .iter()
-            .map(|p| model.at(p.at, true))
+            .map(|p| model.field_at(p.at, true))
             .collect::<Result<Vec<_>, _>>()?;
         &recomputed
     };

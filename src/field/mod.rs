@@ -115,6 +115,12 @@ pub enum FieldError {
         /// Its distance from the span [m].
         distance: Meters,
     },
+    /// A precomputed superposition was asked for a point it does not hold.
+    #[error("internal: no precomputed field at [{x:.6} m, {y:.6} m, {z:.6} m]", x = at[0], y = at[1], z = at[2])]
+    NotPrecomputed {
+        /// The point [m].
+        at: [Meters; 3],
+    },
     /// The numerical integration did not reach its tolerance.
     #[error("span {span} at [{x:.6} m, {y:.6} m, {z:.6} m]: {source}", x = at[0], y = at[1], z = at[2])]
     NotConverged {
@@ -349,6 +355,19 @@ fn charged_span(s: &Span, charge: &ChargeProfile, across: &[QuadPiece], width: f
         length: s.length,
         half_width: width / 2.0,
         patches,
+    }
+}
+
+/// Anything that gives the field and potential at a point: the solver
+/// itself ([`FieldModel`]) or a precomputed superposition (the planner's).
+pub trait FieldAt: Sync {
+    /// Field and potential at `at`; with `contributions`, also per span.
+    fn field_at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError>;
+}
+
+impl FieldAt for FieldModel {
+    fn field_at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError> {
+        self.at(at, contributions)
     }
 }
 

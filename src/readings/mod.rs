@@ -23,10 +23,11 @@
 //! $$ \hat x = (M^T W M)^{-1} M^T W (r - b), \qquad W = \mathrm{diag}(u_m^{-2}). $$
 //!
 //! Uncertainty: x̂ is linear in the readings, x̂ = P (r − b), so a box of
-//! reading errors |δr_m| ≤ u_m gives the exact bounds |δx_j| ≤ Σ_m |P_jm| u_m;
-//! the distance tolerance is taken by solving again with every meter moved by
-//! ± its tolerance and widening the bounds to the extremes (the field falls
-//! monotonically with distance). The naive infinite-sheet values
+//! reading errors |δr_m| ≤ u_m gives the exact bounds |δx_j| ≤ Σ_m |P_jm| u_m.
+//! The distance tolerance enters through P and b: the fit is solved again
+//! with the meters at every combination of ± their tolerance (the field
+//! falls monotonically with distance, so the extremes lie at the corners),
+//! and the bounds are the extremes over those corners of x̂ ± Σ|P|u. The naive infinite-sheet values
 //! σ = 2ε0·E (isolated sheet) and σ = ε0·E (all field on one side, Gauss's
 //! law) are shown beside the result.
 //!
@@ -57,6 +58,10 @@ use crate::units::{Dim, EPS0, Meters, format_quantity};
 /// Calibrated distance assumed for a voltage reading that gives none [m]
 /// (25 mm = 1 inch, the usual calibration of hand-held meters; FACTS.md).
 pub const DEFAULT_CALIBRATION: Meters = 0.025;
+
+/// Up to this many meters, the bounds try every combination of meter
+/// distances at ± the tolerance (2^M solves); beyond, one meter at a time.
+pub const MAX_CORNER_METERS: usize = 8;
 
 /// Readings closer to a roller node than this many meter distances are
 /// warned about (common practice: take readings mid-span).
@@ -443,31 +448,52 @@ pub fn invert_readings(
     let n = unknowns.len();
     let d0: Vec<f64> = line.readings.iter().map(|r| r.distance).collect();
     let tol = line.meter.distance_tolerance;
-    let dp: Vec<f64> = d0.iter().map(|d| d + tol).collect();
-    let dm: Vec<f64> = d0
-        .iter()
-        .map(|d| if d - tol > 0.0 { d - tol } else { 0.5 * d })
-        .collect();
-    let singular = |k: usize| ReadingsError::Singular(model.segments[k].origin.clone());
-    let r0 = rows(line, &model, &unknowns, &d0, &active, settings)?;
-    let (x, p) = solve(&r0, n).ok_or_else(|| singular(unknowns[0]))?;
-    let mut lo = x.clone();
-    let mut hi = x.clone();
+    let moved = |d: f64, sign: f64| {
+        if d + sign * tol > 0.0 {
+            d + sign * tol
+        } else {
+            0.5 * d
+        }
+    };
+    // Distance sets: nominal, then every combination of ± tolerance per
+    // meter (up to MAX_CORNER_METERS meters), else one meter at a time.
+    let m = d0.len();
+    let mut sets: Vec<Vec<f64>> = vec![d0.clone()];
     if tol > 0.0 {
-        for d in [&dp, &dm] {
-            let rr = rows(line, &model, &unknowns, d, &active, settings)?;
-            if let Some((xd, _)) = solve(&rr, n) {
-                for j in 0..n {
-                    lo[j] = lo[j].min(xd[j]);
-                    hi[j] = hi[j].max(xd[j]);
+        if m <= MAX_CORNER_METERS {
+            for mask in 0..(1usize << m) {
+                sets.push(
+                    (0..m)
+                        .map(|i| moved(d0[i], if mask >> i & 1 == 1 { 1.0 } else { -1.0 }))
+                        .collect(),
+                );
+            }
+        } else {
+            for i in 0..m {
+                for sign in [1.0, -1.0] {
+                    let mut d = d0.clone();
+                    d[i] = moved(d0[i], sign);
+                    sets.push(d);
                 }
             }
         }
     }
-    for j in 0..n {
-        let dx: f64 = p[j].iter().zip(&r0).map(|(pj, r)| pj.abs() * r.u).sum();
-        lo[j] -= dx;
-        hi[j] += dx;
+    let singular = |k: usize| ReadingsError::Singular(model.segments[k].origin.clone());
+    let r0 = rows(line, &model, &unknowns, &d0, &active, settings)?;
+    let (x, _) = solve(&r0, n).ok_or_else(|| singular(unknowns[0]))?;
+    let mut lo = x.clone();
+    let mut hi = x.clone();
+    for d in &sets {
+        let rr = rows(line, &model, &unknowns, d, &active, settings)?;
+        let Some((xd, pd)) = solve(&rr, n) else {
+            continue;
+        };
+        for j in 0..n {
+            // Exact worst case of the reading errors at these distances.
+            let dx: f64 = pd[j].iter().zip(&rr).map(|(pj, r)| pj.abs() * r.u).sum();
+            lo[j] = lo[j].min(xd[j] - dx);
+            hi[j] = hi[j].max(xd[j] + dx);
+        }
     }
     let overrides: Vec<(usize, f64)> = unknowns.iter().copied().zip(x.iter().copied()).collect();
     // The fitted charge may change what a passive device downstream sees.
@@ -597,7 +623,7 @@ pub fn invert_readings(
         readings: results,
         segments,
         method: format!(
-            "weighted least squares over {} reading(s) for {} segment density(ies); bounds = exact worst case of the reading errors (accuracy {} of the reading + offset {}, linear in the readings) added to the extremes from moving every meter by ± {}",
+            "weighted least squares over {} reading(s) for {} segment density(ies); bounds = the exact worst case of the reading errors (accuracy {} of the displayed reading + offset {}; the fit is linear in the readings) at every combination of meter distances moved by ± {} (one meter at a time beyond 8 meters)",
             line.readings.len(),
             n,
             format_quantity(line.meter.accuracy, Dim::Percent),

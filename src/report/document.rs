@@ -384,8 +384,7 @@ pub fn layout(r: &Report) -> Vec<Section> {
             ]
         })
         .collect();
-    out.push(sec(
-        "Inputs",
+    let mut inputs = {
         vec![
             Block::Para("Web and line:".into()),
             table(&["property", "value"], web_rows),
@@ -405,25 +404,30 @@ pub fn layout(r: &Report) -> Vec<Section> {
                 &["id", "name", "zone", "gas group", "MIE", "from", "to"],
                 zones,
             ),
-            Block::Para(if r.readings.is_empty() {
-                "Meter readings: none — the charge is as the charge entries state.".to_string()
-            } else {
-                format!(
-                    "Meter readings converted to surface charge density with the line's geometry (all spans and images), beside the infinite-sheet rule; σ is the density at the meter's foot, {}:",
-                    r.reading_method
-                )
-            }),
-            reading_table(r),
-            Block::Para(if line.eliminators.is_empty() {
-                "Static eliminators: none.".to_string()
-            } else {
-                "Static eliminators (models: powered σ′ = σ·(1 − η) + offset; passive σ′ = max(|σ|·(1 − η), residual) while the field at its tips reaches the onset — K. Robinson, PFFC; J. A. McInally 1977; the passive onset default is from memory, verify):".to_string()
-            }),
-            eliminator_table(r),
-            Block::Para("Threshold profiles in force:".into()),
-            table(&["profile", "title", "rules", "origin"], profiles),
-        ],
-    ));
+        ]
+    };
+    inputs.push(Block::Para(if r.readings.is_empty() {
+        "Meter readings: none — the charge is as the charge entries state.".to_string()
+    } else {
+        format!(
+            "Meter readings converted to surface charge density with the line's geometry (all spans and images), beside the infinite-sheet rule; σ is the density at the meter's foot, {}:",
+            r.reading_method
+        )
+    }));
+    if !r.readings.is_empty() {
+        inputs.push(reading_table(r));
+    }
+    inputs.push(Block::Para(if line.eliminators.is_empty() {
+        "Static eliminators: none.".to_string()
+    } else {
+        "Static eliminators (models: powered σ′ = σ·(1 − η) + offset; passive σ′ = max(|σ|·(1 − η), residual) while the field at its tips reaches the onset — K. Robinson, PFFC; J. A. McInally 1977; the passive onset default is from memory, verify):".to_string()
+    }));
+    if !line.eliminators.is_empty() {
+        inputs.push(eliminator_table(r));
+    }
+    inputs.push(Block::Para("Threshold profiles in force:".into()));
+    inputs.push(table(&["profile", "title", "rules", "origin"], profiles));
+    out.push(sec("Inputs", inputs));
 
     let span_rows = r
         .spans
