@@ -6,8 +6,8 @@
 
 use crate::charge::ChargeProfile;
 use crate::cli::{
-    AssessArgs, CheckArgs, Cli, Command, DemoArgs, FieldArgs, OutputFormat, ProfilesArgs,
-    ReadingsArgs,
+    AssessArgs, BarKind, CheckArgs, Cli, Command, DemoArgs, FieldArgs, OutputFormat, PlanArgs,
+    ProfilesArgs, ReadingsArgs,
 };
 use crate::error::Outcome;
 use crate::field::{ASSUMPTIONS, FieldModel, PointField, SolverSettings};
@@ -35,6 +35,7 @@ pub fn run(cli: Cli) -> Result<Outcome> {
         Command::Assess(a) => assess_cmd(&a),
         Command::Profiles(a) => profiles_cmd(&a),
         Command::Readings(a) => readings_cmd(&a),
+        Command::Plan(a) => plan_cmd(&a),
         Command::Demo(a) => demo(&a),
     }
 }
@@ -453,6 +454,8 @@ struct AssessJob<'a> {
     out: &'a Path,
     settings: SolverSettings,
     map_resolution: usize,
+    /// Plan up to this many bars when a limit fails.
+    plan: Option<usize>,
 }
 
 /// Checks that the output folder can be written before the long work.
@@ -603,7 +606,44 @@ fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::asse
         &assessment,
         job.map_resolution,
     )?;
-    let report = build::build_report(
+    let mut plots = plots;
+    let mut plan_section = None;
+    if let Some(n) = job.plan
+        && assessment.verdict == crate::assess::Verdict::Fail
+    {
+        let mut st = crate::plan::PlanSettings::new(job.settings);
+        st.max_bars = n.max(1);
+        st.spacing = 0.25;
+        let plan = crate::plan::plan(line, &profiles, &st, &|_, _| {})?;
+        if let Some(best) = plan.options.first() {
+            let planning = crate::plan::planning_line(line, job.settings)?;
+            let bars: Vec<_> = best
+                .bars
+                .iter()
+                .map(|&b| plan.candidates[b].clone())
+                .collect();
+            let placed = crate::plan::apply(&planning, &bars);
+            let (pc, _) = line_charge(&placed, job.settings)?;
+            let side = crate::report::figures::side_view(&placed, &pc);
+            let (xr, zr) = crate::report::figures::extent(&placed);
+            let h = crate::report::figures::picture_height(xr, zr, 1400);
+            let curve = crate::report::figures::charge_curve(&placed, &pc, Vec::new());
+            plots.push(build::Plot {
+                file: "side_view_planned.png".into(),
+                caption: "Side view with the best plan's bars".into(),
+                png: crate::report::plot::side_view_png(&side, 1400, h)?,
+            });
+            plots.push(build::Plot {
+                file: "charge_along_path_planned.png".into(),
+                caption:
+                    "Charge density along the path with the best plan's bars, and without them"
+                        .into(),
+                png: crate::report::plot::charge_png(&curve, 1400, 700)?,
+            });
+        }
+        plan_section = Some(build::PlanSection::from_plan(&plan, line));
+    }
+    let mut report = build::build_report(
         line,
         &job.line_file,
         job.line_text,
@@ -616,6 +656,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::asse
         plots,
         chrono::Utc::now(),
     );
+    report.plan = plan_section;
     let files = folder::render_all(&report)?;
     let dir = folder::write_folder(job.out, &report.meta.report_id, files.into_iter().map(Ok))?;
     Ok((dir, assessment))
@@ -691,6 +732,7 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
         out: &a.out,
         settings,
         map_resolution: a.map_resolution,
+        plan: a.plan,
     })?;
     print_assessment(&line, &assessment, &dir)?;
     Ok(if assessment.verdict == crate::assess::Verdict::Fail {
@@ -698,6 +740,269 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
     } else {
         Outcome::Pass
     })
+}
+
+/// Converts the plan command line into checked planner settings.
+fn plan_settings(a: &PlanArgs, line: &Line) -> Result<crate::plan::PlanSettings> {
+    use crate::model::EliminatorKind;
+    use crate::units::parse_quantity;
+    let solver = SolverSettings::new(a.tolerance).context("--tolerance")?;
+    let mut st = crate::plan::PlanSettings::new(solver);
+    st.bars = a.bars;
+    st.max_bars = a.max_bars;
+    if a.max_bars == 0 || a.bars == Some(0) {
+        bail!("--bars/--max-bars: expected at least 1 bar");
+    }
+    st.kind = match a.kind {
+        BarKind::Powered => EliminatorKind::Powered,
+        BarKind::Passive => EliminatorKind::Passive,
+    };
+    st.distance =
+        parse_quantity(&a.distance, Dim::Length).map_err(|e| anyhow::anyhow!("--distance: {e}"))?;
+    st.spacing =
+        parse_quantity(&a.spacing, Dim::Length).map_err(|e| anyhow::anyhow!("--spacing: {e}"))?;
+    if st.distance <= 0.0 || st.spacing <= 0.0 {
+        bail!("--distance and --spacing: expected positive lengths such as \"40 mm\"");
+    }
+    if st.spacing < 0.01 {
+        bail!(
+            "--spacing: {} is finer than 10 mm; bars are not placed that precisely",
+            a.spacing
+        );
+    }
+    if let Some(list) = &a.spans {
+        for name in list.split(',').map(str::trim).filter(|n| !n.is_empty()) {
+            match line.path.span_index(name) {
+                Some(k) => st.spans.push(k),
+                None => bail!(
+                    "--spans: unknown span \"{name}\": expected names such as {}",
+                    line.path
+                        .spans
+                        .iter()
+                        .map(|s| s.label())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+            }
+        }
+    }
+    if let Some(path) = &a.candidates {
+        let text = std::fs::read_to_string(path)
+            .with_context(|| format!("reading candidates '{}'", path.display()))?;
+        let list = crate::model::parse_eliminator_list(&text, line).map_err(|e| {
+            anyhow::Error::new(e).context(format!("invalid candidates '{}'", path.display()))
+        })?;
+        st.candidates = Some(
+            list.iter()
+                .map(|e| crate::plan::Candidate {
+                    kind: e.kind,
+                    span: e.span,
+                    along: e.along,
+                    side: e.side,
+                    distance: e.distance,
+                    efficiency: e.efficiency,
+                    residual: e.residual,
+                })
+                .collect(),
+        );
+    }
+    st.top = a.top.clamp(1, 100);
+    Ok(st)
+}
+
+fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
+    use std::io::IsTerminal;
+    let text = crate::model::read_line_text(&a.line)?;
+    let line = parse_line(&text).map_err(|e| {
+        anyhow::Error::new(e).context(format!("invalid line description '{}'", a.line.display()))
+    })?;
+    print_warnings(&line);
+    let st = plan_settings(a, &line)?;
+    if let Some(out) = &a.apply
+        && out.exists()
+    {
+        bail!(
+            "--apply: '{}' exists; websigma never overwrites a file — choose a new name",
+            out.display()
+        );
+    }
+    let profiles = load_profiles(&line, &a.profiles)?;
+    let tty = std::io::stderr().is_terminal();
+    let progress = move |done: usize, total: usize| {
+        if tty && total > 20000 {
+            eprint!("\rsearching placements: {done} of {total}   ");
+        }
+    };
+    let started = std::time::Instant::now();
+    let plan = crate::plan::plan(&line, &profiles, &st, &progress)?;
+    if tty {
+        eprintln!(
+            "\rsearched {} placements in {:.1} s            ",
+            plan.evaluated,
+            started.elapsed().as_secs_f64()
+        );
+    }
+    let s = match a.format {
+        OutputFormat::Json => plan_json(&plan, &line),
+        _ => plan_text(&plan, &line),
+    };
+    emit(&mut std::io::stdout().lock(), &s)?;
+    let passes = plan.options.first().is_some_and(|o| o.counts[2] == 0);
+    if let (Some(out), Some(best)) = (&a.apply, plan.options.first()) {
+        let bars: Vec<crate::plan::Candidate> = best
+            .bars
+            .iter()
+            .map(|&b| plan.candidates[b].clone())
+            .collect();
+        let new_text = crate::plan::apply_to_yaml(&text, &line, &bars, st.solver)?;
+        parse_line(&new_text).map_err(|e| {
+            anyhow::Error::new(e).context("internal: the planned line description does not parse")
+        })?;
+        let mut f = std::fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(out)
+            .with_context(|| format!("--apply: creating '{}'", out.display()))?;
+        f.write_all(new_text.as_bytes())
+            .with_context(|| format!("--apply: writing '{}'", out.display()))?;
+        eprintln!("wrote {} with the best plan's bars added", out.display());
+    }
+    Ok(if passes {
+        Outcome::Pass
+    } else {
+        Outcome::Exceeded
+    })
+}
+
+fn plan_text(plan: &crate::plan::Plan, line: &Line) -> String {
+    let mut s = format!("{}\n\n", plan.summary);
+    let before = &plan.before;
+    let count = |a: &crate::assess::Assessment, v: crate::assess::Verdict| {
+        a.findings.iter().filter(|f| f.verdict == v).count()
+    };
+    s.push_str(&format!(
+        "without new bars: {} fail, {} warn, {} pass\n\n",
+        count(before, crate::assess::Verdict::Fail),
+        count(before, crate::assess::Verdict::Warn),
+        count(before, crate::assess::Verdict::Pass)
+    ));
+    let rows: Vec<Vec<String>> = plan
+        .options
+        .iter()
+        .enumerate()
+        .map(|(i, o)| {
+            vec![
+                format!("{}", i + 1),
+                o.bars
+                    .iter()
+                    .map(|&b| plan.candidates[b].describe(line))
+                    .collect::<Vec<_>>()
+                    .join("; "),
+                format!("{}", o.counts[2]),
+                format!("{}", o.counts[1]),
+                format!("{}", o.counts[0]),
+                crate::report::document::margin_text(o.worst_margin),
+            ]
+        })
+        .collect();
+    s.push_str(&text::table(
+        &["plan", "bars", "fail", "warn", "pass", "worst margin"],
+        &rows,
+    ));
+    if let Some(best) = plan.options.first() {
+        s.push_str("\nbest plan, findings that warn or fail before → after:\n");
+        let mut rows = Vec::new();
+        for f in before
+            .findings
+            .iter()
+            .filter(|f| f.verdict != crate::assess::Verdict::Pass)
+        {
+            let after = best
+                .assessment
+                .findings
+                .iter()
+                .find(|g| g.profile == f.profile && g.rule == f.rule && g.subject == f.subject);
+            rows.push(vec![
+                format!("{}/{}", f.profile, f.rule),
+                f.subject.clone(),
+                format!(
+                    "{} {}",
+                    f.verdict.text().to_uppercase(),
+                    format_quantity(f.value, f.dim)
+                ),
+                after
+                    .map(|g| {
+                        format!(
+                            "{} {}",
+                            g.verdict.text().to_uppercase(),
+                            format_quantity(g.value, g.dim)
+                        )
+                    })
+                    .unwrap_or_else(|| "—".into()),
+            ]);
+        }
+        for g in best.assessment.findings.iter().filter(|g| {
+            g.profile == crate::assess::eliminators::PROFILE
+                && g.verdict != crate::assess::Verdict::Pass
+        }) {
+            rows.push(vec![
+                format!("{}/{}", g.profile, g.rule),
+                g.subject.clone(),
+                "—".into(),
+                format!("{} {}", g.verdict.text().to_uppercase(), g.note),
+            ]);
+        }
+        s.push_str(&text::table(&["rule", "subject", "before", "after"], &rows));
+    }
+    s.push_str(&format!("\ncaution: {}\n", crate::CAUTIONS));
+    s
+}
+
+fn plan_json(plan: &crate::plan::Plan, line: &Line) -> String {
+    let count = |a: &crate::assess::Assessment, v: crate::assess::Verdict| {
+        a.findings.iter().filter(|f| f.verdict == v).count()
+    };
+    let plans: Vec<String> = plan
+        .options
+        .iter()
+        .map(|o| {
+            let bars: Vec<String> = o
+                .bars
+                .iter()
+                .map(|&b| {
+                    let c = &plan.candidates[b];
+                    format!(
+                        "{{\"kind\": {}, \"span\": {}, \"position\": {}, \"side\": {}, \"distance\": {}, \"efficiency\": {}}}",
+                        json::string(c.kind.text()),
+                        json::string(&line.path.spans[c.span].name),
+                        json::num(c.along),
+                        json::string(c.side.text()),
+                        json::num(c.distance),
+                        json::num(c.efficiency)
+                    )
+                })
+                .collect();
+            format!(
+                "    {{\"bars\": [{}], \"fail\": {}, \"warn\": {}, \"pass\": {}, \"worst_margin\": {}}}",
+                bars.join(", "),
+                o.counts[2],
+                o.counts[1],
+                o.counts[0],
+                json::num(o.worst_margin)
+            )
+        })
+        .collect();
+    format!(
+        "{{\n  \"summary\": {},\n  \"exhaustive\": {},\n  \"evaluated\": {},\n  \"candidates\": {},\n  \"before\": {{\"fail\": {}, \"warn\": {}, \"pass\": {}}},\n  \"plans\": [\n{}\n  ]\n}}\n",
+        json::string(&plan.summary),
+        plan.exhaustive,
+        plan.evaluated,
+        plan.candidates.len(),
+        count(&plan.before, crate::assess::Verdict::Fail),
+        count(&plan.before, crate::assess::Verdict::Warn),
+        count(&plan.before, crate::assess::Verdict::Pass),
+        plans.join(",\n")
+    )
 }
 
 fn readings_cmd(a: &ReadingsArgs) -> Result<Outcome> {
@@ -804,6 +1109,7 @@ fn demo(a: &DemoArgs) -> Result<Outcome> {
         out: &a.out,
         settings: SolverSettings::default(),
         map_resolution: DEMO_MAP_RESOLUTION,
+        plan: Some(3),
     })?;
     eprintln!("assessed in {:.1} s", started.elapsed().as_secs_f64());
     print_assessment(&line, &assessment, &dir)?;

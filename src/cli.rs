@@ -30,6 +30,8 @@ pub enum Command {
     Assess(AssessArgs),
     /// Meter readings converted to surface charge density with the line's geometry.
     Readings(ReadingsArgs),
+    /// Rank static-eliminator placements that bring the line within limits.
+    Plan(PlanArgs),
     /// List the shipped threshold profiles, or show one with its sources.
     Profiles(ProfilesArgs),
     /// Run the built-in invented example line end to end and write its report.
@@ -54,6 +56,10 @@ pub struct AssessArgs {
     /// Points per side of the field map (the map has N × N/2 points).
     #[arg(long, default_value_t = 160, value_name = "N")]
     pub map_resolution: usize,
+    /// When a limit fails, also plan up to N powered bars (candidates every
+    /// 250 mm at 40 mm) and add the plan to the report.
+    #[arg(long, value_name = "N")]
+    pub plan: Option<usize>,
 }
 
 /// `websigma readings`
@@ -67,6 +73,59 @@ pub struct ReadingsArgs {
     /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
     pub tolerance: f64,
+}
+
+/// `websigma plan`
+#[derive(Debug, clap::Args)]
+pub struct PlanArgs {
+    /// The line description (YAML).
+    pub line: PathBuf,
+    /// Place exactly this many bars.
+    #[arg(long, value_name = "N", conflicts_with = "max_bars")]
+    pub bars: Option<usize>,
+    /// Find the fewest bars, up to N, that pass.
+    #[arg(long, value_name = "N", default_value_t = 3)]
+    pub max_bars: usize,
+    /// Kind of bar to place.
+    #[arg(long, value_enum, default_value_t = BarKind::Powered)]
+    pub kind: BarKind,
+    /// Bar-to-web distance of the candidates.
+    #[arg(long, default_value = "40 mm", value_name = "LENGTH")]
+    pub distance: String,
+    /// Spacing of candidate positions along the spans.
+    #[arg(long, default_value = "100 mm", value_name = "LENGTH")]
+    pub spacing: String,
+    /// Only these spans, e.g. "S3,S5" or "R2-R3".
+    #[arg(long, value_name = "SPANS")]
+    pub spans: Option<String>,
+    /// A YAML list of candidate positions (eliminator entries without ids).
+    #[arg(long, value_name = "FILE.yaml")]
+    pub candidates: Option<PathBuf>,
+    /// How many plans to list.
+    #[arg(long, default_value_t = 5, value_name = "K")]
+    pub top: usize,
+    /// Output format (table or json).
+    #[arg(long, value_enum, default_value_t = OutputFormat::Table)]
+    pub format: OutputFormat,
+    /// Write a new line description with the best plan's bars added (the
+    /// original is never modified; an existing file is not overwritten).
+    #[arg(long, value_name = "OUT.yaml")]
+    pub apply: Option<PathBuf>,
+    /// Threshold profile to apply besides the line's `assess:` list. Repeatable.
+    #[arg(long = "profile", value_name = "NAME|FILE")]
+    pub profiles: Vec<String>,
+    /// Relative tolerance of the integration (1e-12 to 1e-2).
+    #[arg(long, default_value_t = 1e-6, value_name = "TOL")]
+    pub tolerance: f64,
+}
+
+/// Kind of static eliminator.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum BarKind {
+    /// A powered ionising bar.
+    Powered,
+    /// A passive device (tinsel, brush, cord).
+    Passive,
 }
 
 /// `websigma profiles`

@@ -13,6 +13,7 @@ mod assess;
 mod cli;
 mod eliminators;
 mod geometry;
+mod plan;
 mod readings;
 mod reports;
 mod solver;

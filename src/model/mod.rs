@@ -613,6 +613,22 @@ fn tidy_type_names(message: &str) -> String {
     out
 }
 
+/// Parses a list of eliminator entries (the planner's candidate file) and
+/// checks it against `line`. All YAML parsing stays in this module.
+pub fn parse_eliminator_list(text: &str, line: &Line) -> Result<Vec<Eliminator>, ValidationError> {
+    let list: Vec<raw::RawEliminator> = serde_yaml::from_str(text).map_err(|e| ValidationError {
+        issues: vec![Issue {
+            path: String::new(),
+            location: e.location().map(|l| (l.line(), l.column())),
+            message: format!(
+                "{}: expected a list of entries like `- {{kind: powered, span: S3, position: 50 %, distance: 40 mm, side: above}}`",
+                e.to_string().split(" at line ").next().unwrap_or_default()
+            ),
+        }],
+    })?;
+    validate::validate_eliminator_list(&list, line)
+}
+
 /// The one place where YAML text is deserialised.
 pub(crate) fn parse_raw(text: &str) -> Result<raw::RawLine, ValidationError> {
     if text.trim().is_empty()

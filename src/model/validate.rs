@@ -1309,6 +1309,45 @@ fn span_position(
     Some((k, v))
 }
 
+/// Checks a list of eliminator entries against a validated line (the
+/// planner's `--candidates` file); entries without an id get `C1`, `C2`, ….
+pub fn validate_eliminator_list(
+    list: &[super::raw::RawEliminator],
+    line: &Line,
+) -> Result<Vec<Eliminator>, ValidationError> {
+    let mut ctx = Ctx {
+        issues: Vec::new(),
+        warnings: Vec::new(),
+    };
+    let raw = RawLine {
+        eliminators: list
+            .iter()
+            .enumerate()
+            .map(|(i, e)| {
+                let mut e = e.clone();
+                if e.id.is_none() {
+                    e.id = Some(Scalar(format!("C{}", i + 1)));
+                }
+                e
+            })
+            .collect(),
+        ..RawLine::default()
+    };
+    let out = validate_eliminators(
+        &mut ctx,
+        &raw,
+        &line.path,
+        &line.rollers,
+        &line.web,
+        line.ground_plane,
+    );
+    if ctx.issues.is_empty() {
+        Ok(out)
+    } else {
+        Err(ValidationError { issues: ctx.issues })
+    }
+}
+
 fn validate_eliminators(
     ctx: &mut Ctx,
     raw: &RawLine,

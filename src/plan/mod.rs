@@ -864,10 +864,42 @@ fn greedy(
     )
 }
 
+/// Comments out a top-level YAML block (`key:` and the lines under it).
+fn comment_out_block(lines: &mut [String], key: &str, why: &str) -> bool {
+    let Some(start) = lines
+        .iter()
+        .position(|l| l.trim_end() == format!("{key}:") || l.starts_with(&format!("{key}: ")))
+    else {
+        return false;
+    };
+    lines[start] = format!("# {why}\n# {}", lines[start]);
+    for l in lines.iter_mut().skip(start + 1) {
+        let top =
+            !l.is_empty() && !l.starts_with(' ') && !l.starts_with('#') && !l.starts_with('-');
+        if top {
+            break;
+        }
+        if !l.trim().is_empty() {
+            *l = format!("# {l}");
+        }
+    }
+    true
+}
+
 /// A new line description: the original text with the bars added to its
-/// `eliminators:` list (created when absent). The original is not touched.
-pub fn apply_to_yaml(text: &str, line: &Line, bars: &[Candidate]) -> String {
-    let placed = apply(line, bars);
+/// `eliminators:` list (created when absent). Where the line has meter
+/// readings, they were taken without the planned bars: their fitted
+/// densities are written as charge entries and the original `charge:` and
+/// `readings:` blocks are kept as comments, so assessing the new file gives
+/// exactly the planner's findings. The original file is not touched.
+pub fn apply_to_yaml(
+    text: &str,
+    line: &Line,
+    bars: &[Candidate],
+    solver: SolverSettings,
+) -> Result<String, PlanError> {
+    let planning = planning_line(line, solver)?;
+    let placed = apply(&planning, bars);
     let new: Vec<&Eliminator> = placed
         .eliminators
         .iter()
@@ -877,7 +909,7 @@ pub fn apply_to_yaml(text: &str, line: &Line, bars: &[Candidate]) -> String {
         .iter()
         .map(|e| {
             format!(
-                "  - {{id: {}, kind: {}, span: {}, position: {:.6} m, distance: {:.6} m, side: {}, efficiency: {} %}}   # added by websigma plan\n",
+                "  - {{id: {}, kind: {}, span: {}, position: {:?} m, distance: {:?} m, side: {}, efficiency: {:?} %}}   # added by websigma plan\n",
                 e.id,
                 e.kind.text(),
                 line.path.spans[e.span].name,
@@ -888,18 +920,41 @@ pub fn apply_to_yaml(text: &str, line: &Line, bars: &[Candidate]) -> String {
             )
         })
         .collect();
-    let lines: Vec<&str> = text.lines().collect();
-    if let Some(i) = lines.iter().position(|l| l.trim_end() == "eliminators:") {
-        let mut out = lines[..=i].join("\n");
-        out.push('\n');
-        out.push_str(&items);
-        out.push_str(&lines[i + 1..].join("\n"));
-        out.push('\n');
-        out
-    } else {
-        let mut out = text.trim_end().to_string();
-        out.push_str("\neliminators:\n");
-        out.push_str(&items);
-        out
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    let mut tail = String::new();
+    if !line.readings.is_empty() {
+        comment_out_block(
+            &mut lines,
+            "readings",
+            "readings taken without the planned bars; converted to the charge entries below by websigma plan",
+        );
+        comment_out_block(&mut lines, "meter", "meter accuracy of the readings above");
+        comment_out_block(
+            &mut lines,
+            "charge",
+            "charge entries before the readings were fitted (see the new `charge:` below)",
+        );
+        tail.push_str("charge:   # fitted to the meter readings by websigma plan\n");
+        for c in &planning.charge {
+            let at = c.at.trim_end_matches(" (fitted to readings)");
+            let key = match c.mode {
+                ChargeMode::Set => "sigma",
+                ChargeMode::Add => "adds",
+            };
+            tail.push_str(&format!(
+                "  - at: {at}\n    {key}: {:?} uC/m^2\n",
+                c.sigma * 1e6
+            ));
+        }
     }
+    if let Some(i) = lines.iter().position(|l| l.trim_end() == "eliminators:") {
+        lines.insert(i + 1, items.trim_end().to_string());
+    } else {
+        tail.push_str("eliminators:\n");
+        tail.push_str(&items);
+    }
+    let mut out = lines.join("\n");
+    out.push('\n');
+    out.push_str(&tail);
+    Ok(out)
 }

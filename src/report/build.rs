@@ -128,6 +128,71 @@ pub struct Report {
     pub reading_method: String,
     /// What every eliminator does (density in and out, ionising or not).
     pub eliminators: Vec<crate::readings::EliminatorState>,
+    /// The eliminator plan, when one was asked for and the line fails.
+    pub plan: Option<PlanSection>,
+}
+
+/// The eliminator plan as the report shows it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlanSection {
+    /// What was searched and what the result means.
+    pub summary: String,
+    /// The best plans: bars described, fail, warn, pass, worst margin.
+    pub options: Vec<(String, [usize; 3], f64)>,
+    /// For the best plan, each finding that warns or fails before:
+    /// (rule, subject, before, after).
+    pub before_after: Vec<(String, String, String, String)>,
+}
+
+impl PlanSection {
+    /// Lays out a plan for the report.
+    pub fn from_plan(plan: &crate::plan::Plan, line: &Line) -> Self {
+        use crate::units::format_quantity;
+        let options = plan
+            .options
+            .iter()
+            .map(|o| {
+                (
+                    o.bars
+                        .iter()
+                        .map(|&b| plan.candidates[b].describe(line))
+                        .collect::<Vec<_>>()
+                        .join("; "),
+                    o.counts,
+                    o.worst_margin,
+                )
+            })
+            .collect();
+        let mut before_after = Vec::new();
+        if let Some(best) = plan.options.first() {
+            for f in plan
+                .before
+                .findings
+                .iter()
+                .filter(|f| f.verdict != Verdict::Pass)
+            {
+                let after =
+                    best.assessment.findings.iter().find(|g| {
+                        g.profile == f.profile && g.rule == f.rule && g.subject == f.subject
+                    });
+                before_after.push((
+                    format!("{}/{}", f.profile, f.rule),
+                    f.subject.clone(),
+                    format!("{} {}", f.verdict.text(), format_quantity(f.value, f.dim)),
+                    after
+                        .map(|g| {
+                            format!("{} {}", g.verdict.text(), format_quantity(g.value, g.dim))
+                        })
+                        .unwrap_or_else(|| "—".into()),
+                ));
+            }
+        }
+        PlanSection {
+            summary: plan.summary.clone(),
+            options,
+            before_after,
+        }
+    }
 }
 
 /// SHA-256 of bytes as lower-case hex.
@@ -301,6 +366,7 @@ pub fn build_report(
         reading_segments: readings.segments.clone(),
         reading_method: readings.method.clone(),
         eliminators: readings.eliminators.clone(),
+        plan: None,
     }
 }
 

@@ -579,6 +579,7 @@ pub fn layout(r: &Report) -> Vec<Section> {
         "Plots",
         r.plots
             .iter()
+            .filter(|p| !p.file.contains("planned"))
             .map(|p| Block::Image {
                 file: p.file.clone(),
                 caption: p.caption.clone(),
@@ -589,6 +590,46 @@ pub fn layout(r: &Report) -> Vec<Section> {
         "Recommendations",
         vec![Block::List(r.recommendations.clone())],
     ));
+    if let Some(p) = &r.plan {
+        let mut blocks = vec![
+            Block::Para(format!(
+                "{}. Plans are ranked by failing findings, then the worst margin, then the number of bars, then how far upstream they sit; each is re-assessed with the full model. Bars are proposed only where the placement rules allow (not within three bar distances of a roller the web touches).",
+                p.summary
+            )),
+            table(
+                &["plan", "bars", "fail", "warn", "pass", "worst margin"],
+                p.options
+                    .iter()
+                    .enumerate()
+                    .map(|(i, (bars, c, m))| {
+                        vec![
+                            format!("{}", i + 1),
+                            bars.clone(),
+                            format!("{}", c[2]),
+                            format!("{}", c[1]),
+                            format!("{}", c[0]),
+                            margin_text(*m),
+                        ]
+                    })
+                    .collect(),
+            ),
+            Block::Para("The best plan, findings that warn or fail without it:".into()),
+            table(
+                &["rule", "subject", "before", "after"],
+                p.before_after
+                    .iter()
+                    .map(|(a, b, c, d)| vec![a.clone(), b.clone(), c.clone(), d.clone()])
+                    .collect(),
+            ),
+        ];
+        for pl in r.plots.iter().filter(|p| p.file.contains("planned")) {
+            blocks.push(Block::Image {
+                file: pl.file.clone(),
+                caption: pl.caption.clone(),
+            });
+        }
+        out.push(sec("Eliminator plan", blocks));
+    }
     out.push(sec("Limitations", vec![Block::List(r.limitations.clone())]));
     out.push(sec(
         "Cautions",

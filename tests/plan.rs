@@ -1,0 +1,272 @@
+//! The eliminator planner: its search against a brute force that runs the
+//! full assessment on every combination, the applied plan against its
+//! prediction, and the command line.
+
+use crate::util::{temp_yaml, websigma};
+use predicates::prelude::*;
+use websigma::assess::{Verdict, with_air_limit};
+use websigma::field::SolverSettings;
+use websigma::model::{EliminatorKind, Side, parse_line};
+use websigma::plan::{
+    Candidate, PlanSettings, apply, apply_to_yaml, combinations, full_assessment, plan,
+};
+
+/// A charged web passing an operator; one or two bars make it pass.
+const LINE: &str = r#"
+line: Planner test line
+web: {width: 1 m, thickness: 30 um, relative_permittivity: 3, relaxation_time: 20 s, speed: 2 m/s}
+ground_plane: 0 m
+rollers:
+  - {id: A, center: [2 m, 0.95 m], diameter: 100 mm, earthing: grounded}
+path:
+  - point: [0 m, 1 m]
+    id: IN
+  - {roller: A, wrap: cw}
+  - point: [4 m, 1 m]
+    id: OUT
+charge:
+  - at: start
+    sigma: 4 uC/m^2
+  - at: A
+    adds: 2 uC/m^2
+points:
+  - {id: OP1, kind: operator, at: [3 m, 0.8 m, 1.2 m]}
+  - {id: OP2, kind: operator, at: [1 m, 0.8 m, 1.2 m]}
+assess: [operator-shock]
+"#;
+
+fn cand(span: usize, along: f64, side: Side) -> Candidate {
+    Candidate {
+        kind: EliminatorKind::Powered,
+        span,
+        along,
+        side,
+        distance: 0.04,
+        efficiency: 0.95,
+        residual: 0.0,
+    }
+}
+
+fn profiles(line: &websigma::model::Line) -> Vec<websigma::assess::ThresholdProfile> {
+    with_air_limit(
+        line.assess
+            .iter()
+            .map(|n| websigma::assess::profile::load_profile(n).unwrap())
+            .collect(),
+    )
+}
+
+fn key(a: &websigma::assess::Assessment) -> (usize, f64) {
+    (
+        a.findings
+            .iter()
+            .filter(|f| f.verdict == Verdict::Fail)
+            .count(),
+        a.findings.iter().map(|f| f.margin).fold(0.0, f64::max),
+    )
+}
+
+#[test]
+fn combinations_are_all_k_subsets() {
+    // C(7, 3) = 35, each increasing, all distinct.
+    let c = combinations(7, 3);
+    assert_eq!(c.len(), 35);
+    assert!(c.iter().all(|x| x.windows(2).all(|w| w[0] < w[1])));
+    assert_eq!(combinations(5, 0), vec![Vec::<usize>::new()]);
+    assert!(combinations(2, 3).is_empty());
+}
+
+/// The planner's best 2-bar plan equals a brute force over every pair of a
+/// small candidate set, each assessed with the full model.
+#[test]
+fn best_plan_equals_brute_force_with_the_full_assessment() {
+    let line = parse_line(LINE).unwrap();
+    let profiles = profiles(&line);
+    let cands = vec![
+        cand(0, 0.4, Side::Above),
+        cand(0, 1.0, Side::Below),
+        cand(0, 1.6, Side::Above),
+        cand(1, 0.4, Side::Above),
+        cand(1, 1.0, Side::Below),
+        cand(1, 1.6, Side::Above),
+    ];
+    let mut st = PlanSettings::new(SolverSettings::new(1e-8).unwrap());
+    st.bars = Some(2);
+    st.candidates = Some(cands.clone());
+    st.top = 3;
+    let p = plan(&line, &profiles, &st, &|_, _| {}).unwrap();
+    assert!(p.exhaustive);
+    assert_eq!(p.evaluated, 15);
+    // Brute force.
+    let mut best: Option<((usize, f64), Vec<usize>)> = None;
+    for c in combinations(cands.len(), 2) {
+        let placed = apply(
+            &line,
+            &c.iter().map(|&i| cands[i].clone()).collect::<Vec<_>>(),
+        );
+        let a = full_assessment(&placed, &profiles, st.solver).unwrap();
+        let k = key(&a);
+        let better = match &best {
+            None => true,
+            Some((b, _)) => k.0 < b.0 || (k.0 == b.0 && k.1 < b.1 * (1.0 - 1e-9)),
+        };
+        if better {
+            best = Some((k, c));
+        }
+    }
+    let (bk, bars) = best.unwrap();
+    let got = &p.options[0];
+    assert_eq!(key(&got.assessment).0, bk.0);
+    assert!(
+        (key(&got.assessment).1 - bk.1).abs() <= 1e-9 * bk.1,
+        "{} vs {}",
+        key(&got.assessment).1,
+        bk.1
+    );
+    assert_eq!(got.bars, bars);
+}
+
+/// Applying the plan (as a new YAML file) and assessing it gives exactly the
+/// findings the planner predicted.
+#[test]
+fn applied_plan_gives_the_predicted_findings() {
+    let line = parse_line(LINE).unwrap();
+    let profiles = profiles(&line);
+    let mut st = PlanSettings::new(SolverSettings::default());
+    st.spacing = 0.5;
+    let p = plan(&line, &profiles, &st, &|_, _| {}).unwrap();
+    let best = &p.options[0];
+    assert_eq!(best.counts[2], 0, "{}", p.summary);
+    let bars: Vec<Candidate> = best.bars.iter().map(|&b| p.candidates[b].clone()).collect();
+    let text = apply_to_yaml(LINE, &line, &bars, SolverSettings::default()).unwrap();
+    let applied = parse_line(&text).unwrap();
+    assert_eq!(applied.eliminators.len(), bars.len());
+    let a = full_assessment(&applied, &profiles, SolverSettings::default()).unwrap();
+    assert_eq!(a.findings.len(), best.assessment.findings.len());
+    for (x, y) in a.findings.iter().zip(&best.assessment.findings) {
+        assert_eq!(
+            (&x.rule, &x.subject, x.verdict),
+            (&y.rule, &y.subject, y.verdict)
+        );
+        assert!(
+            (x.value - y.value).abs() <= 1e-9 * y.value.abs().max(1e-300),
+            "{}: {} vs {}",
+            x.rule,
+            x.value,
+            y.value
+        );
+    }
+}
+
+/// `--max-bars` stops at the fewest bars that pass.
+#[test]
+fn max_bars_finds_the_fewest_bars() {
+    let easy = LINE
+        .replace("    adds: 2 uC/m^2", "    adds: 0 uC/m^2")
+        .replace("sigma: 4 uC/m^2", "sigma: 1.5 uC/m^2");
+    let line = parse_line(&easy).unwrap();
+    let profiles = profiles(&line);
+    let before = full_assessment(&line, &profiles, SolverSettings::default()).unwrap();
+    assert_eq!(
+        before.verdict,
+        Verdict::Fail,
+        "the test line must fail without bars"
+    );
+    let mut st = PlanSettings::new(SolverSettings::default());
+    st.spacing = 0.5;
+    st.max_bars = 3;
+    let p = plan(&line, &profiles, &st, &|_, _| {}).unwrap();
+    assert_eq!(p.bars, 1, "{}", p.summary);
+    assert_eq!(p.options[0].counts[2], 0);
+}
+
+#[test]
+fn plan_command_applies_to_a_new_file_only() {
+    let (d, path) = temp_yaml(LINE);
+    let out = d.path().join("planned.yaml");
+    websigma()
+        .arg("plan")
+        .arg(&path)
+        .args(["--spacing", "500 mm", "--apply"])
+        .arg(&out)
+        .assert()
+        .code(0)
+        .stdout(predicate::str::contains(
+            "bring every rule within its failure limit",
+        ));
+    assert_eq!(
+        std::fs::read_to_string(&path).unwrap(),
+        LINE,
+        "the original is unchanged"
+    );
+    let planned = std::fs::read_to_string(&out).unwrap();
+    assert!(parse_line(&planned).unwrap().eliminators.len() >= 1);
+    // Never overwrites.
+    websigma()
+        .arg("plan")
+        .arg(&path)
+        .args(["--spacing", "500 mm", "--apply"])
+        .arg(&out)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("never overwrites"));
+    // JSON and the assessment of the planned file.
+    let json = websigma()
+        .arg("plan")
+        .arg(&path)
+        .args(["--spacing", "500 mm", "--format", "json"])
+        .output()
+        .unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    assert_eq!(v["plans"][0]["fail"], 0);
+    assert!(v["exhaustive"].as_bool().unwrap());
+    websigma()
+        .arg("assess")
+        .arg(&out)
+        .arg("--out")
+        .arg(d.path().join("r"))
+        .args(["--map-resolution", "20"])
+        .assert()
+        .code(0);
+    // Bad options.
+    websigma()
+        .arg("plan")
+        .arg(&path)
+        .args(["--spans", "S9"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--spans: unknown span"));
+    websigma()
+        .arg("plan")
+        .arg(&path)
+        .args(["--distance", "40"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--distance"));
+}
+
+#[test]
+fn candidate_file_is_checked_with_yaml_paths() {
+    let (d, path) = temp_yaml(LINE);
+    let c = d.path().join("c.yaml");
+    std::fs::write(&c, "- {kind: powered, span: S1, position: 50 %, distance: 40 mm, side: above}\n- {kind: powered, span: S7, position: 50 %, distance: 40 mm, side: above}\n").unwrap();
+    websigma()
+        .arg("plan")
+        .arg(&path)
+        .arg("--candidates")
+        .arg(&c)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains(
+            "eliminators[1].span: unknown span",
+        ));
+    std::fs::write(&c, "- {kind: powered, span: S1, position: 50 %, distance: 40 mm, side: above}\n- {kind: powered, span: S2, position: 50 %, distance: 40 mm, side: above}\n").unwrap();
+    websigma()
+        .arg("plan")
+        .arg(&path)
+        .arg("--candidates")
+        .arg(&c)
+        .args(["--bars", "2"])
+        .assert()
+        .code(predicate::in_iter([0, 1]));
+}
