@@ -270,3 +270,31 @@ fn candidate_file_is_checked_with_yaml_paths() {
         .assert()
         .code(predicate::in_iter([0, 1]));
 }
+
+/// The planner's lean objective is exactly what the full assessment gives:
+/// the failing count and the worst margin, on the demo with and without bars.
+#[test]
+fn lean_score_equals_the_full_assessment() {
+    use websigma::assess::{assess, assess_score};
+    use websigma::field::{FieldMap, FieldModel};
+    let demo = parse_line(websigma::DEMO_LINE).unwrap();
+    let profiles = profiles(&demo);
+    let with_bars = apply(
+        &demo,
+        &[cand(0, 0.2, Side::Above), cand(4, 0.3, Side::Below)],
+    );
+    for line in [demo.clone(), with_bars] {
+        let r = websigma::readings::invert_readings(&line, SolverSettings::default()).unwrap();
+        let m = FieldModel::new(&line, &r.charge, SolverSettings::default());
+        let pts = FieldMap {
+            points: line
+                .points
+                .iter()
+                .map(|p| m.at(p.at, true).unwrap())
+                .collect(),
+        };
+        let full = assess(&line, &r.charge, &m, &pts, &profiles).unwrap();
+        let (fails, worst) = assess_score(&line, &r.charge, &m, &pts, &profiles).unwrap();
+        assert_eq!((fails, worst), key(&full));
+    }
+}

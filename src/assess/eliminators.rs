@@ -85,10 +85,20 @@ pub fn arriving(charge: &ChargeProfile, s: f64) -> f64 {
 
 /// The findings of every eliminator on the line.
 pub fn eliminator_findings(line: &Line, charge: &ChargeProfile) -> Vec<Finding> {
+    findings_impl(line, charge, false)
+}
+
+/// The same findings without their texts (the planner's inner loop).
+pub fn eliminator_findings_lean(line: &Line, charge: &ChargeProfile) -> Vec<Finding> {
+    findings_impl(line, charge, true)
+}
+
+fn findings_impl(line: &Line, charge: &ChargeProfile, lean: bool) -> Vec<Finding> {
+    let text = |f: &dyn Fn() -> String| if lean { String::new() } else { f() };
     let mut out = Vec::new();
     for (i, e) in line.eliminators.iter().enumerate() {
         let span = &line.path.spans[e.span];
-        let label = format!("{} ({} on {})", e.id, e.kind.text(), span.label());
+        let label = text(&|| format!("{} ({} on {})", e.id, e.kind.text(), span.label()));
         if e.kind == EliminatorKind::Powered {
             let sigma_in = arriving(charge, e.s).abs();
             let current = sigma_in * line.web.speed;
@@ -101,13 +111,15 @@ pub fn eliminator_findings(line: &Line, charge: &ChargeProfile) -> Vec<Finding> 
                 Some(1.0),
                 "K. Robinson, PFFC \"Static Beat\": about 1000 µA per metre of bar; keep at least 5× the web current I′ = σ·v",
                 Confidence::Confirmed,
-                format!(
-                    "web current {}/m ({} at {}), bar output {}/m",
-                    format_si(current, "A"),
-                    format_quantity(sigma_in, Dim::SurfaceChargeDensity),
-                    format_quantity(line.web.speed, Dim::Speed),
-                    format_si(e.ion_output, "A")
-                ),
+                text(&|| {
+                    format!(
+                        "web current {}/m ({} at {}), bar output {}/m",
+                        format_si(current, "A"),
+                        format_quantity(sigma_in, Dim::SurfaceChargeDensity),
+                        format_quantity(line.web.speed, Dim::Speed),
+                        format_si(e.ion_output, "A")
+                    )
+                }),
             ));
         }
         let roller_end = |node: usize| match line.path.nodes[node].kind {
@@ -133,11 +145,13 @@ pub fn eliminator_findings(line: &Line, charge: &ChargeProfile) -> Vec<Finding> 
                 Some(1.0),
                 "K. Robinson, PFFC \"Static Beat\": place bars on a free span where a meter would read the web's field, not facing a grounded roller the web touches (the factor 3 is common practice)",
                 Confidence::CommonPractice,
-                format!(
-                    "{} from the roller, bar {} from the web",
-                    format_quantity(clearance, Dim::Length),
-                    format_quantity(e.distance, Dim::Length)
-                ),
+                text(&|| {
+                    format!(
+                        "{} from the roller, bar {} from the web",
+                        format_quantity(clearance, Dim::Length),
+                        format_quantity(e.distance, Dim::Length)
+                    )
+                }),
             ));
         }
         for o in line.eliminators.iter().skip(i + 1) {

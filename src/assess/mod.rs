@@ -319,6 +319,11 @@ struct Run<'a> {
     fields: &'a [PointField],
     findings: Vec<Finding>,
     assumptions: Vec<String>,
+    /// Only count failures and the worst margin (the planner's inner loop):
+    /// no finding, note or label is built.
+    lean: bool,
+    lean_fails: usize,
+    lean_worst: f64,
 }
 
 /// One finding's variable parts.
@@ -347,6 +352,11 @@ impl<'a> Run<'a> {
         } else {
             0.0
         };
+        if self.lean {
+            self.lean_fails += usize::from(verdict == Verdict::Fail);
+            self.lean_worst = self.lean_worst.max(margin);
+            return;
+        }
         let note = match &rule.note {
             Some(n) if s.note.is_empty() => n.clone(),
             Some(n) => format!("{}; {n}", s.note),
@@ -440,7 +450,7 @@ impl<'a> Run<'a> {
                 continue;
             };
             let value = span_peak_sigma(span, self.charge);
-            let note = if zones.is_empty() {
+            let note = if zones.is_empty() || self.lean {
                 String::new()
             } else {
                 format!("in {}", zone_labels(&zones))
@@ -475,7 +485,9 @@ impl<'a> Run<'a> {
                 _ => {
                     let c = match p.capacitance {
                         Some(c) => {
-                            notes.push(format!("C = {}", format_quantity(c, Dim::Capacitance)));
+                            if !self.lean {
+                                notes.push(format!("C = {}", format_quantity(c, Dim::Capacitance)));
+                            }
                             c
                         }
                         None => {
@@ -484,22 +496,28 @@ impl<'a> Run<'a> {
                             DEFAULT_BODY_CAPACITANCE
                         }
                     };
-                    notes.push(format!("|V| = {}", format_quantity(v, Dim::Voltage)));
+                    if !self.lean {
+                        notes.push(format!("|V| = {}", format_quantity(v, Dim::Voltage)));
+                    }
                     if rule.fail_is_zone_mie {
                         let Some(z) = zones.iter().min_by(|a, b| a.mie.total_cmp(&b.mie)) else {
                             continue;
                         };
                         fail = Some(z.mie);
-                        notes.push(format!(
-                            "fail at the MIE of {} = {}",
-                            z.label(),
-                            format_quantity(z.mie, Dim::Energy)
-                        ));
+                        notes.push(if self.lean {
+                            String::new()
+                        } else {
+                            format!(
+                                "fail at the MIE of {} = {}",
+                                z.label(),
+                                format_quantity(z.mie, Dim::Energy)
+                            )
+                        });
                     }
                     stored_energy(c, v)
                 }
             };
-            if !zones.is_empty() && !rule.fail_is_zone_mie {
+            if !zones.is_empty() && !rule.fail_is_zone_mie && !self.lean {
                 notes.push(format!("in {}", zone_labels(&zones)));
             }
             self.push(
@@ -545,20 +563,24 @@ impl<'a> Run<'a> {
             let Some((_, v, allowed, label, d)) = worst else {
                 continue;
             };
-            let mut note = format!(
-                "span {label} at {}: allowed {} within {}",
-                format_quantity(d, Dim::Length),
-                format_quantity(allowed, Dim::Voltage),
-                format_quantity(
-                    if d < near.distance {
-                        near.distance
-                    } else {
-                        far.distance
-                    },
-                    Dim::Length
+            let mut note = if self.lean {
+                String::new()
+            } else {
+                format!(
+                    "span {label} at {}: allowed {} within {}",
+                    format_quantity(d, Dim::Length),
+                    format_quantity(allowed, Dim::Voltage),
+                    format_quantity(
+                        if d < near.distance {
+                            near.distance
+                        } else {
+                            far.distance
+                        },
+                        Dim::Length
+                    )
                 )
-            );
-            if !zones.is_empty() {
+            };
+            if !zones.is_empty() && !self.lean {
                 note.push_str(&format!("; in {}", zone_labels(&zones)));
             }
             self.push(
@@ -718,12 +740,16 @@ impl<'a> Run<'a> {
         };
         let ub = web.thickness * eb;
         for (span, zones) in subjects {
-            let mut note = format!(
-                "U_b = {} × {}",
-                format_quantity(web.thickness, Dim::Length),
-                format_quantity(eb, Dim::Field)
-            );
-            if !zones.is_empty() {
+            let mut note = if self.lean {
+                String::new()
+            } else {
+                format!(
+                    "U_b = {} × {}",
+                    format_quantity(web.thickness, Dim::Length),
+                    format_quantity(eb, Dim::Field)
+                )
+            };
+            if !zones.is_empty() && !self.lean {
                 note.push_str(&format!("; in {}", zone_labels(&zones)));
             }
             self.push(
@@ -789,6 +815,9 @@ pub fn assess(
         fields,
         findings: Vec::new(),
         assumptions: Vec::new(),
+        lean: false,
+        lean_fails: 0,
+        lean_worst: 0.0,
     };
     for profile in profiles {
         for rule in &profile.rules {
@@ -812,4 +841,39 @@ pub fn assess(
         verdict,
         assumptions: run.assumptions,
     })
+}
+
+/// The planner's objective for a line: the number of failing findings and
+/// the worst margin over every finding, exactly as [`assess`] would give
+/// them, without building the findings' texts.
+pub fn assess_score(
+    line: &Line,
+    charge: &ChargeProfile,
+    model: &dyn FieldAt,
+    points: &FieldMap,
+    profiles: &[ThresholdProfile],
+) -> Result<(usize, f64), FieldError> {
+    let mut run = Run {
+        line,
+        charge,
+        model,
+        fields: &points.points,
+        findings: Vec::new(),
+        assumptions: Vec::new(),
+        lean: true,
+        lean_fails: 0,
+        lean_worst: 0.0,
+    };
+    for profile in profiles {
+        for rule in &profile.rules {
+            run.apply(profile, rule)?;
+        }
+    }
+    let mut fails = run.lean_fails;
+    let mut worst = run.lean_worst;
+    for f in eliminators::eliminator_findings_lean(line, charge) {
+        fails += usize::from(f.verdict == Verdict::Fail);
+        worst = worst.max(f.margin);
+    }
+    Ok((fails, worst))
 }

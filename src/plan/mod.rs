@@ -663,8 +663,13 @@ pub fn plan(
                 .collect::<Result<Vec<_>, _>>()
                 .ok()?,
         };
-        let a = assess(&placed, &charge, &fast, &pts, profiles).ok()?;
-        Some(score(&a, bars, &cands, line))
+        let (fails, worst) =
+            crate::assess::assess_score(&placed, &charge, &fast, &pts, profiles).ok()?;
+        let upstream: f64 = bars
+            .iter()
+            .map(|&b| line.path.spans[cands[b].span].s_start + cands[b].along)
+            .sum();
+        Some((fails, worst, bars.len(), upstream))
     };
 
     let n_cand = cands.len();
