@@ -53,17 +53,26 @@ readings:
 assess: [ex-zone-1, operator-shock, electronics]
 "#;
 
-fn report() -> Report {
-    let line = parse_line(ZONE_LINE).unwrap();
+/// Everything the report needs, computed the way `assess` does.
+struct Pipeline {
+    profiles: Vec<websigma::assess::ThresholdProfile>,
+    readings: websigma::readings::ReadingsResult,
+    charge: websigma::charge::ChargeProfile,
+    model: FieldModel,
+    points: FieldMap,
+    assessment: websigma::assess::Assessment,
+}
+
+fn pipeline(line: &websigma::model::Line) -> Pipeline {
     let profiles = with_air_limit(
         line.assess
             .iter()
             .map(|n| websigma::assess::profile::load_profile(n).unwrap())
             .collect(),
     );
-    let readings = websigma::readings::invert_readings(&line, SolverSettings::default()).unwrap();
+    let readings = websigma::readings::invert_readings(line, SolverSettings::default()).unwrap();
     let charge = readings.charge.clone();
-    let model = FieldModel::new(&line, &charge, SolverSettings::default());
+    let model = FieldModel::new(line, &charge, SolverSettings::default());
     let points = FieldMap {
         points: line
             .points
@@ -71,7 +80,27 @@ fn report() -> Report {
             .map(|p| model.at(p.at, true).unwrap())
             .collect(),
     };
-    let a = assess(&line, &charge, &model, &points, &profiles).unwrap();
+    let assessment = assess(line, &charge, &model, &points, &profiles).unwrap();
+    Pipeline {
+        profiles,
+        readings,
+        charge,
+        model,
+        points,
+        assessment,
+    }
+}
+
+fn report() -> Report {
+    let line = parse_line(ZONE_LINE).unwrap();
+    let Pipeline {
+        profiles,
+        readings,
+        charge,
+        points,
+        assessment: a,
+        ..
+    } = pipeline(&line);
     let now = chrono::DateTime::parse_from_rfc3339("2026-01-02T03:04:05Z")
         .unwrap()
         .with_timezone(&chrono::Utc);
@@ -350,23 +379,14 @@ fn assess_exit_codes() {
 #[test]
 fn sample_pictures_are_current() {
     let line = parse_line(websigma::DEMO_LINE).unwrap();
-    let profiles = with_air_limit(
-        line.assess
-            .iter()
-            .map(|n| websigma::assess::profile::load_profile(n).unwrap())
-            .collect(),
-    );
-    let readings = websigma::readings::invert_readings(&line, SolverSettings::default()).unwrap();
-    let charge = readings.charge.clone();
-    let model = FieldModel::new(&line, &charge, SolverSettings::default());
-    let points = FieldMap {
-        points: line
-            .points
-            .iter()
-            .map(|p| model.at(p.at, true).unwrap())
-            .collect(),
-    };
-    let a = assess(&line, &charge, &model, &points, &profiles).unwrap();
+    let Pipeline {
+        profiles,
+        readings,
+        charge,
+        model,
+        assessment: a,
+        ..
+    } = pipeline(&line);
     // The demo's own resolution, so the sample is exactly what `demo` writes.
     let plots = websigma::app::make_plots(
         &line,

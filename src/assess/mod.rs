@@ -338,6 +338,36 @@ struct Subject {
 }
 
 impl<'a> Run<'a> {
+    fn new(
+        line: &'a Line,
+        charge: &'a ChargeProfile,
+        model: &'a dyn FieldAt,
+        fields: &'a [PointField],
+        lean: bool,
+    ) -> Self {
+        Run {
+            line,
+            charge,
+            model,
+            fields,
+            findings: Vec::new(),
+            assumptions: Vec::new(),
+            lean,
+            lean_fails: 0,
+            lean_worst: 0.0,
+        }
+    }
+
+    /// Applies every rule of every profile.
+    fn apply_all(mut self, profiles: &[ThresholdProfile]) -> Result<Self, FieldError> {
+        for profile in profiles {
+            for rule in &profile.rules {
+                self.apply(profile, rule)?;
+            }
+        }
+        Ok(self)
+    }
+
     fn assume(&mut self, text: &str) {
         if !self.assumptions.iter().any(|a| a == text) {
             self.assumptions.push(text.to_string());
@@ -808,22 +838,7 @@ pub fn assess(
             .collect::<Result<Vec<_>, _>>()?;
         &recomputed
     };
-    let mut run = Run {
-        line,
-        charge,
-        model,
-        fields,
-        findings: Vec::new(),
-        assumptions: Vec::new(),
-        lean: false,
-        lean_fails: 0,
-        lean_worst: 0.0,
-    };
-    for profile in profiles {
-        for rule in &profile.rules {
-            run.apply(profile, rule)?;
-        }
-    }
+    let run = Run::new(line, charge, model, fields, false).apply_all(profiles)?;
     let mut findings = run.findings;
     findings.extend(eliminators::eliminator_findings(line, charge));
     findings.sort_by(|a, b| {
@@ -853,22 +868,7 @@ pub fn assess_score(
     points: &FieldMap,
     profiles: &[ThresholdProfile],
 ) -> Result<(usize, f64), FieldError> {
-    let mut run = Run {
-        line,
-        charge,
-        model,
-        fields: &points.points,
-        findings: Vec::new(),
-        assumptions: Vec::new(),
-        lean: true,
-        lean_fails: 0,
-        lean_worst: 0.0,
-    };
-    for profile in profiles {
-        for rule in &profile.rules {
-            run.apply(profile, rule)?;
-        }
-    }
+    let run = Run::new(line, charge, model, &points.points, true).apply_all(profiles)?;
     let mut fails = run.lean_fails;
     let mut worst = run.lean_worst;
     for f in eliminators::eliminator_findings_lean(line, charge) {

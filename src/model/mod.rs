@@ -574,23 +574,7 @@ pub fn read_line_text(path: &FsPath) -> anyhow::Result<String> {
 
 /// Reads, parses and validates a line description file.
 pub fn load_line(path: &FsPath) -> anyhow::Result<Line> {
-    use anyhow::Context;
-    let meta = std::fs::metadata(path)
-        .with_context(|| format!("reading line description '{}'", path.display()))?;
-    if meta.len() > MAX_FILE_BYTES {
-        anyhow::bail!(
-            "line description '{}' is {} bytes: the limit is {} bytes (a line description is a short YAML file)",
-            path.display(),
-            meta.len(),
-            MAX_FILE_BYTES
-        );
-    }
-    let text = std::fs::read_to_string(path).with_context(|| {
-        format!(
-            "reading line description '{}' (it must be UTF-8 text)",
-            path.display()
-        )
-    })?;
+    let text = read_line_text(path)?;
     parse_line(&text).map_err(|e| {
         anyhow::Error::new(e).context(format!("invalid line description '{}'", path.display()))
     })

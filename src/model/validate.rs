@@ -1092,61 +1092,7 @@ fn validate_readings(
         {
             ctx.err(format!("{p}.id"), format!("duplicate reading id \"{id}\""));
         }
-        let span = match ctx.need(
-            &r.span,
-            &format!("{p}.span"),
-            "a span name such as \"S3\" or \"R2-R3\"",
-        ) {
-            None => None,
-            Some(s) => match path.span_index(s.as_str()) {
-                Some(k) => Some(k),
-                None => {
-                    let names: Vec<String> = path.spans.iter().map(|s| s.label()).collect();
-                    ctx.err(
-                        format!("{p}.span"),
-                        format!(
-                            "unknown span \"{}\": expected one of {}",
-                            s.as_str().trim(),
-                            names.join(", ")
-                        ),
-                    );
-                    None
-                }
-            },
-        };
-        let along = match (&r.position, span) {
-            (None, _) => {
-                ctx.err(format!("{p}.position"), "missing: expected a percentage of the span such as \"50 %\" or a length from its start such as \"400 mm\"");
-                None
-            }
-            (Some(pos), Some(k)) => {
-                let len = path.spans[k].length;
-                let t = pos.as_str().trim();
-                let v = if t.ends_with('%') {
-                    ctx.qty(pos, Dim::Percent, &format!("{p}.position"))
-                        .map(|f| f * len)
-                } else {
-                    ctx.qty(pos, Dim::Length, &format!("{p}.position"))
-                };
-                match v {
-                    Some(a) if (0.0..=len).contains(&a) => Some(a),
-                    Some(a) => {
-                        ctx.err(
-                            format!("{p}.position"),
-                            format!(
-                                "{} is outside span {} ({} long): expected 0 % to 100 % or a length up to the span's length",
-                                crate::units::format_quantity(a, Dim::Length),
-                                path.spans[k].label(),
-                                crate::units::format_quantity(len, Dim::Length)
-                            ),
-                        );
-                        None
-                    }
-                    None => None,
-                }
-            }
-            (Some(_), None) => None,
-        };
+        let place = span_position(ctx, path, &r.span, &r.position, &p);
         let across = match &r.across {
             None => Some(0.0),
             Some(a) => ctx.qty(a, Dim::Length, &format!("{p}.across")),
@@ -1213,15 +1159,8 @@ fn validate_readings(
                 None
             }
         };
-        let (
-            Some(id),
-            Some(span),
-            Some(along),
-            Some(across),
-            Some(distance),
-            Some(side),
-            Some(value),
-        ) = (id, span, along, across, distance, side, value)
+        let (Some(id), Some((span, along)), Some(across), Some(distance), Some(side), Some(value)) =
+            (id, place, across, distance, side, value)
         else {
             continue;
         };
