@@ -73,6 +73,8 @@ fn combinations_are_all_k_subsets() {
     assert_eq!(c.len(), 35);
     assert!(c.iter().all(|x| x.windows(2).all(|w| w[0] < w[1])));
     assert_eq!(combinations(5, 0), vec![Vec::<usize>::new()]);
+    // C(200, 3) = 200·199·198/6 = 1 313 400.
+    assert_eq!(websigma::plan::binomial(200, 3), 1_313_400.0);
     assert!(combinations(2, 3).is_empty());
 }
 

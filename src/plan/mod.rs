@@ -683,7 +683,7 @@ pub fn plan(
     let mut chosen_size = 0;
     for &n in &sizes {
         let mut found: Vec<(Vec<usize>, Score)>;
-        if n <= 3 {
+        if n <= 3 && binomial(n_cand, n) <= MAX_EXHAUSTIVE {
             let combos = combinations(n_cand, n);
             let total = combos.len();
             let done = std::sync::atomic::AtomicUsize::new(0);
@@ -783,6 +783,18 @@ pub fn plan(
         exhaustive,
         summary,
     })
+}
+
+/// Most combinations searched exhaustively; beyond, the greedy search runs
+/// (and says it is heuristic).
+pub const MAX_EXHAUSTIVE: f64 = 4.0e6;
+
+/// C(n, k) as a float (no overflow for the sizes met here).
+pub fn binomial(n: usize, k: usize) -> f64 {
+    if k > n {
+        return 0.0;
+    }
+    (0..k).fold(1.0, |acc, i| acc * (n - i) as f64 / (i + 1) as f64)
 }
 
 /// All k-subsets of 0..n in lexicographic order.
