@@ -385,6 +385,10 @@ fn recommendations(line: &Line, findings: &[Finding]) -> Vec<String> {
             "Advised"
         };
         match f.subject_kind {
+            SubjectKind::Span if f.rule == "propagating-brush" => push(format!(
+                "{urgency}: on span {} the web layer could carry a propagating brush discharge ({}): it needs a bipolar double layer, so keep the web from being charged to opposite polarities on its two faces (no strong charging process such as high-speed separation from charged rollers or spraying in the zone), or use a web whose breakdown voltage is below 4 kV; neutralising the net charge alone does not remove this condition.",
+                f.subject, f.note
+            )),
             SubjectKind::Span => push(format!(
                 "{urgency}: reduce the charge on span {} ({}) — neutralise it with a static eliminator on the free span upstream, after the last charging point, where a meter would read the web's field; re-measure after fitting.",
                 f.subject, f.check
@@ -404,8 +408,22 @@ fn recommendations(line: &Line, findings: &[Finding]) -> Vec<String> {
                         )
                     })
                     .unwrap_or_default();
+                let kind = line
+                    .points
+                    .iter()
+                    .find(|p| p.id == f.subject)
+                    .map(|p| p.kind);
+                let action = match kind {
+                    Some(crate::model::PointKind::Operator) => {
+                        "earth the operator (conductive footwear and flooring, below 1e8 Ω to earth, NFPA 77) and neutralise the spans that dominate the field there"
+                    }
+                    Some(crate::model::PointKind::Electronics) => {
+                        "move the item farther from the web or screen it with earthed metal, and neutralise the spans that dominate the field there"
+                    }
+                    _ => "neutralise the spans that dominate the field there",
+                };
                 push(format!(
-                    "{urgency}: at {} ({}), neutralise the spans that dominate the field there, keep the person or item farther from the web, or earth the person (footwear and flooring below 1e8 Ω, NFPA 77).{dominant}",
+                    "{urgency}: at {} ({}), {action}.{dominant}",
                     f.subject, f.check
                 ))
             }
