@@ -310,11 +310,12 @@ pub fn build_report(
         }
     }
     let mut references: Vec<String> = Vec::new();
-    for p in profiles {
-        for r in &p.rules {
-            if !references.contains(&r.source) {
-                references.push(r.source.clone());
-            }
+    let rule_sources = profiles
+        .iter()
+        .flat_map(|p| p.rules.iter().map(|r| &r.source));
+    for src in rule_sources.chain(assessment.findings.iter().map(|f| &f.source)) {
+        if !references.contains(src) {
+            references.push(src.clone());
         }
     }
     for extra in [

@@ -175,6 +175,19 @@ fn reading_table(r: &Report) -> Block {
     )
 }
 
+/// One row per rule that gave a finding: `profile/rule` and what it checks.
+fn rules_checked(r: &Report) -> Vec<Vec<String>> {
+    let mut rows: Vec<Vec<String>> = Vec::new();
+    for f in &r.findings {
+        let id = format!("{}/{}", f.profile, f.rule);
+        if !rows.iter().any(|row| row[0] == id) {
+            rows.push(vec![id, f.check.clone()]);
+        }
+    }
+    rows.sort();
+    rows
+}
+
 /// Lays out the whole report.
 pub fn layout(r: &Report) -> Vec<Section> {
     let line = &r.line;
@@ -513,7 +526,6 @@ pub fn layout(r: &Report) -> Vec<Section> {
                 verdict_cell(f.verdict),
                 format!("{}/{}", f.profile, f.rule),
                 f.subject.clone(),
-                f.check.clone(),
                 q(f.value, f.dim),
                 format!(
                     "{}{}",
@@ -528,7 +540,11 @@ pub fn layout(r: &Report) -> Vec<Section> {
                 .to_string(),
                 margin_text(f.margin),
                 f.note.clone(),
-                f.source.clone(),
+                r.references
+                    .iter()
+                    .position(|x| x == &f.source)
+                    .map(|i| format!("[{}]", i + 1))
+                    .unwrap_or_else(|| f.source.clone()),
                 conf,
             ]
         })
@@ -536,11 +552,13 @@ pub fn layout(r: &Report) -> Vec<Section> {
     out.push(sec(
         "Findings",
         vec![
-            Block::Para("Margin = value ÷ governing limit (the failure limit where the rule has one): above 1× the limit is reached. Limits marked VERIFY are recalled, not read in the source: check them against the current edition before relying on them.".into()),
+            Block::Para("Margin = value ÷ governing limit (the failure limit where the rule has one): above 1× the limit is reached. Sources are numbered as in the References section. Limits marked VERIFY are recalled, not read in the source: check them against the current edition before relying on them.".into()),
             table(
-                &["verdict", "rule", "subject", "checks", "value", "limits", "margin", "note", "source", "confidence"],
+                &["verdict", "rule", "subject", "value", "limits", "margin", "note", "source", "confidence"],
                 finding_rows,
             ),
+            Block::Para("What each rule checks:".into()),
+            table(&["rule", "checks"], rules_checked(r)),
         ],
     ));
 
@@ -635,7 +653,16 @@ pub fn layout(r: &Report) -> Vec<Section> {
         "Cautions",
         vec![Block::Caution(crate::CAUTIONS.to_string())],
     ));
-    out.push(sec("References", vec![Block::List(r.references.clone())]));
+    out.push(sec(
+        "References",
+        vec![Block::List(
+            r.references
+                .iter()
+                .enumerate()
+                .map(|(i, x)| format!("[{}] {x}", i + 1))
+                .collect(),
+        )],
+    ));
     out.push(sec(
         "Sign-off",
         vec![Block::SignOff(vec![

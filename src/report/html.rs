@@ -57,7 +57,7 @@ td.fail{background:#f6d2cc;font-weight:bold}td.warn{background:#fbeac0;font-weig
 .caution{background:#fff4d6;border:1px solid #d9b65c;padding:.6rem .8rem}
 figure{margin:1rem 0}img{max-width:100%;border:1px solid #c9d6da}figcaption{font-size:.85rem;color:#4b5a60}
 .sign p{border-bottom:1px solid #888;padding-bottom:1.2rem;width:60%}
-@media print{body{max-width:none;margin:0;font-size:10pt}@page{size:A4;margin:15mm}h2{break-after:avoid}table,figure{break-inside:avoid}}";
+@media print{body{max-width:none;margin:0;font-size:10pt}table{font-size:7.5pt}th,td{padding:.1rem .2rem}@page{size:A4;margin:15mm}h2{break-after:avoid}tr,figure{break-inside:avoid}}";
 
 fn base64(bytes: &[u8]) -> String {
     const T: &[u8; 64] = b"ABCDEFGHIJKLMNOPQRSTUVWXYZabcdefghijklmnopqrstuvwxyz0123456789+/";
