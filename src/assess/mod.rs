@@ -369,6 +369,9 @@ impl<'a> Run<'a> {
     }
 
     fn assume(&mut self, text: &str) {
+        if self.lean {
+            return;
+        }
         if !self.assumptions.iter().any(|a| a == text) {
             self.assumptions.push(text.to_string());
         }
@@ -490,7 +493,11 @@ impl<'a> Run<'a> {
                 rule,
                 Subject {
                     kind: SubjectKind::Span,
-                    label: span.label(),
+                    label: if self.lean {
+                        String::new()
+                    } else {
+                        span.label()
+                    },
                     value,
                     warn: rule.warn,
                     fail: rule.fail,
@@ -555,7 +562,11 @@ impl<'a> Run<'a> {
                 rule,
                 Subject {
                     kind: SubjectKind::Point,
-                    label: p.id.clone(),
+                    label: if self.lean {
+                        String::new()
+                    } else {
+                        p.id.clone()
+                    },
                     value,
                     warn: rule.warn,
                     fail,
@@ -572,8 +583,8 @@ impl<'a> Run<'a> {
         };
         self.assume(assumption::WEB_POTENTIAL);
         for (p, f, zones) in self.points(rule) {
-            // (margin, |V_web|, allowed, span label, d)
-            let mut worst: Option<(f64, f64, f64, String, f64)> = None;
+            // (margin, |V_web|, allowed, span, d)
+            let mut worst: Option<(f64, f64, f64, &Span, f64)> = None;
             for span in &self.line.path.spans {
                 let d = distance_to_span(span, self.line.web.width, p.at);
                 if d >= far.distance {
@@ -587,11 +598,16 @@ impl<'a> Run<'a> {
                 let v = self.web_potential(span, p.at, d)?;
                 let margin = v / allowed;
                 if worst.as_ref().is_none_or(|w| margin > w.0) {
-                    worst = Some((margin, v, allowed, span.label(), d));
+                    worst = Some((margin, v, allowed, span, d));
                 }
             }
-            let Some((_, v, allowed, label, d)) = worst else {
+            let Some((_, v, allowed, span, d)) = worst else {
                 continue;
+            };
+            let label = if self.lean {
+                String::new()
+            } else {
+                span.label()
             };
             let mut note = if self.lean {
                 String::new()
@@ -618,7 +634,11 @@ impl<'a> Run<'a> {
                 rule,
                 Subject {
                     kind: SubjectKind::Point,
-                    label: p.id.clone(),
+                    label: if self.lean {
+                        String::new()
+                    } else {
+                        p.id.clone()
+                    },
                     value: v,
                     warn: None,
                     fail: Some(allowed),
@@ -723,7 +743,11 @@ impl<'a> Run<'a> {
                 rule,
                 Subject {
                     kind: SubjectKind::Roller,
-                    label: roller.id.clone(),
+                    label: if self.lean {
+                        String::new()
+                    } else {
+                        roller.id.clone()
+                    },
                     value: c,
                     warn: rule.warn,
                     fail: rule.fail,
@@ -787,7 +811,11 @@ impl<'a> Run<'a> {
                 rule,
                 Subject {
                     kind: SubjectKind::Span,
-                    label: span.label(),
+                    label: if self.lean {
+                        String::new()
+                    } else {
+                        span.label()
+                    },
                     value: ub,
                     warn: rule.warn,
                     fail: rule.fail,

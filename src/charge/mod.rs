@@ -183,6 +183,20 @@ pub fn charge_profile_with(
     overrides: &[(usize, f64)],
     active: &[bool],
 ) -> ChargeProfile {
+    build(line, overrides, active, true)
+}
+
+/// [`charge_profile_with`] without the segments' `origin` texts (the
+/// planner's inner loop).
+pub fn charge_profile_lean(
+    line: &Line,
+    overrides: &[(usize, f64)],
+    active: &[bool],
+) -> ChargeProfile {
+    build(line, overrides, active, false)
+}
+
+fn build(line: &Line, overrides: &[(usize, f64)], active: &[bool], origins: bool) -> ChargeProfile {
     let lambda = line.web.decay_length();
     let total = line.path.total_length;
     let starts = segment_starts(line);
@@ -191,7 +205,9 @@ pub fn charge_profile_with(
     for (k, &s0) in starts.iter().enumerate() {
         let s1 = starts.get(k + 1).copied().unwrap_or(total);
         let mut a = carried;
-        let mut origin = if k == 0 {
+        let mut origin = if !origins {
+            String::new()
+        } else if k == 0 {
             "start of path (uncharged until a charge entry)".to_string()
         } else {
             "carried in".to_string()
@@ -201,7 +217,9 @@ pub fn charge_profile_with(
                 ChargeMode::Set => e.sigma,
                 ChargeMode::Add => a + e.sigma,
             };
-            origin = e.at.clone();
+            if origins {
+                origin = e.at.clone();
+            }
         }
         for (i, e) in line
             .eliminators
@@ -211,6 +229,9 @@ pub fn charge_profile_with(
         {
             let on = active.get(i).copied().unwrap_or(true);
             a = neutralise(e, a, on);
+            if !origins {
+                continue;
+            }
             origin = format!(
                 "{} ({} eliminator{})",
                 e.id,
@@ -220,7 +241,9 @@ pub fn charge_profile_with(
         }
         if let Some(&(_, v)) = overrides.iter().find(|(i, _)| *i == k) {
             a = v;
-            origin = format!("{origin} (from readings)");
+            if origins {
+                origin = format!("{origin} (from readings)");
+            }
         }
         segments.push(ChargeSegment {
             s_start: s0,

@@ -45,7 +45,7 @@
 //! Robinson, PFFC "Static Beat" (FACTS.md "Static eliminators").
 
 use crate::assess::{Assessment, ThresholdProfile, Verdict, assess};
-use crate::charge::{charge_profile_with, decay};
+use crate::charge::decay;
 use crate::field::{FieldAt, FieldError, FieldMap, FieldModel, PointField, SolverSettings};
 use crate::model::validate::{meter_geometry, point_problem};
 use crate::model::{ChargeMode, Earthing, Eliminator, EliminatorKind, Line, NodeKind, Side};
@@ -301,6 +301,8 @@ struct Influence {
     sources: Vec<Source>,
     /// prefix[i][p][e] = Σ_{e' < e} c_ie' G_e'(p), as [Ex, Ey, Ez, V].
     prefix: Vec<Vec<Vec<[f64; 4]>>>,
+    /// Piece index where each source starts.
+    source_piece: Vec<usize>,
     /// Point index by position bits.
     index: HashMap<[u64; 3], usize>,
     points: Vec<[f64; 3]>,
@@ -411,7 +413,12 @@ impl Influence {
             .enumerate()
             .map(|(i, &p)| (key(p), i))
             .collect();
+        let source_piece = sources
+            .iter()
+            .map(|src| starts.partition_point(|&a| a < src.s))
+            .collect();
         Ok(Influence {
+            source_piece,
             starts,
             sources,
             prefix,
@@ -424,28 +431,29 @@ impl Influence {
         self.starts.partition_point(|&a| a < s)
     }
 
-    /// The field at point `p` with bars at arc lengths `bars` (sorted) of
-    /// efficiencies `eta`.
-    fn field(&self, p: usize, bars: &[(f64, f64)]) -> [f64; 4] {
+    /// The field at point `p` with bars `(arc length, η, piece index)`
+    /// sorted along the path.
+    fn field(&self, p: usize, bars: &[(f64, f64, usize)]) -> [f64; 4] {
         let n = self.starts.len();
         let mut out = [0.0; 4];
         for (i, src) in self.sources.iter().enumerate() {
             let pre = &self.prefix[i][p];
             let mut factor = 1.0;
-            let mut from = self.piece_at(src.s);
-            for &(sb, eta) in bars {
+            let mut from = self.source_piece[i];
+            for &(sb, eta, to) in bars {
                 if sb < src.s {
                     continue;
                 }
-                let to = self.piece_at(sb);
+                let (a, b) = (&pre[to], &pre[from]);
                 for k in 0..4 {
-                    out[k] += factor * (pre[to][k] - pre[from][k]);
+                    out[k] += factor * (a[k] - b[k]);
                 }
                 factor *= 1.0 - eta;
                 from = to.max(from);
             }
+            let (a, b) = (&pre[n], &pre[from]);
             for k in 0..4 {
-                out[k] += factor * (pre[n][k] - pre[from][k]);
+                out[k] += factor * (a[k] - b[k]);
             }
         }
         out
@@ -455,7 +463,8 @@ impl Influence {
 /// The superposition answering the assessment's field questions.
 struct Fast<'a> {
     inf: &'a Influence,
-    bars: Vec<(f64, f64)>,
+    /// (arc length, η, piece index), sorted.
+    bars: Vec<(f64, f64, usize)>,
 }
 
 impl FieldAt for Fast<'_> {
@@ -639,18 +648,25 @@ pub fn plan(
     points.dedup();
     let inf = Influence::build(line, points, &cands, st.solver)?;
 
-    let evaluate = |bars: &[usize]| -> Option<(usize, f64, usize, f64)> {
-        let placed = apply(
-            line,
-            &bars.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
-        );
-        let charge = charge_profile_with(&placed, &[], &vec![true; placed.eliminators.len()]);
-        let mut bs: Vec<(f64, f64)> = placed
+    // One placement: `placed` is a scratch copy of the line whose
+    // eliminators are replaced (so no line is cloned per placement).
+    let base_elims = line.eliminators.clone();
+    let evaluate_in = |placed: &mut Line, bars: &[usize]| -> Option<Score> {
+        placed.eliminators.clear();
+        placed.eliminators.extend(base_elims.iter().cloned());
+        for (i, &b) in bars.iter().enumerate() {
+            placed
+                .eliminators
+                .push(cands[b].eliminator(line, &format!("P{}", i + 1)));
+        }
+        placed.eliminators.sort_by(|a, b| a.s.total_cmp(&b.s));
+        let charge =
+            crate::charge::charge_profile_lean(placed, &[], &vec![true; placed.eliminators.len()]);
+        let bs: Vec<(f64, f64, usize)> = placed
             .eliminators
             .iter()
-            .map(|e| (e.s, e.efficiency))
+            .map(|e| (e.s, e.efficiency, inf.piece_at(e.s)))
             .collect();
-        bs.sort_by(|a, b| a.0.total_cmp(&b.0));
         let fast = Fast {
             inf: &inf,
             bars: bs,
@@ -664,13 +680,15 @@ pub fn plan(
                 .ok()?,
         };
         let (fails, worst) =
-            crate::assess::assess_score(&placed, &charge, &fast, &pts, profiles).ok()?;
+            crate::assess::assess_score(placed, &charge, &fast, &pts, profiles).ok()?;
         let upstream: f64 = bars
             .iter()
             .map(|&b| line.path.spans[cands[b].span].s_start + cands[b].along)
             .sum();
         Some((fails, worst, bars.len(), upstream))
     };
+    let evaluate = |bars: &[usize]| -> Option<Score> { evaluate_in(&mut line.clone(), bars) };
+    let keep = st.top.max(1);
 
     let n_cand = cands.len();
     let sizes: Vec<usize> = match st.bars {
@@ -689,14 +707,26 @@ pub fn plan(
             let done = std::sync::atomic::AtomicUsize::new(0);
             found = combos
                 .par_iter()
-                .filter_map(|c| {
-                    let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
-                    if d.is_multiple_of(20000) {
-                        progress(d, total);
+                .fold(
+                    || (line.clone(), Vec::new()),
+                    |(mut placed, mut best): (Line, Vec<(Vec<usize>, Score)>), c| {
+                        let d = done.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                        if d.is_multiple_of(20000) {
+                            progress(d, total);
+                        }
+                        if let Some(sc) = evaluate_in(&mut placed, c) {
+                            keep_best(&mut best, c, sc, keep);
+                        }
+                        (placed, best)
+                    },
+                )
+                .map(|(_, best)| best)
+                .reduce(Vec::new, |mut a, b| {
+                    for (c, sc) in b {
+                        keep_best(&mut a, &c, sc, keep);
                     }
-                    evaluate(c).map(|s| (c.clone(), s))
-                })
-                .collect();
+                    a
+                });
             evaluated += total;
         } else {
             exhaustive = false;
@@ -795,6 +825,19 @@ pub fn binomial(n: usize, k: usize) -> f64 {
         return 0.0;
     }
     (0..k).fold(1.0, |acc, i| acc * (n - i) as f64 / (i + 1) as f64)
+}
+
+/// Inserts a placement into a best-first list of at most `keep` entries.
+fn keep_best(best: &mut Vec<(Vec<usize>, Score)>, c: &[usize], sc: Score, keep: usize) {
+    if best.len() == keep && best.last().is_some_and(|w| !better(&sc, &w.1)) {
+        return;
+    }
+    let at = best
+        .iter()
+        .position(|b| better(&sc, &b.1) || (!better(&b.1, &sc) && c < b.0.as_slice()))
+        .unwrap_or(best.len());
+    best.insert(at, (c.to_vec(), sc));
+    best.truncate(keep);
 }
 
 /// All k-subsets of 0..n in lexicographic order.
