@@ -252,15 +252,23 @@ pub fn candidates(line: &Line, st: &PlanSettings) -> Vec<Candidate> {
     out
 }
 
-/// The line with bars added (ids `P1`, `P2`, … after the existing ones).
+/// The line with bars added (ids `PB1`, `PB2`, … — "planned bar" — skipping
+/// any id the line already uses).
 pub fn apply(line: &Line, cands: &[Candidate]) -> Line {
     let mut l = line.clone();
+    let taken = |l: &Line, id: &str| {
+        l.eliminators.iter().any(|e| e.id == id)
+            || l.points.iter().any(|p| p.id == id)
+            || l.rollers.iter().any(|r| r.id == id)
+            || l.zones.iter().any(|z| z.id == id)
+            || l.readings.iter().any(|r| r.id == id)
+    };
     for (i, c) in cands.iter().enumerate() {
         let mut k = i + 1;
-        let mut id = format!("P{k}");
-        while l.eliminators.iter().any(|e| e.id == id) {
+        let mut id = format!("PB{k}");
+        while taken(&l, &id) {
             k += 1;
-            id = format!("P{k}");
+            id = format!("PB{k}");
         }
         l.eliminators.push(c.eliminator(line, &id));
     }
@@ -657,7 +665,7 @@ pub fn plan(
         for (i, &b) in bars.iter().enumerate() {
             placed
                 .eliminators
-                .push(cands[b].eliminator(line, &format!("P{}", i + 1)));
+                .push(cands[b].eliminator(line, &format!("PB{}", i + 1)));
         }
         placed.eliminators.sort_by(|a, b| a.s.total_cmp(&b.s));
         let charge =
