@@ -300,3 +300,31 @@ fn lean_score_equals_the_full_assessment() {
         assert_eq!((fails, worst), key(&full));
     }
 }
+
+/// A line that already has eliminators (in flow style) keeps them when a
+/// plan is applied, and the new file still assesses as predicted.
+#[test]
+fn apply_keeps_existing_eliminators() {
+    let text = format!(
+        "{LINE}eliminators: [{{id: E0, kind: passive, span: S1, position: 50 %, distance: 20 mm, side: above}}]\n"
+    );
+    let line = parse_line(&text).unwrap();
+    let profiles = profiles(&line);
+    let mut st = PlanSettings::new(SolverSettings::default());
+    st.spacing = 0.5;
+    st.bars = Some(1);
+    let p = plan(&line, &profiles, &st, &|_, _| {}).unwrap();
+    let best = &p.options[0];
+    let bars: Vec<Candidate> = best.bars.iter().map(|&b| p.candidates[b].clone()).collect();
+    let out = apply_to_yaml(&text, &line, &bars, SolverSettings::default()).unwrap();
+    let applied = parse_line(&out).unwrap_or_else(|e| panic!("{e}\n{out}"));
+    assert_eq!(applied.eliminators.len(), 2);
+    assert!(
+        applied
+            .eliminators
+            .iter()
+            .any(|e| e.id == "E0" && e.kind == EliminatorKind::Passive)
+    );
+    let a = full_assessment(&applied, &profiles, SolverSettings::default()).unwrap();
+    assert_eq!(key(&a), key(&best.assessment));
+}

@@ -968,24 +968,30 @@ pub fn apply_to_yaml(
 ) -> Result<String, PlanError> {
     let planning = planning_line(line, solver)?;
     let placed = apply(&planning, bars);
-    let new: Vec<&Eliminator> = placed
+    // Every eliminator, the existing ones and the new ones, in block style.
+    let items: String = placed
         .eliminators
         .iter()
-        .filter(|e| !line.eliminators.iter().any(|o| o.id == e.id))
-        .collect();
-    let items: String = new
-        .iter()
         .map(|e| {
-            format!(
-                "  - {{id: {}, kind: {}, span: {}, position: {:?} m, distance: {:?} m, side: {}, efficiency: {:?} %}}   # added by websigma plan\n",
+            let added = !line.eliminators.iter().any(|o| o.id == e.id);
+            let mut fields = format!(
+                "id: {}, kind: {}, span: {}, position: {:?} m, distance: {:?} m, side: {}, efficiency: {:?} %, residual: {:?} uC/m^2",
                 e.id,
                 e.kind.text(),
                 line.path.spans[e.span].name,
                 e.along,
                 e.distance,
                 e.side.text(),
-                e.efficiency * 100.0
-            )
+                e.efficiency * 100.0,
+                e.residual * 1e6
+            );
+            if let Some(on) = e.onset {
+                fields.push_str(&format!(", onset: {on:?} V/m"));
+            }
+            if e.kind == EliminatorKind::Powered {
+                fields.push_str(&format!(", ion_output: {:?} uA/m", e.ion_output * 1e6));
+            }
+            format!("  - {{{fields}}}{}\n", if added { "   # added by websigma plan" } else { "" })
         })
         .collect();
     let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
@@ -1015,12 +1021,13 @@ pub fn apply_to_yaml(
             ));
         }
     }
-    if let Some(i) = lines.iter().position(|l| l.trim_end() == "eliminators:") {
-        lines.insert(i + 1, items.trim_end().to_string());
-    } else {
-        tail.push_str("eliminators:\n");
-        tail.push_str(&items);
-    }
+    comment_out_block(
+        &mut lines,
+        "eliminators",
+        "eliminators as given; the full list, with the planned bars, is below",
+    );
+    tail.push_str("eliminators:\n");
+    tail.push_str(&items);
     let mut out = lines.join("\n");
     out.push('\n');
     out.push_str(&tail);
