@@ -121,3 +121,64 @@ fn point_inside_a_roller_or_below_the_ground_is_refused() {
             .contains("below the ground plane")
     );
 }
+
+mod no_panic {
+    //! No panic on any input: arbitrary text, and the demo line with one
+    //! line removed or one value replaced, go through validation, the
+    //! readings inversion and the field at a point returning Ok or Err.
+    use proptest::prelude::*;
+    use websigma::field::{FieldModel, SolverSettings};
+    use websigma::model::parse_line;
+
+    fn run(text: &str) {
+        if let Ok(line) = parse_line(text) {
+            let st = SolverSettings::new(1e-6).unwrap();
+            if let Ok(r) = websigma::readings::invert_readings(&line, st) {
+                let m = FieldModel::new(&line, &r.charge, st);
+                let _ = m.at([1.0, 0.3, 2.0], false);
+            }
+        }
+    }
+
+    proptest! {
+        #![proptest_config(ProptestConfig::with_cases(64))]
+
+        #[test]
+        fn arbitrary_text_never_panics(text in "\\PC{0,400}") {
+            run(&text);
+        }
+
+        #[test]
+        fn a_demo_line_removed_never_panics(k in 0usize..200) {
+            let lines: Vec<&str> = websigma::DEMO_LINE.lines().collect();
+            let k = k % lines.len();
+            let text: String = lines.iter().enumerate().filter(|(i, _)| *i != k).map(|(_, l)| format!("{l}\n")).collect();
+            run(&text);
+        }
+
+        #[test]
+        fn a_demo_value_replaced_never_panics(k in 0usize..400, v in prop_oneof![
+            Just("0".to_string()), Just("-1 m".to_string()), Just("1e300 m".to_string()),
+            Just("nan".to_string()), Just("[]".to_string()), Just("{}".to_string()),
+            Just("1e-30 mm".to_string()), Just("100 %".to_string()), Just("5 C/m^2".to_string()),
+            Just("R1".to_string()), Just("S99".to_string()), Just("~".to_string()),
+        ]) {
+            // Replace the k-th "key: value" value.
+            let mut n = 0;
+            let mut out = String::new();
+            for l in websigma::DEMO_LINE.lines() {
+                if let Some(i) = l.find(": ") {
+                    if n == k % 120 {
+                        out.push_str(&format!("{}: {v}\n", &l[..i]));
+                        n += 1;
+                        continue;
+                    }
+                    n += 1;
+                }
+                out.push_str(l);
+                out.push('\n');
+            }
+            run(&out);
+        }
+    }
+}
