@@ -111,6 +111,28 @@ fn summary(line: &Line, charge: &ChargeProfile) -> String {
             c.at
         ));
     }
+    for e in &line.eliminators {
+        s.push_str(&format!(
+            "eliminator: {} {} on {} at {}, {} {}, η {}{}\n",
+            e.id,
+            e.kind.text(),
+            line.path.spans[e.span].label(),
+            format_quantity(e.along, Dim::Length),
+            format_quantity(e.distance, Dim::Length),
+            e.side.text(),
+            format_quantity(e.efficiency, Dim::Percent),
+            match e.onset {
+                Some(on) => format!(", onset {}", crate::units::format_si(on, "V/m")),
+                None => String::new(),
+            }
+        ));
+    }
+    if !line.readings.is_empty() {
+        s.push_str(&format!(
+            "readings: {} (the segments they fall on take their density from them; see `websigma readings`)\n",
+            line.readings.len()
+        ));
+    }
     s
 }
 
