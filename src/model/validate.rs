@@ -1004,41 +1004,42 @@ fn validate_meter(ctx: &mut Ctx, raw: &RawLine) -> MeterSpec {
     let Some(r) = &raw.meter else {
         return m;
     };
-    if let Some(a) = &r.accuracy
-        && let Some(v) = ctx.qty(a, Dim::Percent, "meter.accuracy")
-    {
-        if (0.0..1.0).contains(&v) {
-            m.accuracy = v;
-        } else {
-            ctx.err(
-                "meter.accuracy",
-                "expected a percentage from 0 % to below 100 %, such as \"5 %\"",
-            );
-        }
+    let mut checked =
+        |v: &Option<Scalar>, dim: Dim, path: &str, ok: fn(f64) -> bool, accepted: &str| {
+            let x = v.as_ref().and_then(|v| ctx.qty(v, dim, path))?;
+            if ok(x) {
+                Some(x)
+            } else {
+                ctx.err(path, format!("expected {accepted}"));
+                None
+            }
+        };
+    if let Some(v) = checked(
+        &r.accuracy,
+        Dim::Percent,
+        "meter.accuracy",
+        |x| (0.0..1.0).contains(&x),
+        "a percentage from 0 % to below 100 %, such as \"5 %\"",
+    ) {
+        m.accuracy = v;
     }
-    if let Some(o) = &r.offset
-        && let Some(v) = ctx.qty(o, Dim::Field, "meter.offset")
-    {
-        if v >= 0.0 {
-            m.offset = v;
-        } else {
-            ctx.err(
-                "meter.offset",
-                "expected a field of zero or more, such as \"1 kV/m\"",
-            );
-        }
+    if let Some(v) = checked(
+        &r.offset,
+        Dim::Field,
+        "meter.offset",
+        |x| x >= 0.0,
+        "a field of zero or more, such as \"1 kV/m\"",
+    ) {
+        m.offset = v;
     }
-    if let Some(d) = &r.distance_tolerance
-        && let Some(v) = ctx.qty(d, Dim::Length, "meter.distance_tolerance")
-    {
-        if v >= 0.0 {
-            m.distance_tolerance = v;
-        } else {
-            ctx.err(
-                "meter.distance_tolerance",
-                "expected a length of zero or more, such as \"2 mm\"",
-            );
-        }
+    if let Some(v) = checked(
+        &r.distance_tolerance,
+        Dim::Length,
+        "meter.distance_tolerance",
+        |x| x >= 0.0,
+        "a length of zero or more, such as \"2 mm\"",
+    ) {
+        m.distance_tolerance = v;
     }
     m
 }
