@@ -14,7 +14,7 @@
 //!    patch with a decaying density at 1 m, 25 mm and 0.5 mm from it, for the
 //!    `edges`, `tilt` and a 3-piece `table` profile;
 //! 3. a 400 × 300 side-view grid (y = 0) over a 20-span serpentine line with a
-//!    ground plane ([`websigma::field::FieldModel::at`]): wall time on 1 and 2
+//!    ground plane ([`websigma::field::WebField::at`]): wall time on 1 and 2
 //!    threads, for a uniform non-decaying density (closed-form path) and for
 //!    `edges` k = 0.6 with τ = 5 s (numerical path).
 //!
@@ -61,7 +61,7 @@ use std::hint::black_box;
 use std::time::{Duration, Instant};
 use websigma::field::integrate::{Patch, patch_field};
 use websigma::field::kernels::{LocalField, QuadPiece, uniform_rectangle};
-use websigma::field::{FieldModel, SolverSettings};
+use websigma::field::{Scene, SolverSettings, WebField};
 
 /// Amplitude A of the benchmark patch [C/m²].
 const AMPLITUDE: f64 = 1e-5;
@@ -343,7 +343,7 @@ charge:
 }
 
 /// Sum of V over the grid points that are not on the web, and their number.
-fn grid_sum(model: &FieldModel, pts: &[[f64; 3]]) -> (f64, usize) {
+fn grid_sum(model: &WebField<'_>, pts: &[[f64; 3]]) -> (f64, usize) {
     pts.par_iter()
         .filter_map(|&p| model.at(black_box(p), false).ok())
         .map(|f| (f.v + f.e[0] + f.e[2], 1))
@@ -380,7 +380,8 @@ fn part3(rows: &mut Vec<Row>) -> Result<(), Box<dyn Error>> {
     for (name, across, tau, reps, target) in cases {
         let line = websigma::model::parse_line(&serpentine_yaml(across, tau))?;
         let charge = websigma::charge::charge_profile(&line);
-        let model = FieldModel::new(&line, &charge, SolverSettings::new(REL_TOL)?);
+        let scene = Scene::new(&line, SolverSettings::new(REL_TOL)?)?;
+        let model = scene.web(&charge);
         for threads in [1usize, 2] {
             let pool = rayon::ThreadPoolBuilder::new()
                 .num_threads(threads)
@@ -397,7 +398,7 @@ fn part3(rows: &mut Vec<Row>) -> Result<(), Box<dyn Error>> {
                 case: format!(
                     "{name} ({done} of {} points, {} spans)",
                     pts.len(),
-                    model.span_count()
+                    scene.span_count()
                 ),
                 threads,
                 value: format!("{:.3}", d.as_secs_f64()),
@@ -460,11 +461,12 @@ fn part4(rows: &mut Vec<Row>) -> Result<(), Box<dyn Error>> {
             .map(|n| websigma::assess::profile::load_profile(n))
             .collect::<Result<Vec<_>, _>>()?,
     );
-    let mut st = PlanSettings::new(websigma::field::SolverSettings::new(1e-6)?);
+    let scene = Scene::new(&line, SolverSettings::new(1e-6)?)?;
+    let mut st = PlanSettings::new();
     st.bars = Some(3);
     st.spacing = 0.07;
     let t = Instant::now();
-    let p = plan(&line, &profiles, &st, &|_, _| {})?;
+    let p = plan(&line, &profiles, &st, &scene, &|_, _| {})?;
     let secs = t.elapsed().as_secs_f64();
     rows.push(Row {
         case: format!(

@@ -10,8 +10,8 @@ use crate::cli::{
     ProfilesArgs, ReadingsArgs,
 };
 use crate::error::Outcome;
-use crate::field::{ASSUMPTIONS, FieldModel, PointField, SolverSettings};
-use crate::model::validate::point_problem;
+use crate::field::{ASSUMPTIONS, PointField, Scene, SolverSettings, WebField};
+use crate::model::geometry::point_problem;
 use crate::model::{Line, load_line, parse_line};
 use crate::readings::{ReadingsResult, invert_readings};
 use crate::report::{self, PointRequest, csv, json, text};
@@ -144,22 +144,32 @@ fn assumptions_text() -> String {
     s
 }
 
-/// The charge along the path: the model's, with the segments that hold
-/// readings fitted to them. Reading warnings go to stderr.
-fn line_charge(line: &Line, settings: SolverSettings) -> Result<(ChargeProfile, ReadingsResult)> {
-    let r = invert_readings(line, settings).context("converting the meter readings")?;
+/// Reading warnings go to stderr.
+fn print_reading_warnings(r: &ReadingsResult) {
     for x in &r.readings {
         for w in &x.warnings {
-            eprintln!("warning: reading {}: {w}", x.id);
+            eprintln!(
+                "warning: reading {}: {}",
+                x.id,
+                crate::report::notes::reading_note(w)
+            );
         }
     }
+}
+
+/// The charge along the path: the model's, with the segments that hold
+/// readings fitted to them. Reading warnings go to stderr.
+fn line_charge(line: &Line, scene: &Scene) -> Result<(ChargeProfile, ReadingsResult)> {
+    let r = invert_readings(line, scene).context("converting the meter readings")?;
+    print_reading_warnings(&r);
     Ok((r.charge.clone(), r))
 }
 
 fn check(a: &CheckArgs) -> Result<Outcome> {
     let line = load_line(&a.line)?;
     print_warnings(&line);
-    let (charge, _) = line_charge(&line, SolverSettings::default())?;
+    let scene = Scene::new(&line, SolverSettings::default())?;
+    let (charge, _) = line_charge(&line, &scene)?;
     let mut out = std::io::stdout().lock();
     let mut s = summary(&line, &charge);
     s.push('\n');
@@ -366,7 +376,7 @@ impl FieldWriter {
 }
 
 fn evaluate(
-    model: &FieldModel,
+    model: &WebField<'_>,
     reqs: &[PointRequest],
     contributions: bool,
 ) -> Result<Vec<PointField>> {
@@ -380,8 +390,9 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
     let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
     let line = load_line(&a.line)?;
     print_warnings(&line);
-    let (charge, _) = line_charge(&line, settings)?;
-    let model = FieldModel::new(&line, &charge, settings);
+    let scene = Scene::new(&line, settings)?;
+    let (charge, _) = line_charge(&line, &scene)?;
+    let model = scene.web(&charge);
     let spans: Vec<String> = line.path.spans.iter().map(|s| s.name.clone()).collect();
     let mut w = FieldWriter {
         format: a.format,
@@ -544,7 +555,7 @@ pub fn make_plots(
     line: &Line,
     charge: &ChargeProfile,
     readings: &ReadingsResult,
-    model: &FieldModel,
+    model: &WebField<'_>,
     profiles: &[crate::assess::ThresholdProfile],
     assessment: &crate::assess::Assessment,
     map_resolution: usize,
@@ -557,7 +568,7 @@ pub fn make_plots(
     let nz = ((nx as f64) * (zr[1] - zr[0]) / (xr[1] - xr[0]))
         .round()
         .clamp(10.0, 1000.0) as usize;
-    let (xs, zs, e) = crate::field::side_view_grid(model, xr, zr, nx, nz, 0.0);
+    let (xs, zs, e) = model.side_view_grid(xr, zr, nx, nz, 0.0);
     let grid = figures::field_grid(xs, zs, e, 0.0, lowest_field_limit(profiles));
     let height = figures::picture_height(xr, zr, 1400);
     // Charge limits that apply somewhere on this line (from the findings),
@@ -603,21 +614,33 @@ pub fn make_plots(
 
 /// Runs the whole pipeline and writes the report folder; returns its path
 /// and the assessment.
-fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::assess::Assessment)> {
+/// What an assessment run leaves for the terminal.
+struct AssessRun {
+    dir: std::path::PathBuf,
+    assessment: crate::assess::Assessment,
+    charge: ChargeProfile,
+    readings: ReadingsResult,
+}
+
+fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     use crate::report::{build, folder};
     check_out_dir(job.out)?;
     let line = &job.line;
     let profiles = load_profiles(line, job.extra_profiles)?;
-    let (charge, readings) = line_charge(line, job.settings)?;
-    let model = FieldModel::new(line, &charge, job.settings);
-    let pts: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
-    let points = crate::field::FieldMap {
-        points: pts
-            .par_iter()
-            .map(|&p| model.at(p, true))
-            .collect::<std::result::Result<Vec<_>, _>>()?,
-    };
-    let assessment = crate::assess::assess(line, &charge, &model, &points, &profiles)?;
+    let analysis = crate::pipeline::analyse(
+        line,
+        &profiles,
+        &crate::pipeline::Settings::new(job.settings),
+    )?;
+    let scene = &analysis.scene;
+    let crate::pipeline::Evaluation {
+        readings,
+        charge,
+        points,
+        assessment,
+    } = analysis.evaluation;
+    print_reading_warnings(&readings);
+    let model = scene.web(&charge);
 
     let plots = make_plots(
         line,
@@ -633,19 +656,19 @@ fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::asse
     if let Some(n) = job.plan
         && assessment.verdict == crate::assess::Verdict::Fail
     {
-        let mut st = crate::plan::PlanSettings::new(job.settings);
+        let mut st = crate::plan::PlanSettings::new();
         st.max_bars = n.max(1);
         st.spacing = 0.25;
-        let plan = crate::plan::plan(line, &profiles, &st, &|_, _| {})?;
+        let plan = crate::plan::plan(line, &profiles, &st, scene, &|_, _| {})?;
         if let Some(best) = plan.options.first() {
-            let planning = crate::plan::planning_line(line, job.settings)?;
+            let planning = crate::plan::planning_line(line, scene)?;
             let bars: Vec<_> = best
                 .bars
                 .iter()
                 .map(|&b| plan.candidates[b].clone())
                 .collect();
             let placed = crate::plan::apply(&planning, &bars);
-            let (pc, _) = line_charge(&placed, job.settings)?;
+            let (pc, _) = line_charge(&placed, scene)?;
             let side = crate::report::figures::side_view(&placed, &pc);
             let (xr, zr) = crate::report::figures::extent(&placed);
             let h = crate::report::figures::picture_height(xr, zr, 1400);
@@ -681,7 +704,12 @@ fn run_assessment(job: AssessJob<'_>) -> Result<(std::path::PathBuf, crate::asse
     report.plan = plan_section;
     let files = folder::render_all(&report)?;
     let dir = folder::write_folder(job.out, &report.meta.report_id, files.into_iter().map(Ok))?;
-    Ok((dir, assessment))
+    Ok(AssessRun {
+        dir,
+        assessment,
+        charge,
+        readings,
+    })
 }
 
 /// The short terminal summary: one line per finding, worst first.
@@ -746,7 +774,9 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
         anyhow::Error::new(e).context(format!("invalid line description '{}'", a.line.display()))
     })?;
     print_warnings(&line);
-    let (dir, assessment) = run_assessment(AssessJob {
+    let AssessRun {
+        dir, assessment, ..
+    } = run_assessment(AssessJob {
         line_file: a.line.display().to_string(),
         line: line.clone(),
         line_text: &text,
@@ -768,8 +798,7 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
 fn plan_settings(a: &PlanArgs, line: &Line) -> Result<crate::plan::PlanSettings> {
     use crate::model::EliminatorKind;
     use crate::units::parse_quantity;
-    let solver = SolverSettings::new(a.tolerance).context("--tolerance")?;
-    let mut st = crate::plan::PlanSettings::new(solver);
+    let mut st = crate::plan::PlanSettings::new();
     st.bars = a.bars;
     st.max_bars = a.max_bars;
     if a.max_bars == 0 || a.bars == Some(0) {
@@ -839,6 +868,7 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
         anyhow::Error::new(e).context(format!("invalid line description '{}'", a.line.display()))
     })?;
     print_warnings(&line);
+    let solver = SolverSettings::new(a.tolerance).context("--tolerance")?;
     let st = plan_settings(a, &line)?;
     if let Some(out) = &a.apply
         && out.exists()
@@ -856,7 +886,8 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
         }
     };
     let started = std::time::Instant::now();
-    let plan = crate::plan::plan(&line, &profiles, &st, &progress)?;
+    let scene = Scene::new(&line, solver)?;
+    let plan = crate::plan::plan(&line, &profiles, &st, &scene, &progress)?;
     if tty {
         eprintln!(
             "\rsearched {} placements in {:.1} s            ",
@@ -876,7 +907,7 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
             .iter()
             .map(|&b| plan.candidates[b].clone())
             .collect();
-        let new_text = crate::plan::apply_to_yaml(&text, &line, &bars, st.solver)?;
+        let new_text = crate::plan::apply_to_yaml(&text, &line, &bars, &scene)?;
         parse_line(&new_text).map_err(|e| {
             anyhow::Error::new(e).context("internal: the planned line description does not parse")
         })?;
@@ -1031,7 +1062,8 @@ fn readings_cmd(a: &ReadingsArgs) -> Result<Outcome> {
     let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
     let line = load_line(&a.line)?;
     print_warnings(&line);
-    let (_, r) = line_charge(&line, settings)?;
+    let scene = Scene::new(&line, settings)?;
+    let (_, r) = line_charge(&line, &scene)?;
     if r.readings.is_empty() {
         bail!(
             "the line has no `readings:`: add field-meter readings (span, position, distance, side, reading) to convert"
@@ -1043,6 +1075,9 @@ fn readings_cmd(a: &ReadingsArgs) -> Result<Outcome> {
             s.push_str(&format!(
                 "\nσ is the density at the meter's foot from all readings together ({}).\n",
                 r.method
+                    .as_ref()
+                    .map(crate::report::notes::fit_method)
+                    .unwrap_or_default()
             ));
             s.push_str("naive: σ = 2·ε0·E (isolated sheet) and ε0·E (all field on one side), the infinite-sheet rule (Gauss's law)\n");
             s
@@ -1112,18 +1147,8 @@ fn demo(a: &DemoArgs) -> Result<Outcome> {
     let text = crate::DEMO_LINE;
     let line = parse_line(text).context("the built-in demo line (profiles/lines/demo.yaml)")?;
     print_warnings(&line);
-    let (charge, readings) = line_charge(&line, SolverSettings::default())?;
-    let mut s = String::from("websigma demo — an invented example line, not a real plant\n\n");
-    s.push_str(&summary(&line, &charge));
-    s.push('\n');
-    s.push_str(&text::spans_table(&report::span_rows(&line, &charge)));
-    if !readings.readings.is_empty() {
-        s.push_str("\nmeter readings converted with the line's geometry (beside the infinite-sheet rule):\n");
-        s.push_str(&text::readings_table(&readings));
-    }
-    emit(&mut std::io::stdout().lock(), &s)?;
     let started = std::time::Instant::now();
-    let (dir, assessment) = run_assessment(AssessJob {
+    let run = run_assessment(AssessJob {
         line_file: "profiles/lines/demo.yaml (built in)".into(),
         line: line.clone(),
         line_text: text,
@@ -1133,8 +1158,19 @@ fn demo(a: &DemoArgs) -> Result<Outcome> {
         map_resolution: DEMO_MAP_RESOLUTION,
         plan: Some(3),
     })?;
-    eprintln!("assessed in {:.1} s", started.elapsed().as_secs_f64());
-    print_assessment(&line, &assessment, &dir)?;
+    let elapsed = started.elapsed().as_secs_f64();
+    let (charge, readings) = (&run.charge, &run.readings);
+    let mut s = String::from("websigma demo — an invented example line, not a real plant\n\n");
+    s.push_str(&summary(&line, charge));
+    s.push('\n');
+    s.push_str(&text::spans_table(&report::span_rows(&line, charge)));
+    if !readings.readings.is_empty() {
+        s.push_str("\nmeter readings converted with the line's geometry (beside the infinite-sheet rule):\n");
+        s.push_str(&text::readings_table(readings));
+    }
+    emit(&mut std::io::stdout().lock(), &s)?;
+    eprintln!("assessed in {elapsed:.1} s");
+    print_assessment(&line, &run.assessment, &run.dir)?;
     // A demonstration: exit 0 once the report is written, whatever it found.
     Ok(Outcome::Pass)
 }

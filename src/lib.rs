@@ -28,6 +28,8 @@ pub mod cli;
 pub mod error;
 pub mod field;
 pub mod model;
+pub mod physics;
+pub mod pipeline;
 pub mod plan;
 pub mod readings;
 pub mod report;

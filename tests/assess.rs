@@ -10,7 +10,7 @@ use websigma::assess::{
     load_profile, parse_profile, shipped, with_air_limit,
 };
 use websigma::charge::charge_profile;
-use websigma::field::{FieldModel, SolverSettings, solve};
+use websigma::field::{Scene, SolverSettings};
 use websigma::model::{Line, parse_line};
 use websigma::units::EPS0;
 
@@ -40,9 +40,10 @@ fn line(text: &str) -> Line {
 fn run(line: &Line, profiles: &[ThresholdProfile]) -> Assessment {
     let charge = charge_profile(line);
     let settings = SolverSettings::default();
-    let model = FieldModel::new(line, &charge, settings);
+    let scene_model = Scene::new(line, settings).unwrap();
+    let model = scene_model.web(&charge);
     let at: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
-    let map = solve(line, &charge, &at, settings, true).unwrap();
+    let map = model.solve(&at, true).unwrap();
     assess(line, &charge, &model, &map, profiles).unwrap()
 }
 
@@ -254,7 +255,8 @@ fn field_at_points_crosses_at_its_limits() {
     );
     let v = crossing(&l, "field_at_points", "{points: probe}", "V/m");
     let charge = charge_profile(&l);
-    let m = FieldModel::new(&l, &charge, SolverSettings::default());
+    let scene_m = Scene::new(&l, SolverSettings::default()).unwrap();
+    let m = scene_m.web(&charge);
     assert_relative_eq!(
         v,
         m.at([1.0, 0.2, 1.3], false).unwrap().e_magnitude(),
@@ -322,7 +324,9 @@ fn body_voltage_and_spark_energy_by_hand() {
         "",
     );
     let charge = charge_profile(&probe);
-    let v1 = FieldModel::new(&probe, &charge, SolverSettings::default())
+    let v1 = Scene::new(&probe, SolverSettings::default())
+        .unwrap()
+        .web(&charge)
         .at(at, false)
         .unwrap()
         .v;
@@ -384,7 +388,9 @@ fn spark_energy_against_the_mie_of_the_zone() {
     assert!(f.note.contains("ZB"), "{}", f.note);
     // W = ½·150 pF·V² (IEC 61000-4-2 body model) with V from the solver.
     let charge = charge_profile(&l);
-    let v = FieldModel::new(&l, &charge, SolverSettings::default())
+    let v = Scene::new(&l, SolverSettings::default())
+        .unwrap()
+        .web(&charge)
         .at([1.0, 0.7, 1.2], false)
         .unwrap()
         .v;
@@ -455,7 +461,8 @@ fn electronics_separation_uses_the_web_potential_and_the_distance() {
         "",
     );
     let charge = charge_profile(&l);
-    let m = FieldModel::new(&l, &charge, SolverSettings::default());
+    let scene_m = Scene::new(&l, SolverSettings::default()).unwrap();
+    let m = scene_m.web(&charge);
     let inward = m.at([1.95, 0.0, 1.0 + 1e-5], false).unwrap().v;
     let edge = m.at([2.0, 0.0, 1.0 + 1e-5], false).unwrap().v;
     assert!(inward > edge);
@@ -665,7 +672,9 @@ fn findings_are_sorted_and_carry_contributions() {
         .unwrap();
     assert!(pb < pass, "a warning comes before every pass");
     let charge = charge_profile(&l);
-    let total = FieldModel::new(&l, &charge, SolverSettings::default())
+    let total = Scene::new(&l, SolverSettings::default())
+        .unwrap()
+        .web(&charge)
         .at([1.2, 0.2, 1.05], true)
         .unwrap();
     let f = a

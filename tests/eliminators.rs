@@ -5,7 +5,7 @@
 
 use websigma::assess::{Verdict, assess};
 use websigma::charge::{charge_profile, decay};
-use websigma::field::{FieldMap, FieldModel, SolverSettings};
+use websigma::field::{FieldMap, Scene, SolverSettings};
 use websigma::model::{Line, parse_line};
 use websigma::readings::invert_readings;
 
@@ -34,7 +34,7 @@ eliminators:
 }
 
 fn sigma_after(line: &Line, s: f64) -> f64 {
-    invert_readings(line, SolverSettings::default())
+    invert_readings(line, &Scene::new(line, SolverSettings::default()).unwrap())
         .unwrap()
         .charge
         .sigma_c(s)
@@ -98,12 +98,17 @@ fn passive_onset_switches_where_the_tip_field_crosses_it() {
         8.0,
         "  - {id: P1, kind: passive, span: S1, position: 1 m, distance: 20 mm, side: above, onset: 1 V/m}",
     );
-    let r = invert_readings(&probe, SolverSettings::default()).unwrap();
+    let r = invert_readings(
+        &probe,
+        &Scene::new(&probe, SolverSettings::default()).unwrap(),
+    )
+    .unwrap();
     let tip = r.eliminators[0].tip_field.unwrap();
     // Independent: the field at the tip point of a web without the device.
     let mut bare = probe.clone();
     bare.eliminators.clear();
-    let m = FieldModel::new(&bare, &charge_profile(&bare), SolverSettings::default());
+    let scene_m = Scene::new(&bare, SolverSettings::default()).unwrap();
+    let m = scene_m.web(&charge_profile(&bare));
     let direct = m.at([1.0, 0.0, 1.02], false).unwrap().e_magnitude();
     assert!((tip - direct).abs() <= 1e-9 * direct, "{tip} vs {direct}");
     for (onset, on) in [(tip * 0.999, true), (tip * 1.001, false)] {
@@ -113,7 +118,7 @@ fn passive_onset_switches_where_the_tip_field_crosses_it() {
                 "  - {{id: P1, kind: passive, span: S1, position: 1 m, distance: 20 mm, side: above, onset: {onset} V/m}}"
             ),
         );
-        let r = invert_readings(&l, SolverSettings::default()).unwrap();
+        let r = invert_readings(&l, &Scene::new(&l, SolverSettings::default()).unwrap()).unwrap();
         assert_eq!(r.eliminators[0].active, on, "onset {onset}, tip {tip}");
         let expect = if on {
             8e-6 * decay(1.0, 20.0) * 0.2
@@ -131,8 +136,9 @@ fn passive_onset_switches_where_the_tip_field_crosses_it() {
 }
 
 fn findings(l: &Line) -> Vec<websigma::assess::Finding> {
-    let r = invert_readings(l, SolverSettings::default()).unwrap();
-    let m = FieldModel::new(l, &r.charge, SolverSettings::default());
+    let r = invert_readings(l, &Scene::new(l, SolverSettings::default()).unwrap()).unwrap();
+    let scene_m = Scene::new(l, SolverSettings::default()).unwrap();
+    let m = scene_m.web(&r.charge);
     let pts = FieldMap { points: vec![] };
     assess(l, &r.charge, &m, &pts, &[]).unwrap().findings
 }

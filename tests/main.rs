@@ -6,13 +6,15 @@
 //! - `solver`: path-level physics (superposition, images, symmetry);
 //! - `geometry`: web path tangents and arc lengths through the public API;
 //! - `validation`: bad input refused with a located message;
-//! - `cli`: the binary end to end.
+//! - `cli`: the binary end to end;
+//! - `pipeline`: one scene per command, the demo unchanged by reshaping.
 
 mod analytic;
 mod assess;
 mod cli;
 mod eliminators;
 mod geometry;
+mod pipeline;
 mod plan;
 mod readings;
 mod reports;

@@ -5,7 +5,7 @@
 use crate::util::{temp_yaml, websigma};
 use predicates::prelude::*;
 use websigma::assess::{Verdict, with_air_limit};
-use websigma::field::SolverSettings;
+use websigma::field::{Scene, SolverSettings};
 use websigma::model::{EliminatorKind, Side, parse_line};
 use websigma::plan::{
     Candidate, PlanSettings, apply, apply_to_yaml, combinations, full_assessment, plan,
@@ -92,11 +92,12 @@ fn best_plan_equals_brute_force_with_the_full_assessment() {
         cand(1, 1.0, Side::Below),
         cand(1, 1.6, Side::Above),
     ];
-    let mut st = PlanSettings::new(SolverSettings::new(1e-8).unwrap());
+    let scene = Scene::new(&line, SolverSettings::new(1e-8).unwrap()).unwrap();
+    let mut st = PlanSettings::new();
     st.bars = Some(2);
     st.candidates = Some(cands.clone());
     st.top = 3;
-    let p = plan(&line, &profiles, &st, &|_, _| {}).unwrap();
+    let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
     assert!(p.exhaustive);
     assert_eq!(p.evaluated, 15);
     // Brute force.
@@ -106,7 +107,7 @@ fn best_plan_equals_brute_force_with_the_full_assessment() {
             &line,
             &c.iter().map(|&i| cands[i].clone()).collect::<Vec<_>>(),
         );
-        let a = full_assessment(&placed, &profiles, st.solver).unwrap();
+        let a = full_assessment(&scene, &placed, &profiles).unwrap();
         let k = key(&a);
         let better = match &best {
             None => true,
@@ -134,16 +135,17 @@ fn best_plan_equals_brute_force_with_the_full_assessment() {
 fn applied_plan_gives_the_predicted_findings() {
     let line = parse_line(LINE).unwrap();
     let profiles = profiles(&line);
-    let mut st = PlanSettings::new(SolverSettings::default());
+    let scene = Scene::new(&line, SolverSettings::default()).unwrap();
+    let mut st = PlanSettings::new();
     st.spacing = 0.5;
-    let p = plan(&line, &profiles, &st, &|_, _| {}).unwrap();
+    let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
     let best = &p.options[0];
     assert_eq!(best.counts[2], 0, "{}", p.summary);
     let bars: Vec<Candidate> = best.bars.iter().map(|&b| p.candidates[b].clone()).collect();
-    let text = apply_to_yaml(LINE, &line, &bars, SolverSettings::default()).unwrap();
+    let text = apply_to_yaml(LINE, &line, &bars, &scene).unwrap();
     let applied = parse_line(&text).unwrap();
     assert_eq!(applied.eliminators.len(), bars.len());
-    let a = full_assessment(&applied, &profiles, SolverSettings::default()).unwrap();
+    let a = full_assessment(&scene, &applied, &profiles).unwrap();
     assert_eq!(a.findings.len(), best.assessment.findings.len());
     for (x, y) in a.findings.iter().zip(&best.assessment.findings) {
         assert_eq!(
@@ -168,16 +170,17 @@ fn max_bars_finds_the_fewest_bars() {
         .replace("sigma: 4 uC/m^2", "sigma: 1.5 uC/m^2");
     let line = parse_line(&easy).unwrap();
     let profiles = profiles(&line);
-    let before = full_assessment(&line, &profiles, SolverSettings::default()).unwrap();
+    let scene = Scene::new(&line, SolverSettings::default()).unwrap();
+    let before = full_assessment(&scene, &line, &profiles).unwrap();
     assert_eq!(
         before.verdict,
         Verdict::Fail,
         "the test line must fail without bars"
     );
-    let mut st = PlanSettings::new(SolverSettings::default());
+    let mut st = PlanSettings::new();
     st.spacing = 0.5;
     st.max_bars = 3;
-    let p = plan(&line, &profiles, &st, &|_, _| {}).unwrap();
+    let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
     assert_eq!(p.bars, 1, "{}", p.summary);
     assert_eq!(p.options[0].counts[2], 0);
 }
@@ -278,7 +281,7 @@ fn candidate_file_is_checked_with_yaml_paths() {
 #[test]
 fn lean_score_equals_the_full_assessment() {
     use websigma::assess::{assess, assess_score};
-    use websigma::field::{FieldMap, FieldModel};
+    use websigma::field::{FieldMap, Scene};
     let demo = parse_line(websigma::DEMO_LINE).unwrap();
     let profiles = profiles(&demo);
     let with_bars = apply(
@@ -286,8 +289,13 @@ fn lean_score_equals_the_full_assessment() {
         &[cand(0, 0.2, Side::Above), cand(4, 0.3, Side::Below)],
     );
     for line in [demo.clone(), with_bars] {
-        let r = websigma::readings::invert_readings(&line, SolverSettings::default()).unwrap();
-        let m = FieldModel::new(&line, &r.charge, SolverSettings::default());
+        let r = websigma::readings::invert_readings(
+            &line,
+            &Scene::new(&line, SolverSettings::default()).unwrap(),
+        )
+        .unwrap();
+        let scene_m = Scene::new(&line, SolverSettings::default()).unwrap();
+        let m = scene_m.web(&r.charge);
         let pts = FieldMap {
             points: line
                 .points
@@ -310,13 +318,14 @@ fn apply_keeps_existing_eliminators() {
     );
     let line = parse_line(&text).unwrap();
     let profiles = profiles(&line);
-    let mut st = PlanSettings::new(SolverSettings::default());
+    let scene = Scene::new(&line, SolverSettings::default()).unwrap();
+    let mut st = PlanSettings::new();
     st.spacing = 0.5;
     st.bars = Some(1);
-    let p = plan(&line, &profiles, &st, &|_, _| {}).unwrap();
+    let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
     let best = &p.options[0];
     let bars: Vec<Candidate> = best.bars.iter().map(|&b| p.candidates[b].clone()).collect();
-    let out = apply_to_yaml(&text, &line, &bars, SolverSettings::default()).unwrap();
+    let out = apply_to_yaml(&text, &line, &bars, &scene).unwrap();
     let applied = parse_line(&out).unwrap_or_else(|e| panic!("{e}\n{out}"));
     assert_eq!(applied.eliminators.len(), 2);
     assert!(
@@ -325,6 +334,6 @@ fn apply_keeps_existing_eliminators() {
             .iter()
             .any(|e| e.id == "E0" && e.kind == EliminatorKind::Passive)
     );
-    let a = full_assessment(&applied, &profiles, SolverSettings::default()).unwrap();
+    let a = full_assessment(&scene, &applied, &profiles).unwrap();
     assert_eq!(key(&a), key(&best.assessment));
 }

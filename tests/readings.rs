@@ -34,10 +34,11 @@
 
 use crate::util::{temp_yaml, websigma};
 use proptest::prelude::*;
-use websigma::charge::{ChargeProfile, charge_profile};
-use websigma::field::{FieldModel, SolverSettings};
-use websigma::model::validate::meter_geometry;
+use websigma::charge::charge_profile;
+use websigma::field::{Scene, SolverSettings, WebField};
+use websigma::model::geometry::meter_geometry;
 use websigma::model::{Line, Side, parse_line};
+use websigma::readings::ReadingNote;
 use websigma::readings::{ReadingsResult, invert_readings};
 
 /// ε0 [F/m], CODATA 2018 — written out here rather than taken from the crate.
@@ -52,7 +53,7 @@ fn line(text: &str) -> Line {
 }
 
 fn invert(l: &Line) -> ReadingsResult {
-    invert_readings(l, SolverSettings::default()).unwrap()
+    invert_readings(l, &Scene::new(l, SolverSettings::default()).unwrap()).unwrap()
 }
 
 /// Field on the axis of a uniformly charged rectangle, half-sides a, b, at
@@ -88,7 +89,7 @@ impl Meter {
     }
     /// The field a meter reads: the solver's field (public API) along the
     /// normal from the web to the meter [V/m].
-    fn reads(&self, l: &Line, model: &FieldModel) -> f64 {
+    fn reads(&self, l: &Line, model: &WebField<'_>) -> f64 {
         let (at, n) = meter_geometry(
             &l.path.spans[self.span],
             self.along,
@@ -114,8 +115,8 @@ impl Meter {
     }
 }
 
-fn model(l: &Line, charge: &ChargeProfile) -> FieldModel {
-    FieldModel::new(l, charge, SolverSettings::default())
+fn scene(l: &Line) -> Scene {
+    Scene::new(l, SolverSettings::default()).unwrap()
 }
 
 /// A straight web along x at height `z` through free points `N0, N1, …`.
@@ -214,7 +215,8 @@ fn web_close_above_a_ground_plane() {
     );
     let sigma = 20e-6;
     let truth = line(&base);
-    let m = model(&truth, &charge_profile(&truth));
+    let scene_m = scene(&truth);
+    let m = scene_m.web(&charge_profile(&truth));
     let below = Meter::at(&truth, 0, 0.5, 0.0, 0.005, Side::Below);
     let above = Meter::at(&truth, 0, 0.5, 0.0, 0.005, Side::Above);
     let e_below = below.reads(&truth, &m);
@@ -275,7 +277,7 @@ fn narrow_strip_reads_less_than_the_naive_rule() {
     let sigma = 5e-6;
     let truth = line(&base);
     let meter = Meter::at(&truth, 0, 0.5, 0.0, 0.025, Side::Above);
-    let e = meter.reads(&truth, &model(&truth, &charge_profile(&truth)));
+    let e = meter.reads(&truth, &scene(&truth).web(&charge_profile(&truth)));
     let exact = rectangle_axis_field(sigma, 1.0, 0.05, 0.025);
     assert!(rel(e, exact) < 1e-8, "{e} vs {exact}");
     let text = format!(
@@ -363,7 +365,8 @@ enum Kind {
 fn round_trip(base: &str, meters: &[(Meter, Kind)]) -> f64 {
     let truth = line(base);
     let charge = charge_profile(&truth);
-    let m = model(&truth, &charge);
+    let scene_m = scene(&truth);
+    let m = scene_m.web(&charge);
     let mut text = format!("{base}readings:\n");
     for (i, (meter, kind)) in meters.iter().enumerate() {
         let value = match kind {
@@ -482,7 +485,8 @@ fn single_segment() -> String {
 fn least_squares_combines_and_flags_readings() {
     let base = single_segment();
     let truth = line(&base);
-    let m = model(&truth, &charge_profile(&truth));
+    let scene_m = scene(&truth);
+    let m = scene_m.web(&charge_profile(&truth));
     let m1 = Meter::at(&truth, 0, 0.5, 0.0, 0.025, Side::Above);
     let m2 = Meter::at(&truth, 1, 0.4, 0.2, 0.04, Side::Below);
     let (e1, e2) = (m1.reads(&truth, &m), m2.reads(&truth, &m));
@@ -539,7 +543,7 @@ fn least_squares_combines_and_flags_readings() {
             r.readings[i]
                 .warnings
                 .iter()
-                .any(|w| w.contains("more than 3 times"))
+                .any(|w| matches!(w, ReadingNote::LargeResidual { .. }))
         };
         if factor < 2.0 {
             // |residual| < 3u for both: 8.5e3 vs 1.8e4 and 1.1e4 vs 2.1e4 V/m.
@@ -549,7 +553,10 @@ fn least_squares_combines_and_flags_readings() {
             assert!(flagged(0) && flagged(1), "{:?}", r.readings);
             assert!(rb.abs() > 3.0 * r.readings[1].uncertainty);
             assert!(
-                r.readings[1].warnings[0].contains("inconsistent with the other readings"),
+                matches!(
+                    r.readings[1].warnings[0],
+                    ReadingNote::LargeResidual { shared: true, .. }
+                ),
                 "{:?}",
                 r.readings[1].warnings
             );
@@ -591,7 +598,8 @@ fn bounds_contain_truth(f: &[f64], dd: &[f64], tolerance: &str) -> Result<(), St
     let base = two_segments(tolerance);
     let truth = line(&base);
     let charge = charge_profile(&truth);
-    let m = model(&truth, &charge);
+    let scene_m = scene(&truth);
+    let m = scene_m.web(&charge);
     let meters = [
         Meter::at(&truth, 0, 0.5, 0.0, 0.025, Side::Above),
         Meter::at(&truth, 1, 0.4, 0.1, 0.03, Side::Below),
@@ -675,7 +683,7 @@ fn readings_set_segment_densities() {
         |a: &str| format!("  - {{at: start, sigma: {a}}}\n  - {{at: N2, adds: 2 uC/m^2}}\n");
     let truth = line(&straight(web, None, &xs, 1.0, &charge("8 uC/m^2")));
     let meter = Meter::at(&truth, 0, 0.5, 0.0, 0.025, Side::Above);
-    let e = meter.reads(&truth, &model(&truth, &charge_profile(&truth)));
+    let e = meter.reads(&truth, &scene(&truth).web(&charge_profile(&truth)));
     let text = format!(
         "{}readings:\n{}",
         straight(web, None, &xs, 1.0, &charge("5 uC/m^2")),
@@ -689,10 +697,11 @@ fn readings_set_segment_densities() {
     assert!(rel(segs[0].amplitude, 8e-6) < 1e-9, "{}", segs[0].amplitude);
     assert!(rel(r.segments[0].fitted, 8e-6) < 1e-9);
     assert_eq!(r.segments[0].predicted, 5e-6);
+    assert!(segs[0].from_readings, "{:?}", segs[0]);
     assert!(
-        segs[0].origin.contains("from readings"),
-        "{}",
-        segs[0].origin
+        websigma::report::notes::segment_origin(&l, &segs[0]).ends_with("(from readings)"),
+        "{:?}",
+        segs[0]
     );
     let lambda = 1.5 * 3.0;
     assert!((segs[1].s_start - 2.0).abs() < 1e-12);
@@ -710,7 +719,11 @@ fn readings_set_segment_densities() {
 // ---------------------------------------------------------------------------
 
 fn warnings_of(text: &str) -> Vec<String> {
-    invert(&line(text)).readings[0].warnings.clone()
+    invert(&line(text)).readings[0]
+        .warnings
+        .iter()
+        .map(websigma::report::notes::reading_note)
+        .collect()
 }
 
 /// A two-roller line (SMALL_LINE's geometry) with one reading.
@@ -989,7 +1002,7 @@ fn bounds_hold_at_the_corner_of_the_error_box() {
     for (f, dd) in [(-1.0, 2e-3), (1.0, -2e-3), (-1.0, -2e-3), (1.0, 2e-3)] {
         let mut real = nominal;
         real.distance += dd;
-        let e = real.reads(&truth, &model(&truth, &charge_profile(&truth)));
+        let e = real.reads(&truth, &scene(&truth).web(&charge_profile(&truth)));
         let r = with_error(e, f, 0.05, 1e3);
         let text = format!(
             "{base}readings:\n{}",

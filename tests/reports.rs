@@ -3,8 +3,8 @@
 //! `assess` exit codes end to end.
 
 use crate::util::{temp_yaml, websigma};
-use websigma::assess::{assess, with_air_limit};
-use websigma::field::{FieldMap, FieldModel, SolverSettings};
+use websigma::assess::with_air_limit;
+use websigma::field::{FieldMap, Scene, SolverSettings};
 use websigma::model::parse_line;
 use websigma::report::build::{Report, build_report};
 use websigma::report::{Writer, csv, json, markdown::MarkdownWriter};
@@ -58,7 +58,7 @@ struct Pipeline {
     profiles: Vec<websigma::assess::ThresholdProfile>,
     readings: websigma::readings::ReadingsResult,
     charge: websigma::charge::ChargeProfile,
-    model: FieldModel,
+    scene: Scene,
     points: FieldMap,
     assessment: websigma::assess::Assessment,
 }
@@ -70,22 +70,23 @@ fn pipeline(line: &websigma::model::Line) -> Pipeline {
             .map(|n| websigma::assess::profile::load_profile(n).unwrap())
             .collect(),
     );
-    let readings = websigma::readings::invert_readings(line, SolverSettings::default()).unwrap();
-    let charge = readings.charge.clone();
-    let model = FieldModel::new(line, &charge, SolverSettings::default());
-    let points = FieldMap {
-        points: line
-            .points
-            .iter()
-            .map(|p| model.at(p.at, true).unwrap())
-            .collect(),
-    };
-    let assessment = assess(line, &charge, &model, &points, &profiles).unwrap();
+    let websigma::pipeline::Analysis { scene, evaluation } = websigma::pipeline::analyse(
+        line,
+        &profiles,
+        &websigma::pipeline::Settings::new(SolverSettings::default()),
+    )
+    .unwrap();
+    let websigma::pipeline::Evaluation {
+        readings,
+        charge,
+        points,
+        assessment,
+    } = evaluation;
     Pipeline {
         profiles,
         readings,
         charge,
-        model,
+        scene,
         points,
         assessment,
     }
@@ -383,10 +384,11 @@ fn sample_pictures_are_current() {
         profiles,
         readings,
         charge,
-        model,
+        scene,
         assessment: a,
         ..
     } = pipeline(&line);
+    let model = scene.web(&charge);
     // The demo's own resolution, so the sample is exactly what `demo` writes.
     let plots = websigma::app::make_plots(
         &line,

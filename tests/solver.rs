@@ -6,7 +6,7 @@
 use proptest::prelude::*;
 use websigma::charge::charge_profile;
 use websigma::field::kernels::uniform_rectangle;
-use websigma::field::{FieldModel, SolverSettings, solve};
+use websigma::field::{Scene, SolverSettings};
 use websigma::model::{Line, parse_line};
 use websigma::units::EPS0;
 
@@ -34,7 +34,9 @@ fn straight(xs: &[f64], sigma_uc: f64, tau: &str, ground: bool, profile: &str) -
 
 fn field(line: &Line, p: [f64; 3]) -> websigma::field::PointField {
     let charge = charge_profile(line);
-    FieldModel::new(line, &charge, SolverSettings::default())
+    Scene::new(line, SolverSettings::default())
+        .unwrap()
+        .web(&charge)
         .at(p, true)
         .unwrap()
 }
@@ -88,7 +90,8 @@ fn path_is_the_sum_of_its_spans() {
 fn potential_is_zero_on_the_ground_plane() {
     let line = parse_line(websigma::DEMO_LINE).unwrap();
     let charge = charge_profile(&line);
-    let m = FieldModel::new(&line, &charge, SolverSettings::default());
+    let scene_m = Scene::new(&line, SolverSettings::default()).unwrap();
+    let m = scene_m.web(&charge);
     let v_scale = m.at([3.3, 0.0, 1.385], false).unwrap().v.abs();
     for (x, y) in [
         (0.0, 0.0),
@@ -150,7 +153,8 @@ fn ground_plane_equals_explicit_mirror_line() {
 fn symmetric_profile_gives_symmetric_field() {
     let line = parse_line(websigma::DEMO_LINE).unwrap();
     let charge = charge_profile(&line);
-    let m = FieldModel::new(&line, &charge, SolverSettings::default());
+    let scene_m = Scene::new(&line, SolverSettings::default()).unwrap();
+    let m = scene_m.web(&charge);
     for p in [[3.3, 0.3, 1.385], [2.4, 1.0, 1.1], [6.0, 0.55, 0.9]] {
         let a = m.at(p, false).unwrap();
         let b = m.at([p[0], -p[1], p[2]], false).unwrap();
@@ -176,18 +180,13 @@ fn solve_keeps_input_order_and_refuses_points_on_the_web() {
     let line = straight(&[0.0, 2.0], 4.0, "10 s", false, "{shape: edges, k: 1}");
     let charge = charge_profile(&line);
     let pts: Vec<[f64; 3]> = (0..50).map(|i| [i as f64 * 0.05, 0.1, 1.2]).collect();
-    let map = solve(&line, &charge, &pts, SolverSettings::default(), false).unwrap();
+    let scene = Scene::new(&line, SolverSettings::default()).unwrap();
+    let web = scene.web(&charge);
+    let map = web.solve(&pts, false).unwrap();
     for (p, f) in pts.iter().zip(&map.points) {
         assert_eq!(&f.at, p);
     }
-    let err = solve(
-        &line,
-        &charge,
-        &[[1.0, 0.0, 1.0]],
-        SolverSettings::default(),
-        false,
-    )
-    .unwrap_err();
+    let err = web.solve(&[[1.0, 0.0, 1.0]], false).unwrap_err();
     assert!(err.to_string().contains("span S1"), "{err}");
 }
 
@@ -215,8 +214,8 @@ proptest! {
         let line = straight(&[0.0, 3.0], 3.0, "0.5 s", false, "{shape: edges, k: 2}");
         let charge = charge_profile(&line);
         let p = [x, y, 1.0 + h];
-        let lo = FieldModel::new(&line, &charge, SolverSettings::new(1e-6).unwrap()).at(p, false).unwrap();
-        let hi = FieldModel::new(&line, &charge, SolverSettings::new(1e-11).unwrap()).at(p, false).unwrap();
+        let lo = Scene::new(&line, SolverSettings::new(1e-6).unwrap()).unwrap().web(&charge).at(p, false).unwrap();
+        let hi = Scene::new(&line, SolverSettings::new(1e-11).unwrap()).unwrap().web(&charge).at(p, false).unwrap();
         prop_assert!(rel(lo.v, hi.v) < 1e-6);
         prop_assert!(rel(lo.e_magnitude(), hi.e_magnitude()) < 1e-6);
     }

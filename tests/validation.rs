@@ -127,14 +127,17 @@ mod no_panic {
     //! line removed or one value replaced, go through validation, the
     //! readings inversion and the field at a point returning Ok or Err.
     use proptest::prelude::*;
-    use websigma::field::{FieldModel, SolverSettings};
+    use websigma::field::{Scene, SolverSettings};
     use websigma::model::parse_line;
 
     fn run(text: &str) {
         if let Ok(line) = parse_line(text) {
             let st = SolverSettings::new(1e-6).unwrap();
-            if let Ok(r) = websigma::readings::invert_readings(&line, st) {
-                let m = FieldModel::new(&line, &r.charge, st);
+            if let Ok(r) =
+                websigma::readings::invert_readings(&line, &Scene::new(&line, st).unwrap())
+            {
+                let scene_m = Scene::new(&line, st).unwrap();
+                let m = scene_m.web(&r.charge);
                 let _ = m.at([1.0, 0.3, 2.0], false);
             }
         }

@@ -74,12 +74,11 @@ fn finding(
 /// The centreline density arriving at arc length `s` (the upstream value at
 /// a segment boundary) [C/m²].
 pub fn arriving(charge: &ChargeProfile, s: f64) -> f64 {
-    match charge.segments.iter().rposition(|g| s >= g.s_start) {
-        Some(k) if k > 0 && charge.segments[k].s_start == s => {
-            let g = &charge.segments[k - 1];
-            g.amplitude * crate::charge::decay(g.s_end - g.s_start, charge.decay_length)
-        }
-        _ => charge.sigma_c(s),
+    let k = charge.segment_at(s);
+    if k > 0 && charge.segments[k].s_start == s {
+        charge.arriving(k)
+    } else {
+        charge.sigma_c(s)
     }
 }
 
@@ -173,7 +172,7 @@ fn findings_impl(line: &Line, charge: &ChargeProfile, lean: bool) -> Vec<Finding
         }
         if e.kind == EliminatorKind::Powered {
             let (at, _) =
-                crate::model::validate::meter_geometry(span, e.along, 0.0, e.distance, e.side);
+                crate::model::geometry::meter_geometry(span, e.along, 0.0, e.distance, e.side);
             for z in line.zones.iter().filter(|z| z.zone <= 1 && z.contains(at)) {
                 out.push(finding(
                     "zone-approval",

@@ -99,7 +99,7 @@ pub use profile::{
 
 use crate::charge::ChargeProfile;
 use crate::field::{FieldAt, FieldError, FieldMap, PointField, SpanContribution};
-use crate::model::validate::distance_to_span;
+use crate::model::geometry::distance_to_span;
 use crate::model::{Earthing, Line, Point, Roller, Span, Zone};
 use crate::units::{Dim, EPS0, Farads, Joules, Meters, Volts, format_quantity};
 use std::fmt;

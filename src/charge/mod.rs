@@ -36,8 +36,32 @@
 //! D. J. Griffiths, *Introduction to Electrodynamics*, 4th ed., §7.1;
 //! NFPA 77 annex on charge relaxation).
 
-use crate::model::{ChargeEntry, ChargeMode, Eliminator, EliminatorKind, Line};
+use crate::model::{Eliminator, EliminatorKind, Line};
 use crate::units::{CoulombsPerSquareMeter, Meters};
+
+pub use crate::model::charge::segment_amplitudes;
+pub use crate::physics::decay;
+
+/// What opened a charge segment.
+#[derive(Debug, Clone, PartialEq)]
+pub enum SegmentOrigin {
+    /// The start of the path (uncharged until a charge entry).
+    PathStart,
+    /// Nothing at its start changes the density: it is carried in.
+    CarriedIn,
+    /// A `charge:` entry (the last one at this place).
+    Entry {
+        /// Index into `Line::charge`.
+        entry: usize,
+    },
+    /// An eliminator (the last one at this place).
+    Eliminator {
+        /// Index into `Line::eliminators`.
+        eliminator: usize,
+        /// Whether it ionises.
+        active: bool,
+    },
+}
 
 /// A stretch of path over which σc follows one relaxation curve.
 #[derive(Debug, Clone, PartialEq)]
@@ -48,8 +72,10 @@ pub struct ChargeSegment {
     pub s_end: Meters,
     /// Centreline density at the start, A [C/m²].
     pub amplitude: CoulombsPerSquareMeter,
-    /// What opened it: `start of path` or the charge entry's place.
-    pub origin: String,
+    /// What opened it.
+    pub origin: SegmentOrigin,
+    /// Whether meter readings set its starting density.
+    pub from_readings: bool,
 }
 
 /// The centreline density along the whole path and the across-web shape.
@@ -83,6 +109,24 @@ impl ChargeProfile {
         self.sigma_c(s) * self.across.f(y)
     }
 
+    /// σc arriving at the start of segment `k` from upstream, before
+    /// anything there acts (0 for the first segment) [C/m²].
+    pub fn arriving(&self, k: usize) -> CoulombsPerSquareMeter {
+        match k.checked_sub(1).and_then(|i| self.segments.get(i)) {
+            Some(g) => g.amplitude * decay(g.s_end - g.s_start, self.decay_length),
+            None => 0.0,
+        }
+    }
+
+    /// Index of the segment holding arc length `s` [m] (the downstream one
+    /// at a boundary; the first before the path starts).
+    pub fn segment_at(&self, s: Meters) -> usize {
+        self.segments
+            .iter()
+            .rposition(|g| s >= g.s_start)
+            .unwrap_or(0)
+    }
+
     /// The segments that overlap [s0, s1], clipped to it: `(start, end, σc at start)`.
     pub fn pieces_between(
         &self,
@@ -99,33 +143,6 @@ impl ChargeProfile {
         }
         out
     }
-}
-
-/// exp(−Δs/λ), exactly 1 for an infinite λ.
-pub fn decay(ds: Meters, lambda: Meters) -> f64 {
-    if lambda.is_infinite() {
-        1.0
-    } else {
-        (-ds / lambda).exp()
-    }
-}
-
-/// The centreline density leaving each entry's place, in the order given
-/// (entries must be sorted by arc length): set, or carried in and added to.
-pub fn segment_amplitudes(entries: &[ChargeEntry], lambda: Meters) -> Vec<CoulombsPerSquareMeter> {
-    let mut out = Vec::with_capacity(entries.len());
-    let mut sigma = 0.0;
-    let mut s_prev = 0.0;
-    for e in entries {
-        let carried = sigma * decay(e.s - s_prev, lambda);
-        sigma = match e.mode {
-            ChargeMode::Set => e.sigma,
-            ChargeMode::Add => carried + e.sigma,
-        };
-        s_prev = e.s;
-        out.push(sigma);
-    }
-    out
 }
 
 /// Builds the charge profile of a validated line, every eliminator taken as
@@ -183,20 +200,10 @@ pub fn charge_profile_with(
     overrides: &[(usize, f64)],
     active: &[bool],
 ) -> ChargeProfile {
-    build(line, overrides, active, true)
+    build(line, overrides, active)
 }
 
-/// [`charge_profile_with`] without the segments' `origin` texts (the
-/// planner's inner loop).
-pub fn charge_profile_lean(
-    line: &Line,
-    overrides: &[(usize, f64)],
-    active: &[bool],
-) -> ChargeProfile {
-    build(line, overrides, active, false)
-}
-
-fn build(line: &Line, overrides: &[(usize, f64)], active: &[bool], origins: bool) -> ChargeProfile {
+fn build(line: &Line, overrides: &[(usize, f64)], active: &[bool]) -> ChargeProfile {
     let lambda = line.web.decay_length();
     let total = line.path.total_length;
     let starts = segment_starts(line);
@@ -205,21 +212,14 @@ fn build(line: &Line, overrides: &[(usize, f64)], active: &[bool], origins: bool
     for (k, &s0) in starts.iter().enumerate() {
         let s1 = starts.get(k + 1).copied().unwrap_or(total);
         let mut a = carried;
-        let mut origin = if !origins {
-            String::new()
-        } else if k == 0 {
-            "start of path (uncharged until a charge entry)".to_string()
+        let mut origin = if k == 0 {
+            SegmentOrigin::PathStart
         } else {
-            "carried in".to_string()
+            SegmentOrigin::CarriedIn
         };
-        for e in line.charge.iter().filter(|e| e.s == s0) {
-            a = match e.mode {
-                ChargeMode::Set => e.sigma,
-                ChargeMode::Add => a + e.sigma,
-            };
-            if origins {
-                origin = e.at.clone();
-            }
+        for (i, e) in line.charge.iter().enumerate().filter(|(_, e)| e.s == s0) {
+            a = e.mode.apply(a, e.sigma);
+            origin = SegmentOrigin::Entry { entry: i };
         }
         for (i, e) in line
             .eliminators
@@ -229,27 +229,24 @@ fn build(line: &Line, overrides: &[(usize, f64)], active: &[bool], origins: bool
         {
             let on = active.get(i).copied().unwrap_or(true);
             a = neutralise(e, a, on);
-            if !origins {
-                continue;
-            }
-            origin = format!(
-                "{} ({} eliminator{})",
-                e.id,
-                e.kind.text(),
-                if on { "" } else { ", not ionising" }
-            );
+            origin = SegmentOrigin::Eliminator {
+                eliminator: i,
+                active: on,
+            };
         }
-        if let Some(&(_, v)) = overrides.iter().find(|(i, _)| *i == k) {
-            a = v;
-            if origins {
-                origin = format!("{origin} (from readings)");
+        let from_readings = match overrides.iter().find(|(i, _)| *i == k) {
+            Some(&(_, v)) => {
+                a = v;
+                true
             }
-        }
+            None => false,
+        };
         segments.push(ChargeSegment {
             s_start: s0,
             s_end: s1,
             amplitude: a,
             origin,
+            from_readings,
         });
         carried = a * decay(s1 - s0, lambda);
     }
@@ -266,45 +263,4 @@ pub fn charge_without_eliminators(line: &Line) -> ChargeProfile {
     let mut bare = line.clone();
     bare.eliminators.clear();
     charge_profile(&bare)
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    fn entry(s: f64, mode: ChargeMode, sigma: f64) -> ChargeEntry {
-        ChargeEntry {
-            at: format!("s={s}"),
-            s,
-            mode,
-            sigma,
-            yaml_path: String::new(),
-        }
-    }
-
-    /// Hand arithmetic: 10 µC/m² relaxing over one decay length is 10/e; adding
-    /// 2 gives 10/e + 2; a later `sigma:` overrides what flows in.
-    #[test]
-    fn set_add_and_relax_by_hand() {
-        let e = [
-            entry(0.0, ChargeMode::Set, 10e-6),
-            entry(2.0, ChargeMode::Add, 2e-6),
-            entry(3.0, ChargeMode::Set, 1e-6),
-        ];
-        let a = segment_amplitudes(&e, 2.0);
-        assert!((a[0] - 10e-6).abs() < 1e-18);
-        assert!((a[1] - (10e-6 / std::f64::consts::E + 2e-6)).abs() < 1e-18);
-        assert!((a[2] - 1e-6).abs() < 1e-18);
-    }
-
-    #[test]
-    fn infinite_relaxation_carries_charge_unchanged() {
-        let e = [
-            entry(0.0, ChargeMode::Set, 5e-6),
-            entry(100.0, ChargeMode::Add, 1e-6),
-        ];
-        let a = segment_amplitudes(&e, f64::INFINITY);
-        assert_eq!(a[1], 6e-6);
-        assert_eq!(decay(1e9, f64::INFINITY), 1.0);
-    }
 }

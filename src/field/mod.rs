@@ -1,6 +1,8 @@
 //! # Field and potential of the charged web, by superposition
 //!
-//! Third stage of the pipeline: `(Line, ChargeProfile) → FieldMap`. Every
+//! Third stage of the pipeline: `(Scene, ChargeProfile) → FieldMap`. The
+//! charge-independent part (span frames, images, settings) is the [`Scene`],
+//! built once per line; [`Scene::web`] charges it. Every
 //! straight span is a flat rectangle carrying σ(s, y) = σc(s)·f(y); its field
 //! and potential at a point **r** are the Coulomb integrals
 //!
@@ -35,13 +37,12 @@
 
 pub mod integrate;
 pub mod kernels;
+pub mod scene;
 
-use crate::charge::ChargeProfile;
-use crate::model::{Line, Span};
+pub use scene::{Scene, WebField};
+
 use crate::units::{Meters, Volts, VoltsPerMeter};
-use integrate::{KernelError, Patch, patch_field};
-use kernels::{LocalField, QuadPiece};
-use rayon::prelude::*;
+use integrate::KernelError;
 
 /// The modelling assumptions, shown in every output.
 pub const ASSUMPTIONS: &[&str] = &[
@@ -173,249 +174,9 @@ pub struct FieldMap {
     pub points: Vec<PointField>,
 }
 
-/// A span ready for integration: its frame and its charged patches.
-#[derive(Debug, Clone)]
-struct ChargedSpan {
-    label: String,
-    name: String,
-    /// Start of the span, 3-D [m].
-    origin: [f64; 3],
-    /// Unit vector along the span.
-    t: [f64; 3],
-    /// Unit normal (t × ŷ).
-    n: [f64; 3],
-    length: f64,
-    half_width: f64,
-    /// Patches with their along-span offset [m].
-    patches: Vec<(f64, Patch)>,
-}
-
-/// The charged web ready for evaluation at any number of points.
-#[derive(Debug, Clone)]
-pub struct FieldModel {
-    spans: Vec<ChargedSpan>,
-    ground: Option<f64>,
-    settings: SolverSettings,
-}
-
-fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
-    a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
-}
-
-impl FieldModel {
-    /// Prepares the spans of `line` charged as `charge` says.
-    pub fn new(line: &Line, charge: &ChargeProfile, settings: SolverSettings) -> Self {
-        let across: Vec<QuadPiece> = charge
-            .across
-            .pieces()
-            .iter()
-            .map(|p| QuadPiece {
-                y_lo: p.y_lo,
-                y_hi: p.y_hi,
-                c: p.c,
-            })
-            .collect();
-        let spans = line
-            .path
-            .spans
-            .iter()
-            .map(|s| charged_span(s, charge, &across, line.web.width))
-            .collect();
-        FieldModel {
-            spans,
-            ground: line.ground_plane,
-            settings,
-        }
-    }
-
-    /// Number of spans.
-    pub fn span_count(&self) -> usize {
-        self.spans.len()
-    }
-
-    /// Field and potential at `at`; with `contributions`, also per span.
-    pub fn at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError> {
-        let mut e = [0.0; 3];
-        let mut v = 0.0;
-        let mut parts = Vec::new();
-        for span in &self.spans {
-            let mut f = self.span_field(span, at, false)?;
-            if let Some(g) = self.ground {
-                let mirrored = [at[0], at[1], 2.0 * g - at[2]];
-                let img = self.span_field(span, mirrored, true)?;
-                f.v -= img.v;
-                f.e[0] -= img.e[0];
-                f.e[1] -= img.e[1];
-                f.e[2] += img.e[2];
-            }
-            v += f.v;
-            for (ek, fk) in e.iter_mut().zip(f.e) {
-                *ek += fk;
-            }
-            if contributions {
-                parts.push(SpanContribution {
-                    span: span.label.clone(),
-                    name: span.name.clone(),
-                    e: f.e,
-                    v: f.v,
-                });
-            }
-        }
-        Ok(PointField {
-            at,
-            e,
-            v,
-            contributions: parts,
-        })
-    }
-
-    /// Field of one span (not its image) at a point, in global coordinates.
-    /// `image` only relaxes the on-web check (a mirrored point may not sit on
-    /// the original span unless the span lies in the ground plane).
-    fn span_field(
-        &self,
-        span: &ChargedSpan,
-        at: [f64; 3],
-        image: bool,
-    ) -> Result<LocalField, FieldError> {
-        let rel = [
-            at[0] - span.origin[0],
-            at[1] - span.origin[1],
-            at[2] - span.origin[2],
-        ];
-        let u = dot(rel, span.t);
-        let y = rel[1];
-        let h = dot(rel, span.n);
-        let du = if u < 0.0 {
-            -u
-        } else if u > span.length {
-            u - span.length
-        } else {
-            0.0
-        };
-        let dy = (y.abs() - span.half_width).max(0.0);
-        let dist = (du * du + dy * dy + h * h).sqrt();
-        if dist < crate::model::validate::MIN_POINT_DISTANCE {
-            let _ = image;
-            return Err(FieldError::OnWeb {
-                at,
-                span: span.label.clone(),
-                distance: dist,
-            });
-        }
-        let mut local = LocalField::default();
-        for (offset, patch) in &span.patches {
-            let p = [u - offset, y, h];
-            let f = patch_field(patch, p, self.settings.rel_tol).map_err(|source| {
-                FieldError::NotConverged {
-                    at,
-                    span: span.label.clone(),
-                    source,
-                }
-            })?;
-            local.add(&f);
-        }
-        // Back to global coordinates: E = E_u t + E_y ŷ + E_h n.
-        let g = [
-            local.e[0] * span.t[0] + local.e[2] * span.n[0],
-            local.e[1],
-            local.e[0] * span.t[2] + local.e[2] * span.n[2],
-        ];
-        Ok(LocalField { v: local.v, e: g })
-    }
-}
-
-fn charged_span(s: &Span, charge: &ChargeProfile, across: &[QuadPiece], width: f64) -> ChargedSpan {
-    let d = s.direction();
-    let t = [d[0], 0.0, d[1]];
-    // n = t × ŷ = (−t_z, 0, t_x)... (t_x, 0, t_z) × (0, 1, 0) = (−t_z, 0, t_x).
-    let n = [-t[2], 0.0, t[0]];
-    let patches = charge
-        .pieces_between(s.s_start, s.s_end)
-        .into_iter()
-        .filter(|(_, _, a)| *a != 0.0)
-        .map(|(a, b, amp)| {
-            (
-                a - s.s_start,
-                Patch {
-                    len: b - a,
-                    amplitude: amp,
-                    decay_length: charge.decay_length,
-                    across: across.to_vec(),
-                },
-            )
-        })
-        .collect();
-    ChargedSpan {
-        label: s.label(),
-        name: s.name.clone(),
-        origin: [s.start[0], 0.0, s.start[1]],
-        t,
-        n,
-        length: s.length,
-        half_width: width / 2.0,
-        patches,
-    }
-}
-
-/// Anything that gives the field and potential at a point: the solver
-/// itself ([`FieldModel`]) or a precomputed superposition (the planner's).
+/// Anything that gives the field and potential at a point: the charged
+/// scene ([`WebField`]) or a precomputed superposition (the planner's).
 pub trait FieldAt: Sync {
     /// Field and potential at `at`; with `contributions`, also per span.
     fn field_at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError>;
-}
-
-impl FieldAt for FieldModel {
-    fn field_at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError> {
-        self.at(at, contributions)
-    }
-}
-
-/// Field and potential at every point (in parallel), in input order.
-pub fn solve(
-    line: &Line,
-    charge: &ChargeProfile,
-    points: &[[Meters; 3]],
-    settings: SolverSettings,
-    contributions: bool,
-) -> Result<FieldMap, FieldError> {
-    let model = FieldModel::new(line, charge, settings);
-    let points = points
-        .par_iter()
-        .map(|&p| model.at(p, contributions))
-        .collect::<Result<Vec<_>, _>>()?;
-    Ok(FieldMap { points })
-}
-
-/// |E| on a regular grid in the side-view plane at across position `y`:
-/// `nx × nz` points over `x ∈ [x0, x1]`, `z ∈ [z0, z1]`, row-major by z
-/// (`values[iz * nx + ix]`) [V/m]. Points on the web (within 1 µm) are NaN.
-pub fn side_view_grid(
-    model: &FieldModel,
-    x: [Meters; 2],
-    z: [Meters; 2],
-    nx: usize,
-    nz: usize,
-    y: Meters,
-) -> (Vec<Meters>, Vec<Meters>, Vec<VoltsPerMeter>) {
-    let step = |a: f64, b: f64, n: usize, i: usize| {
-        if n > 1 {
-            a + (b - a) * i as f64 / (n - 1) as f64
-        } else {
-            a
-        }
-    };
-    let xs: Vec<f64> = (0..nx).map(|i| step(x[0], x[1], nx, i)).collect();
-    let zs: Vec<f64> = (0..nz).map(|i| step(z[0], z[1], nz, i)).collect();
-    let values: Vec<f64> = (0..nx * nz)
-        .into_par_iter()
-        .map(|k| {
-            let p = [xs[k % nx], y, zs[k / nx]];
-            model
-                .at(p, false)
-                .map(|f| f.e_magnitude())
-                .unwrap_or(f64::NAN)
-        })
-        .collect();
-    (xs, zs, values)
 }

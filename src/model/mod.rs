@@ -5,6 +5,8 @@
 //! only this type. All YAML parsing goes through [`parse_line`], so the YAML
 //! library can be swapped in one place.
 
+pub mod charge;
+pub mod geometry;
 pub mod path;
 pub mod raw;
 pub mod validate;

@@ -5,27 +5,16 @@
 //! got "120"`) instead of stopping at the first. Suspicious but possible input
 //! becomes a warning kept in `Line::warnings`.
 
+use super::geometry::{meter_geometry, point_problem};
 use super::path::{self, Earthing, NodeKind, NodeSpec, Roller, Wrap};
 use super::raw::{RawLine, Scalar};
 use super::*;
+use crate::physics::isolated_sheet_limit;
 use crate::units::{Dim, EPS0, parse_quantity};
-
-/// Breakdown field of air, uniform field, 1 atm, cm gaps [V/m]
-/// (textbook value; FACTS.md "Air breakdown").
-pub const AIR_BREAKDOWN_FIELD: f64 = 3.0e6;
-
-/// Largest net density an isolated thin sheet can hold before the air breaks
-/// down, 2·ε0·Eb ≈ 5.3e-5 C/m² (derived, FACTS.md).
-pub fn isolated_sheet_limit() -> f64 {
-    2.0 * EPS0 * AIR_BREAKDOWN_FIELD
-}
 
 /// Densities above this [C/m²] are refused as a likely unit error: about 19
 /// times what air can hold on an isolated sheet.
 pub const ABSURD_SIGMA: f64 = 1e-3;
-
-/// Closest a place of interest may be to the web [m] (the solver's limit).
-pub const MIN_POINT_DISTANCE: f64 = 1e-6;
 
 struct Ctx {
     issues: Vec<Issue>,
@@ -735,7 +724,7 @@ fn validate_charge(
     // Entries apply in path order; entries at the same place keep file order.
     out.sort_by(|a, b| a.s.total_cmp(&b.s));
     // Propagate along the path to check the densities that result.
-    let steps = crate::charge::segment_amplitudes(&out, web.decay_length());
+    let steps = super::charge::segment_amplitudes(&out, web.decay_length());
     let fmax = across.max_abs();
     let limit = isolated_sheet_limit();
     for (entry, a) in out.iter().zip(steps) {
@@ -755,23 +744,6 @@ fn validate_charge(
         }
     }
     out
-}
-
-/// Distance from a 3-D point to the charged rectangle of a span [m].
-pub fn distance_to_span(span: &Span, width: f64, p: [f64; 3]) -> f64 {
-    let d = span.direction();
-    let rel = [p[0] - span.start[0], p[2] - span.start[1]];
-    let u = rel[0] * d[0] + rel[1] * d[1];
-    let h = -rel[0] * d[1] + rel[1] * d[0];
-    let du = if u < 0.0 {
-        -u
-    } else if u > span.length {
-        u - span.length
-    } else {
-        0.0
-    };
-    let dy = (p[1].abs() - width / 2.0).max(0.0);
-    (du * du + dy * dy + h * h).sqrt()
 }
 
 fn validate_points(
@@ -806,7 +778,7 @@ fn validate_points(
             continue;
         };
         if let Some(msg) = point_problem(path, rollers, web.width, ground, at) {
-            ctx.err(format!("{p}.at"), msg);
+            ctx.err(format!("{p}.at"), msg.to_string());
             continue;
         }
         let kind = match kind {
@@ -849,45 +821,6 @@ fn validate_points(
         });
     }
     out
-}
-
-/// Why a point cannot be evaluated (on the web, inside a roller, below the
-/// ground plane), or `None` when it can.
-pub fn point_problem(
-    path: &WebPath,
-    rollers: &[Roller],
-    width: f64,
-    ground: Option<f64>,
-    at: [f64; 3],
-) -> Option<String> {
-    if let Some(g) = ground
-        && at[2] < g
-    {
-        return Some(format!(
-            "z = {:.4} m is below the ground plane at z = {g:.4} m: the model has no field there",
-            at[2]
-        ));
-    }
-    for r in rollers {
-        let d = (at[0] - r.center[0]).hypot(at[2] - r.center[1]);
-        if d < r.radius && at[1].abs() <= width / 2.0 {
-            return Some(format!(
-                "the point lies inside roller {} (rollers are taken to be as long as the web is wide): move it outside",
-                r.id
-            ));
-        }
-    }
-    for s in &path.spans {
-        let d = distance_to_span(s, width, at);
-        if d < MIN_POINT_DISTANCE {
-            return Some(format!(
-                "the point is {:.2e} m from span {}, i.e. on the web: points must be at least 1 µm away (the field is discontinuous at a charged sheet)",
-                d,
-                s.label()
-            ));
-        }
-    }
-    None
 }
 
 fn validate_zones(
@@ -1042,35 +975,6 @@ fn validate_meter(ctx: &mut Ctx, raw: &RawLine) -> MeterSpec {
         m.distance_tolerance = v;
     }
     m
-}
-
-/// The meter's position and the unit normal from the web towards it.
-pub fn meter_geometry(
-    span: &Span,
-    along: f64,
-    across: f64,
-    distance: f64,
-    side: Side,
-) -> ([f64; 3], [f64; 3]) {
-    let d = span.direction();
-    // Left normal of the travel direction in the x-z plane.
-    let mut n = [-d[1], d[0]];
-    let up = if n[1].abs() > 1e-12 {
-        n[1] > 0.0
-    } else {
-        n[0] > 0.0
-    };
-    if !up {
-        n = [-n[0], -n[1]];
-    }
-    if side == Side::Below {
-        n = [-n[0], -n[1]];
-    }
-    let foot = [span.start[0] + along * d[0], span.start[1] + along * d[1]];
-    (
-        [foot[0] + distance * n[0], across, foot[1] + distance * n[1]],
-        [n[0], 0.0, n[1]],
-    )
 }
 
 fn validate_readings(

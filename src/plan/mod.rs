@@ -46,8 +46,8 @@
 
 use crate::assess::{Assessment, ThresholdProfile, Verdict, assess};
 use crate::charge::decay;
-use crate::field::{FieldAt, FieldError, FieldMap, FieldModel, PointField, SolverSettings};
-use crate::model::validate::{meter_geometry, point_problem};
+use crate::field::{FieldAt, FieldError, FieldMap, PointField, Scene, WebField};
+use crate::model::geometry::{meter_geometry, point_problem};
 use crate::model::{ChargeMode, Earthing, Eliminator, EliminatorKind, Line, NodeKind, Side};
 use crate::model::{
     PASSIVE_EFFICIENCY, PASSIVE_ONSET_VOLTAGE, PASSIVE_RESIDUAL, POWERED_EFFICIENCY,
@@ -130,13 +130,11 @@ pub struct PlanSettings {
     pub candidates: Option<Vec<Candidate>>,
     /// How many plans to show.
     pub top: usize,
-    /// Solver settings.
-    pub solver: SolverSettings,
 }
 
 impl PlanSettings {
     /// Defaults: up to 3 powered bars at 40 mm, candidates every 100 mm, top 5.
-    pub fn new(solver: SolverSettings) -> Self {
+    pub fn new() -> Self {
         PlanSettings {
             bars: None,
             max_bars: 3,
@@ -146,8 +144,13 @@ impl PlanSettings {
             spans: Vec::new(),
             candidates: None,
             top: 5,
-            solver,
         }
+    }
+}
+
+impl Default for PlanSettings {
+    fn default() -> Self {
+        PlanSettings::new()
     }
 }
 
@@ -189,6 +192,12 @@ pub enum PlanError {
     /// The field solver failed.
     #[error(transparent)]
     Field(#[from] FieldError),
+    /// The readings, or the assessment of a placement, failed.
+    #[error(transparent)]
+    Pipeline(#[from] crate::pipeline::PipelineError),
+    /// Converting the meter readings failed.
+    #[error(transparent)]
+    Readings(#[from] crate::readings::ReadingsError),
     /// Nothing to place bars on.
     #[error("no candidate position for a bar: {0}")]
     NoCandidates(String),
@@ -278,7 +287,7 @@ pub fn apply(line: &Line, cands: &[Candidate]) -> Line {
 
 /// Records every point an assessment asks the field at.
 struct Recorder<'a> {
-    model: &'a FieldModel,
+    model: &'a WebField<'a>,
     seen: Mutex<Vec<[f64; 3]>>,
 }
 
@@ -321,7 +330,7 @@ impl Influence {
         line: &Line,
         points: Vec<[f64; 3]>,
         cands: &[Candidate],
-        st: SolverSettings,
+        scene: &Scene,
     ) -> Result<Self, FieldError> {
         let lambda = line.web.decay_length();
         let total = line.path.total_length;
@@ -354,14 +363,7 @@ impl Influence {
         let g: Vec<Vec<[f64; 4]>> = pieces
             .par_iter()
             .map(|&(a, b)| {
-                let mut prof = base.clone();
-                prof.segments = vec![crate::charge::ChargeSegment {
-                    s_start: a,
-                    s_end: b,
-                    amplitude: 1.0,
-                    origin: String::new(),
-                }];
-                let m = FieldModel::new(line, &prof, st);
+                let m = scene.unit_piece(&base, a, b);
                 points
                     .iter()
                     .map(|&p| m.at(p, false).map(|f| [f.e[0], f.e[1], f.e[2], f.v]))
@@ -375,10 +377,7 @@ impl Influence {
             // first is `sigma:`, else added.
             let mut v = 0.0;
             for e in line.charge.iter().filter(|e| e.s == s_i) {
-                v = match e.mode {
-                    ChargeMode::Set => e.sigma,
-                    ChargeMode::Add => v + e.sigma,
-                };
+                v = e.mode.apply(v, e.sigma);
             }
             let next_set = line
                 .charge
@@ -533,25 +532,14 @@ fn counts(a: &Assessment) -> [usize; 3] {
     c
 }
 
-/// The full assessment of a line (readings, passive onset and all).
+/// The full assessment of a line variant (readings, passive onset and
+/// all) through the pipeline, in the line's scene.
 pub fn full_assessment(
+    scene: &Scene,
     line: &Line,
     profiles: &[ThresholdProfile],
-    st: SolverSettings,
 ) -> Result<Assessment, PlanError> {
-    let r = crate::readings::invert_readings(line, st).map_err(|e| match e {
-        crate::readings::ReadingsError::Field(f) => PlanError::Field(f),
-        other => PlanError::NoCandidates(other.to_string()),
-    })?;
-    let m = FieldModel::new(line, &r.charge, st);
-    let pts = FieldMap {
-        points: line
-            .points
-            .iter()
-            .map(|p| m.at(p.at, true))
-            .collect::<Result<Vec<_>, _>>()?,
-    };
-    Ok(assess(line, &r.charge, &m, &pts, profiles)?)
+    Ok(crate::pipeline::evaluate(scene, line, profiles)?.assessment)
 }
 
 /// The line the planner works on: where meter readings determine segment
@@ -559,14 +547,11 @@ pub fn full_assessment(
 /// set, else an `adds:` of what the fit adds to the density carried in), and
 /// the readings are dropped — they were taken without the planned bars.
 /// Without readings the line is returned unchanged.
-pub fn planning_line(line: &Line, st: SolverSettings) -> Result<Line, PlanError> {
+pub fn planning_line(line: &Line, scene: &Scene) -> Result<Line, PlanError> {
     if line.readings.is_empty() {
         return Ok(line.clone());
     }
-    let r = crate::readings::invert_readings(line, st).map_err(|e| match e {
-        crate::readings::ReadingsError::Field(f) => PlanError::Field(f),
-        other => PlanError::NoCandidates(other.to_string()),
-    })?;
+    let r = crate::readings::invert_readings(line, scene)?;
     let mut out = line.clone();
     out.readings.clear();
     for fit in &r.segments {
@@ -578,12 +563,7 @@ pub fn planning_line(line: &Line, st: SolverSettings) -> Result<Line, PlanError>
                 .iter()
                 .any(|e| e.s == s_k && e.mode == ChargeMode::Set)
             || line.eliminators.iter().any(|e| e.s == s_k);
-        let carried = if k == 0 {
-            0.0
-        } else {
-            let g = &r.charge.segments[k - 1];
-            g.amplitude * decay(g.s_end - g.s_start, r.charge.decay_length)
-        };
+        let carried = r.charge.arriving(k);
         let at = line
             .charge
             .iter()
@@ -616,9 +596,10 @@ pub fn plan(
     line: &Line,
     profiles: &[ThresholdProfile],
     st: &PlanSettings,
+    scene: &Scene,
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<Plan, PlanError> {
-    let planning = planning_line(line, st.solver)?;
+    let planning = planning_line(line, scene)?;
     let line = &planning;
     let cands = st
         .candidates
@@ -629,10 +610,10 @@ pub fn plan(
             "every span is too short or too close to its rollers for a bar at this distance: lower --distance or --spacing, or give --candidates".into(),
         ));
     }
-    let before = full_assessment(line, profiles, st.solver)?;
+    let before = full_assessment(scene, line, profiles)?;
     // Record every point the rules ask for.
     let charge = crate::charge::charge_profile(line);
-    let model = FieldModel::new(line, &charge, st.solver);
+    let model = scene.web(&charge);
     let rec = Recorder {
         model: &model,
         seen: Mutex::new(Vec::new()),
@@ -654,7 +635,7 @@ pub fn plan(
             .unwrap_or(std::cmp::Ordering::Equal)
     });
     points.dedup();
-    let inf = Influence::build(line, points, &cands, st.solver)?;
+    let inf = Influence::build(line, points, &cands, scene)?;
 
     // One placement: `placed` is a scratch copy of the line whose
     // eliminators are replaced (so no line is cloned per placement).
@@ -668,8 +649,7 @@ pub fn plan(
                 .push(cands[b].eliminator(line, &format!("PB{}", i + 1)));
         }
         placed.eliminators.sort_by(|a, b| a.s.total_cmp(&b.s));
-        let charge =
-            crate::charge::charge_profile_lean(placed, &[], &vec![true; placed.eliminators.len()]);
+        let charge = crate::charge::charge_profile(placed);
         let bs: Vec<(f64, f64, usize)> = placed
             .eliminators
             .iter()
@@ -766,7 +746,7 @@ pub fn plan(
             line,
             &bars.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
         );
-        let a = full_assessment(&placed, profiles, st.solver)?;
+        let a = full_assessment(scene, &placed, profiles)?;
         options.push(PlanOption {
             bars: bars.clone(),
             counts: counts(&a),
@@ -964,9 +944,9 @@ pub fn apply_to_yaml(
     text: &str,
     line: &Line,
     bars: &[Candidate],
-    solver: SolverSettings,
+    scene: &Scene,
 ) -> Result<String, PlanError> {
-    let planning = planning_line(line, solver)?;
+    let planning = planning_line(line, scene)?;
     let placed = apply(&planning, bars);
     // Every eliminator, the existing ones and the new ones, in block style.
     let items: String = placed

@@ -49,11 +49,12 @@
 //! meter practice (reading ÷ calibrated distance, mid-span readings): K.
 //! Robinson, PFFC "Static Beat" 2010 and 2019; NFPA 77 (2000) 5.4.
 
-use crate::charge::{ChargeProfile, charge_profile_with};
-use crate::field::{FieldError, FieldModel, SolverSettings};
-use crate::model::validate::{AIR_BREAKDOWN_FIELD, meter_geometry};
+use crate::charge::{ChargeProfile, SegmentOrigin, charge_profile_with};
+use crate::field::{FieldError, Scene};
+use crate::model::geometry::meter_geometry;
 use crate::model::{Line, NodeKind, Reading, ReadingValue};
-use crate::units::{Dim, EPS0, Meters, format_quantity};
+use crate::physics::AIR_BREAKDOWN_FIELD;
+use crate::units::{EPS0, Meters, VoltsPerMeter};
 
 /// Calibrated distance assumed for a voltage reading that gives none [m]
 /// (25 mm = 1 inch, the usual calibration of hand-held meters; FACTS.md).
@@ -82,8 +83,8 @@ pub struct ReadingResult {
     pub distance: Meters,
     /// Meter position [m].
     pub at: [Meters; 3],
-    /// The reading as entered, in words.
-    pub reading_text: String,
+    /// The reading as entered (field, voltage with its calibration, or density).
+    pub value: ReadingValue,
     /// The reading as entered, SI (V/m, V or C/m²).
     pub reading: f64,
     /// The field the reading implies [V/m]; `None` for a density reading.
@@ -105,8 +106,53 @@ pub struct ReadingResult {
     pub residual: f64,
     /// The residual's uncertainty scale u (same unit).
     pub uncertainty: f64,
-    /// Problems and flags, in words.
-    pub warnings: Vec<String>,
+    /// Problems and flags.
+    pub warnings: Vec<ReadingNote>,
+}
+
+/// A problem or flag of one reading.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ReadingNote {
+    /// The meter is within [`ROLLER_CLEARANCE`] meter distances of a roller
+    /// the web touches, which suppresses the reading.
+    NearRoller,
+    /// The implied field [V/m] is at or above what air can hold.
+    AboveAirBreakdown {
+        /// The implied field [V/m].
+        field: VoltsPerMeter,
+    },
+    /// The meter is farther from the web than a third of its width.
+    FarFromWeb,
+    /// A voltage reading without `calibrated_at:` (25 mm assumed).
+    AssumedCalibration,
+    /// The residual exceeds 3 times the reading's uncertainty.
+    LargeResidual {
+        /// Reading minus prediction, in the reading's unit (V/m, or C/m²
+        /// for a density reading).
+        residual: f64,
+        /// Whether the reading is a density (C/m²) rather than a field.
+        density: bool,
+        /// Whether other readings share the segment (so they disagree).
+        shared: bool,
+    },
+}
+
+/// How the fit and its bounds were computed.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FitMethod {
+    /// Readings used.
+    pub readings: usize,
+    /// Segment densities fitted.
+    pub unknowns: usize,
+    /// Meter accuracy, a fraction of the displayed reading.
+    pub accuracy: f64,
+    /// Meter zero offset [V/m].
+    pub offset: VoltsPerMeter,
+    /// Meter distance tolerance [m].
+    pub distance_tolerance: Meters,
+    /// More meters than [`MAX_CORNER_METERS`]: distances moved one meter
+    /// at a time instead of at every corner.
+    pub one_at_a_time: bool,
 }
 
 /// A charge segment whose starting density the readings determine.
@@ -115,7 +161,7 @@ pub struct SegmentFit {
     /// Segment index.
     pub index: usize,
     /// What opens it.
-    pub origin: String,
+    pub origin: SegmentOrigin,
     /// Arc length of its start [m].
     pub s_start: Meters,
     /// What the charge entries predict [C/m²].
@@ -139,8 +185,8 @@ pub struct ReadingsResult {
     pub readings: Vec<ReadingResult>,
     /// One entry per fitted segment.
     pub segments: Vec<SegmentFit>,
-    /// How the bounds were computed, in words.
-    pub method: String,
+    /// How the fit and its bounds were computed (`None` without readings).
+    pub method: Option<FitMethod>,
     /// What every eliminator does.
     pub eliminators: Vec<EliminatorState>,
 }
@@ -153,9 +199,12 @@ pub enum ReadingsError {
     Field(#[from] FieldError),
     /// The readings do not determine the densities.
     #[error(
-        "the readings do not determine the charge of segment starting at {0}: add a reading over that stretch of web"
+        "the readings do not determine the charge of the segment starting {s_start:.3} m along the path: add a reading over that stretch of web"
     )]
-    Singular(String),
+    Singular {
+        /// Arc length where the segment starts [m].
+        s_start: Meters,
+    },
 }
 
 struct Row {
@@ -168,14 +217,6 @@ struct Row {
     r: f64,
     /// Uncertainty u_m.
     u: f64,
-}
-
-fn segment_of(charge: &ChargeProfile, s: f64) -> usize {
-    charge
-        .segments
-        .iter()
-        .rposition(|g| s >= g.s_start)
-        .unwrap_or(0)
 }
 
 /// The field the reading implies [V/m], and whether the calibration was assumed.
@@ -204,7 +245,7 @@ fn rows(
     unknowns: &[usize],
     distances: &[f64],
     active: &[bool],
-    settings: SolverSettings,
+    scene: &Scene,
 ) -> Result<Vec<Row>, FieldError> {
     // A(x) = A0 + Σ_j x_j T_j.
     let zero: Vec<(usize, f64)> = unknowns.iter().map(|&k| (k, 0.0)).collect();
@@ -228,15 +269,15 @@ fn rows(
                 .collect()
         })
         .collect();
-    let models: Vec<FieldModel> = (0..base.segments.len())
-        .map(|k| FieldModel::new(line, &unit_profile(base, k), settings))
+    let models: Vec<_> = (0..base.segments.len())
+        .map(|k| scene.web(&unit_profile(base, k)))
         .collect();
     let m = line.meter;
     let mut out = Vec::new();
     for (i, r) in line.readings.iter().enumerate() {
         let span = &line.path.spans[r.span];
         let s = span.s_start + r.along;
-        let k_own = segment_of(base, s);
+        let k_own = base.segment_at(s);
         match implied_field(r).0 {
             Some(e) => {
                 let (at, n) = meter_geometry(span, r.along, r.across, distances[i], r.side);
@@ -365,7 +406,7 @@ pub struct EliminatorState {
 pub fn passive_activity(
     line: &Line,
     overrides: &[(usize, f64)],
-    settings: SolverSettings,
+    scene: &Scene,
 ) -> Result<(Vec<bool>, Vec<Option<f64>>), FieldError> {
     use crate::model::EliminatorKind;
     let n = line.eliminators.len();
@@ -381,7 +422,7 @@ pub fn passive_activity(
             continue;
         }
         let profile = charge_profile_with(line, overrides, &active);
-        let model = FieldModel::new(line, &profile, settings);
+        let model = scene.web(&profile);
         let (tip, _) = meter_geometry(&line.path.spans[e.span], e.along, 0.0, e.distance, e.side);
         let f = model.at(tip, false)?.e_magnitude();
         tips[i] = Some(f);
@@ -401,16 +442,10 @@ fn eliminator_states(
         .iter()
         .enumerate()
         .map(|(i, e)| {
-            let k = segment_of(charge, e.s);
-            let before = if k == 0 {
-                0.0
-            } else {
-                let g = &charge.segments[k - 1];
-                g.amplitude * crate::charge::decay(g.s_end - g.s_start, charge.decay_length)
-            };
+            let k = charge.segment_at(e.s);
             EliminatorState {
                 index: i,
-                sigma_in: before,
+                sigma_in: charge.arriving(k),
                 sigma_out: charge.segments[k].amplitude,
                 tip_field: tips.get(i).copied().flatten(),
                 active: active.get(i).copied().unwrap_or(true),
@@ -422,11 +457,8 @@ fn eliminator_states(
 /// Converts the line's readings; without readings the model's charge is
 /// returned (with the passive devices' activity decided by the solver) and
 /// an empty table.
-pub fn invert_readings(
-    line: &Line,
-    settings: SolverSettings,
-) -> Result<ReadingsResult, ReadingsError> {
-    let (mut active, mut tips) = passive_activity(line, &[], settings)?;
+pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, ReadingsError> {
+    let (mut active, mut tips) = passive_activity(line, &[], scene)?;
     let model = charge_profile_with(line, &[], &active);
     if line.readings.is_empty() {
         let eliminators = eliminator_states(line, &model, &active, &tips);
@@ -434,14 +466,14 @@ pub fn invert_readings(
             charge: model,
             readings: Vec::new(),
             segments: Vec::new(),
-            method: String::new(),
+            method: None,
             eliminators,
         });
     }
     let mut unknowns: Vec<usize> = line
         .readings
         .iter()
-        .map(|r| segment_of(&model, line.path.spans[r.span].s_start + r.along))
+        .map(|r| model.segment_at(line.path.spans[r.span].s_start + r.along))
         .collect();
     unknowns.sort_unstable();
     unknowns.dedup();
@@ -478,13 +510,15 @@ pub fn invert_readings(
             }
         }
     }
-    let singular = |k: usize| ReadingsError::Singular(model.segments[k].origin.clone());
-    let r0 = rows(line, &model, &unknowns, &d0, &active, settings)?;
+    let singular = |k: usize| ReadingsError::Singular {
+        s_start: model.segments[k].s_start,
+    };
+    let r0 = rows(line, &model, &unknowns, &d0, &active, scene)?;
     let (x, _) = solve(&r0, n).ok_or_else(|| singular(unknowns[0]))?;
     let mut lo = x.clone();
     let mut hi = x.clone();
     for d in &sets {
-        let rr = rows(line, &model, &unknowns, d, &active, settings)?;
+        let rr = rows(line, &model, &unknowns, d, &active, scene)?;
         let Some((xd, pd)) = solve(&rr, n) else {
             continue;
         };
@@ -497,7 +531,7 @@ pub fn invert_readings(
     }
     let overrides: Vec<(usize, f64)> = unknowns.iter().copied().zip(x.iter().copied()).collect();
     // The fitted charge may change what a passive device downstream sees.
-    let (active2, tips2) = passive_activity(line, &overrides, settings)?;
+    let (active2, tips2) = passive_activity(line, &overrides, scene)?;
     if active2 != active {
         active = active2;
     }
@@ -518,7 +552,7 @@ pub fn invert_readings(
             readings: line
                 .readings
                 .iter()
-                .filter(|r| segment_of(&model, line.path.spans[r.span].s_start + r.along) == k)
+                .filter(|r| model.segment_at(line.path.spans[r.span].s_start + r.along) == k)
                 .count(),
         })
         .collect::<Vec<_>>();
@@ -527,7 +561,7 @@ pub fn invert_readings(
     for (i, r) in line.readings.iter().enumerate() {
         let span = &line.path.spans[r.span];
         let s = span.s_start + r.along;
-        let k = segment_of(&model, s);
+        let k = model.segment_at(s);
         let j = unknowns.iter().position(|&u| u == k).unwrap_or(0);
         let shape = crate::charge::decay(s - model.segments[k].s_start, model.decay_length)
             * model.across.f(r.across);
@@ -536,18 +570,10 @@ pub fn invert_readings(
         let predicted =
             row.map(|row| row.b + row.m.iter().zip(&x).map(|(m, x)| m * x).sum::<f64>());
         let (field, assumed_cal) = implied_field(r);
-        let (reading, reading_text) = match r.value {
-            ReadingValue::Field(e) => (e, format_quantity(e, Dim::Field)),
-            ReadingValue::Voltage(v, c) => (
-                v,
-                format!(
-                    "{} at {}{}",
-                    format_quantity(v, Dim::Voltage),
-                    format_quantity(c.unwrap_or(DEFAULT_CALIBRATION), Dim::Length),
-                    if c.is_none() { " (assumed)" } else { "" }
-                ),
-            ),
-            ReadingValue::Sigma(sg) => (sg, format_quantity(sg, Dim::SurfaceChargeDensity)),
+        let reading = match r.value {
+            ReadingValue::Field(e) => e,
+            ReadingValue::Voltage(v, _) => v,
+            ReadingValue::Sigma(sg) => sg,
         };
         let residual = match (row, predicted) {
             (Some(row), Some(pred)) => row.r - pred,
@@ -560,40 +586,26 @@ pub fn invert_readings(
         if (r.along < clearance && near(span.from_node))
             || (span.length - r.along < clearance && near(span.to_node))
         {
-            warnings.push(format!(
-                "the meter is within {} meter distances of a roller the web touches: the grounded roller suppresses the reading — take readings mid-span",
-                ROLLER_CLEARANCE
-            ));
+            warnings.push(ReadingNote::NearRoller);
         }
         if let Some(e) = field
             && e.abs() >= AIR_BREAKDOWN_FIELD
         {
-            warnings.push(format!(
-                "the reading implies {}, at or above the 3 MV/m that air can hold: check the unit and the meter",
-                format_quantity(e, Dim::Field)
-            ));
+            warnings.push(ReadingNote::AboveAirBreakdown { field: e });
         }
         if r.distance > line.web.width / 3.0 {
-            warnings.push("the meter is farther from the web than a third of its width: the reading mostly measures the web's total charge, not its local density".to_string());
+            warnings.push(ReadingNote::FarFromWeb);
         }
         if assumed_cal {
-            warnings.push("a voltage reading without `calibrated_at:`: 25 mm (1 inch) assumed, the usual calibration — give the meter's calibrated distance".to_string());
+            warnings.push(ReadingNote::AssumedCalibration);
         }
         let others = segments.get(j).map(|g| g.readings).unwrap_or(1);
         if uncertainty > 0.0 && residual.abs() > 3.0 * uncertainty {
-            let why = if others > 1 {
-                "inconsistent with the other readings on this stretch of web: the charge may vary across the web more than the profile says, or a charging point upstream is missing from `charge:`"
-            } else {
-                "the model cannot match it: check the meter position, the side, and the geometry near the meter"
-            };
-            warnings.push(format!(
-                "residual {} is more than 3 times the reading's uncertainty: {why}",
-                if field.is_some() {
-                    format_quantity(residual, Dim::Field)
-                } else {
-                    format_quantity(residual, Dim::SurfaceChargeDensity)
-                }
-            ));
+            warnings.push(ReadingNote::LargeResidual {
+                residual,
+                density: field.is_none(),
+                shared: others > 1,
+            });
         }
         results.push(ReadingResult {
             id: r.id.clone(),
@@ -602,7 +614,7 @@ pub fn invert_readings(
             s,
             distance: r.distance,
             at: meter_geometry(span, r.along, r.across, r.distance, r.side).0,
-            reading_text,
+            value: r.value,
             reading,
             field,
             sigma: charge.sigma(s, r.across),
@@ -622,13 +634,13 @@ pub fn invert_readings(
         charge,
         readings: results,
         segments,
-        method: format!(
-            "weighted least squares over {} reading(s) for {} segment density(ies); bounds = the exact worst case of the reading errors (accuracy {} of the displayed reading + offset {}; the fit is linear in the readings) at every combination of meter distances moved by ± {} (one meter at a time beyond 8 meters)",
-            line.readings.len(),
-            n,
-            format_quantity(line.meter.accuracy, Dim::Percent),
-            format_quantity(line.meter.offset, Dim::Field),
-            format_quantity(tol, Dim::Length)
-        ),
+        method: Some(FitMethod {
+            readings: line.readings.len(),
+            unknowns: n,
+            accuracy: line.meter.accuracy,
+            offset: line.meter.offset,
+            distance_tolerance: tol,
+            one_at_a_time: m > MAX_CORNER_METERS,
+        }),
     })
 }

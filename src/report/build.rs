@@ -359,13 +359,17 @@ pub fn build_report(
             .chain(readings.readings.iter().flat_map(|r| {
                 r.warnings
                     .iter()
-                    .map(move |w| format!("reading {}: {w}", r.id))
+                    .map(move |w| format!("reading {}: {}", r.id, super::notes::reading_note(w)))
             }))
             .collect(),
         plots,
         readings: readings.readings.clone(),
         reading_segments: readings.segments.clone(),
-        reading_method: readings.method.clone(),
+        reading_method: readings
+            .method
+            .as_ref()
+            .map(super::notes::fit_method)
+            .unwrap_or_default(),
         eliminators: readings.eliminators.clone(),
         plan: None,
     }

@@ -146,7 +146,7 @@ pub fn readings_csv(readings: &[crate::readings::ReadingResult]) -> String {
             opt(x.sigma_naive_one_sided),
             x.sigma_model,
             x.residual,
-            field_text(&x.warnings.join("; "))
+            field_text(&super::notes::reading_notes(&x.warnings))
         ));
     }
     s

@@ -158,7 +158,7 @@ fn reading_table(r: &Report) -> Block {
                     x.span.clone(),
                     len_text(x.position),
                     len_text(x.distance),
-                    x.reading_text.clone(),
+                    super::notes::reading_value(&x.value),
                     sd(x.sigma),
                     format!("{} … {}", sd(x.sigma_low), sd(x.sigma_high)),
                     ratio(x.sigma_naive_isolated, x.sigma),
@@ -167,7 +167,7 @@ fn reading_table(r: &Report) -> Block {
                     if x.warnings.is_empty() {
                         "—".into()
                     } else {
-                        x.warnings.join("; ")
+                        super::notes::reading_notes(&x.warnings)
                     },
                 ]
             })

@@ -82,7 +82,7 @@ pub fn side_view(line: &Line, charge: &ChargeProfile) -> SideView {
             .eliminators
             .iter()
             .map(|e| {
-                let (at, _) = crate::model::validate::meter_geometry(
+                let (at, _) = crate::model::geometry::meter_geometry(
                     &line.path.spans[e.span],
                     e.along,
                     0.0,

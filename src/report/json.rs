@@ -170,7 +170,11 @@ pub fn results_json(r: &Report) -> String {
 /// One reading as a JSON object (SI units).
 pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
     let opt = |v: Option<f64>| v.map(num).unwrap_or_else(|| "null".into());
-    let warnings: Vec<String> = x.warnings.iter().map(|w| string(w)).collect();
+    let warnings: Vec<String> = x
+        .warnings
+        .iter()
+        .map(|w| string(&super::notes::reading_note(w)))
+        .collect();
     format!(
         "{{\"id\": {}, \"span\": {}, \"position\": {}, \"distance\": {}, \"reading\": {}, \"field\": {}, \"sigma\": {}, \"sigma_low\": {}, \"sigma_high\": {}, \"sigma_naive_isolated\": {}, \"sigma_naive_one_sided\": {}, \"sigma_model\": {}, \"residual\": {}, \"warnings\": [{}]}}",
         string(&x.id),

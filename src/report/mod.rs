@@ -13,6 +13,7 @@ pub mod folder;
 pub mod html;
 pub mod json;
 pub mod markdown;
+pub mod notes;
 pub mod plot;
 pub mod table;
 pub mod text;

@@ -141,7 +141,7 @@ pub fn readings_table(r: &crate::readings::ReadingsResult) -> String {
                 x.span.clone(),
                 len(x.position),
                 len(x.distance),
-                x.reading_text.clone(),
+                super::notes::reading_value(&x.value),
                 x.field
                     .map(|e| format_si(e, "V/m"))
                     .unwrap_or_else(|| "—".into()),
@@ -181,7 +181,7 @@ pub fn readings_table(r: &crate::readings::ReadingsResult) -> String {
     );
     for x in &r.readings {
         for w in &x.warnings {
-            s.push_str(&format!("  {}: {w}\n", x.id));
+            s.push_str(&format!("  {}: {}\n", x.id, super::notes::reading_note(w)));
         }
     }
     s

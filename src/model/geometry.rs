@@ -1,0 +1,174 @@
+//! # Where things are relative to the web
+//!
+//! Geometry shared by the validator, the solver, the readings stage, the
+//! assessment and the planner: the distance from a point to a span's charged
+//! rectangle, the position and normal of a meter (or an eliminator's tips)
+//! held at a distance from a span, and why a point cannot be evaluated.
+//!
+//! A span runs from `start` [m] (side view, x–z) along the unit direction
+//! **d** for its length L [m]; the charged rectangle is 0 ≤ u ≤ L,
+//! |y| ≤ w/2 (w the web width [m]). For a point **p**, u = (**p** −
+//! start)·**d**, h its offset along the span's normal, and the distance is
+//! √(Δu² + Δy² + h²) with Δu, Δy the overshoots beyond the rectangle's edges.
+
+use super::Side;
+use super::path::{Roller, Span, WebPath};
+use crate::units::Meters;
+use std::fmt;
+
+/// Closest a place of interest may be to the web [m] (the solver's limit:
+/// the field is discontinuous at a charged sheet).
+pub const MIN_POINT_DISTANCE: Meters = 1e-6;
+
+/// A point's coordinates in a span's frame: along the span `u` [m], across
+/// the web `y` [m] and along the span's normal `h` [m], with the distance to
+/// the charged rectangle [m].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SpanFrame {
+    /// Along the span from its start [m].
+    pub u: Meters,
+    /// Across the web [m].
+    pub y: Meters,
+    /// Along the normal (left of travel in the x–z plane) [m].
+    pub h: Meters,
+    /// Distance to the charged rectangle [m].
+    pub distance: Meters,
+}
+
+/// The point `p` = [x, y, z] [m] in the frame of `span` of width `width` [m].
+pub fn span_frame(span: &Span, width: Meters, p: [Meters; 3]) -> SpanFrame {
+    let d = span.direction();
+    let rel = [p[0] - span.start[0], p[2] - span.start[1]];
+    let u = rel[0] * d[0] + rel[1] * d[1];
+    let h = -rel[0] * d[1] + rel[1] * d[0];
+    let du = if u < 0.0 {
+        -u
+    } else if u > span.length {
+        u - span.length
+    } else {
+        0.0
+    };
+    let dy = (p[1].abs() - width / 2.0).max(0.0);
+    SpanFrame {
+        u,
+        y: p[1],
+        h,
+        distance: (du * du + dy * dy + h * h).sqrt(),
+    }
+}
+
+/// Distance from a 3-D point to the charged rectangle of a span [m].
+pub fn distance_to_span(span: &Span, width: Meters, p: [Meters; 3]) -> Meters {
+    span_frame(span, width, p).distance
+}
+
+/// Why a point cannot be evaluated.
+#[derive(Debug, Clone, PartialEq)]
+pub enum PointProblem {
+    /// Below the ground plane.
+    BelowGround {
+        /// The point's height [m].
+        z: Meters,
+        /// The plane's height [m].
+        ground: Meters,
+    },
+    /// Inside a roller.
+    InsideRoller {
+        /// The roller's id.
+        roller: String,
+    },
+    /// On (within [`MIN_POINT_DISTANCE`] of) a span.
+    OnWeb {
+        /// Distance to the span [m].
+        distance: Meters,
+        /// The span's label.
+        span: String,
+    },
+}
+
+impl fmt::Display for PointProblem {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            PointProblem::BelowGround { z, ground } => write!(
+                f,
+                "z = {z:.4} m is below the ground plane at z = {ground:.4} m: the model has no field there"
+            ),
+            PointProblem::InsideRoller { roller } => write!(
+                f,
+                "the point lies inside roller {roller} (rollers are taken to be as long as the web is wide): move it outside"
+            ),
+            PointProblem::OnWeb { distance, span } => write!(
+                f,
+                "the point is {distance:.2e} m from span {span}, i.e. on the web: points must be at least 1 µm away (the field is discontinuous at a charged sheet)"
+            ),
+        }
+    }
+}
+
+/// Why a point cannot be evaluated (on the web, inside a roller, below the
+/// ground plane), or `None` when it can.
+pub fn point_problem(
+    path: &WebPath,
+    rollers: &[Roller],
+    width: Meters,
+    ground: Option<Meters>,
+    at: [Meters; 3],
+) -> Option<PointProblem> {
+    if let Some(g) = ground
+        && at[2] < g
+    {
+        return Some(PointProblem::BelowGround {
+            z: at[2],
+            ground: g,
+        });
+    }
+    for r in rollers {
+        let d = (at[0] - r.center[0]).hypot(at[2] - r.center[1]);
+        if d < r.radius && at[1].abs() <= width / 2.0 {
+            return Some(PointProblem::InsideRoller {
+                roller: r.id.clone(),
+            });
+        }
+    }
+    for s in &path.spans {
+        let d = distance_to_span(s, width, at);
+        if d < MIN_POINT_DISTANCE {
+            return Some(PointProblem::OnWeb {
+                distance: d,
+                span: s.label(),
+            });
+        }
+    }
+    None
+}
+
+/// The position [m] of a meter held `distance` [m] from `span`, `along` [m]
+/// from its start and `across` [m] from the centreline, on `side`, and the
+/// unit normal from the web towards it.
+pub fn meter_geometry(
+    span: &Span,
+    along: Meters,
+    across: Meters,
+    distance: Meters,
+    side: Side,
+) -> ([Meters; 3], [f64; 3]) {
+    let d = span.direction();
+    // Left normal of the travel direction in the x-z plane.
+    let mut n = [-d[1], d[0]];
+    let up = if n[1].abs() > 1e-12 {
+        n[1] > 0.0
+    } else {
+        n[0] > 0.0
+    };
+    if !up {
+        n = [-n[0], -n[1]];
+    }
+    if side == Side::Below {
+        n = [-n[0], -n[1]];
+    }
+    let foot = [span.start[0] + along * d[0], span.start[1] + along * d[1]];
+    (
+        [foot[0] + distance * n[0], across, foot[1] + distance * n[1]],
+        [n[0], 0.0, n[1]],
+    )
+}

@@ -1,0 +1,93 @@
+//! The pipeline in one place (issue #8): one scene per command, and the
+//! demo's numbers unchanged by the reshaping.
+
+use clap::Parser;
+use std::path::Path;
+use websigma::cli::Cli;
+use websigma::field::scene::scenes_built_on_this_thread;
+
+/// Runs a command in this process; returns how many scenes it built.
+fn scenes_built_by(args: &[&str]) -> usize {
+    let before = scenes_built_on_this_thread();
+    let cli = Cli::try_parse_from(args).expect("valid command line");
+    websigma::app::run(cli).expect("the command runs");
+    scenes_built_on_this_thread() - before
+}
+
+/// The only report folder under `out`.
+fn only_report(out: &Path) -> std::path::PathBuf {
+    let dirs: Vec<_> = std::fs::read_dir(out)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.is_dir())
+        .collect();
+    assert_eq!(dirs.len(), 1, "{dirs:?}");
+    dirs[0].clone()
+}
+
+// See: #8
+#[test]
+fn r8_one_assess_of_the_demo_builds_one_scene() {
+    let dir = tempfile::tempdir().unwrap();
+    let line = dir.path().join("demo.yaml");
+    std::fs::write(&line, websigma::DEMO_LINE).unwrap();
+    let out = dir.path().join("out");
+    let (line, out) = (line.to_str().unwrap(), out.to_str().unwrap());
+    assert_eq!(scenes_built_by(&["websigma", "assess", line, "--out", out]), 1);
+    // With the planner and its full re-assessments, still one.
+    assert_eq!(
+        scenes_built_by(&["websigma", "assess", line, "--out", out, "--plan", "2"]),
+        1
+    );
+}
+
+/// Numbers equal within `rel` (relative), strings and structure identical,
+/// except the keys that name the run.
+fn same(a: &serde_json::Value, b: &serde_json::Value, path: &str, rel: f64) {
+    use serde_json::Value;
+    match (a, b) {
+        (Value::Number(x), Value::Number(y)) => {
+            let (x, y) = (x.as_f64().unwrap(), y.as_f64().unwrap());
+            assert!(
+                (x - y).abs() <= rel * x.abs().max(y.abs()),
+                "{path}: {x} vs {y}"
+            );
+        }
+        (Value::Array(x), Value::Array(y)) => {
+            assert_eq!(x.len(), y.len(), "{path}: lengths");
+            for (i, (p, q)) in x.iter().zip(y).enumerate() {
+                same(p, q, &format!("{path}[{i}]"), rel);
+            }
+        }
+        (Value::Object(x), Value::Object(y)) => {
+            let kx: Vec<_> = x.keys().collect();
+            let ky: Vec<_> = y.keys().collect();
+            assert_eq!(kx, ky, "{path}: keys");
+            for (k, p) in x {
+                if ["report_id", "created_utc", "tool_version"].contains(&k.as_str()) {
+                    continue;
+                }
+                same(p, &y[k], &format!("{path}.{k}"), rel);
+            }
+        }
+        _ => assert_eq!(a, b, "{path}"),
+    }
+}
+
+// See: #8
+#[test]
+fn r8_demo_results_match_the_copy_stored_before_the_scene() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().to_str().unwrap();
+    assert_eq!(scenes_built_by(&["websigma", "demo", "--out", out]), 1);
+    let got: serde_json::Value = serde_json::from_str(
+        &std::fs::read_to_string(only_report(dir.path()).join("results.json")).unwrap(),
+    )
+    .unwrap();
+    let stored: serde_json::Value = serde_json::from_str(include_str!(
+        "fixtures/baseline/demo_results.json"
+    ))
+    .unwrap();
+    // 1e-12 relative: the reshaping reorders no floating-point sum.
+    same(&got, &stored, "results", 1e-12);
+}
