@@ -34,6 +34,7 @@ pub mod plan;
 pub mod readings;
 pub mod report;
 pub mod units;
+pub mod yaml;
 
 /// The built-in invented example line (`profiles/lines/demo.yaml`).
 pub const DEMO_LINE: &str = include_str!("../profiles/lines/demo.yaml");

@@ -582,46 +582,19 @@ pub fn load_line(path: &FsPath) -> anyhow::Result<Line> {
     })
 }
 
-/// Replaces serde's internal type names (`struct RawWeb`) with words.
-fn tidy_type_names(message: &str) -> String {
-    let mut out = String::new();
-    let mut rest = message;
-    while let Some(i) = rest.find("struct Raw") {
-        out.push_str(&rest[..i]);
-        out.push_str("a mapping of keys");
-        rest = &rest[i + "struct Raw".len()..];
-        let end = rest
-            .find(|c: char| !c.is_alphanumeric())
-            .unwrap_or(rest.len());
-        rest = &rest[end..];
-    }
-    out.push_str(rest);
-    out
-}
-
 /// Parses a list of eliminator entries (the planner's candidate file) and
-/// checks it against `line`. All YAML parsing stays in this module.
+/// checks it against `line`. The YAML is read by [`crate::yaml::from_str`].
 pub fn parse_eliminator_list(text: &str, line: &Line) -> Result<Vec<Eliminator>, ValidationError> {
-    let list: Vec<raw::RawEliminator> = serde_yaml::from_str(text).map_err(|e| ValidationError {
-        issues: vec![Issue {
-            path: String::new(),
-            location: e.location().map(|l| (l.line(), l.column())),
-            message: format!(
-                "{}: expected a list of entries like `- {{kind: powered, span: S3, position: 50 %, distance: 40 mm, side: above}}`",
-                e.to_string().split(" at line ").next().unwrap_or_default()
-            ),
-        }],
+    let list: Vec<raw::RawEliminator> = crate::yaml::from_str(text).map_err(|mut e| {
+        e.message.push_str(": expected a list of entries like `- {kind: powered, span: S3, position: 50 %, distance: 40 mm, side: above}`");
+        ValidationError::from(e)
     })?;
     validate::validate_eliminator_list(&list, line)
 }
 
-/// The one place where YAML text is deserialised.
+/// Reads YAML text into the raw line (through [`crate::yaml::from_str`]).
 pub(crate) fn parse_raw(text: &str) -> Result<raw::RawLine, ValidationError> {
-    if text.trim().is_empty()
-        || text
-            .lines()
-            .all(|l| l.trim().is_empty() || l.trim_start().starts_with('#'))
-    {
+    if crate::yaml::is_blank(text) {
         return Err(ValidationError {
             issues: vec![Issue::at(
                 "",
@@ -629,24 +602,10 @@ pub(crate) fn parse_raw(text: &str) -> Result<raw::RawLine, ValidationError> {
             )],
         });
     }
-    serde_yaml::from_str::<raw::RawLine>(text).map_err(|e| {
-        let location = e.location().map(|l| (l.line(), l.column()));
-        let mut message = e.to_string();
-        // serde_yaml appends " at line L column C"; the location is shown in front.
-        if let Some(i) = message.find(" at line ") {
-            message.truncate(i);
+    crate::yaml::from_str::<raw::RawLine>(text).map_err(|mut e| {
+        if e.wrong_document_type {
+            e.message = "expected a mapping of keys such as `line:`, `web:`, `rollers:`, `path:` at the top level".to_string();
         }
-        let message = if message.contains("invalid type") && message.contains("expected struct RawLine") {
-            "expected a mapping of keys such as `line:`, `web:`, `rollers:`, `path:` at the top level".to_string()
-        } else {
-            tidy_type_names(&message)
-        };
-        ValidationError {
-            issues: vec![Issue {
-                path: String::new(),
-                location,
-                message,
-            }],
-        }
+        ValidationError::from(e)
     })
 }

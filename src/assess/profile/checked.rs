@@ -1,0 +1,329 @@
+//! The checked threshold-profile types (reading stage of the assessment,
+//! the result of `validate.rs`): a profile is a list of rules, each with its
+//! check, the subjects it applies to, its limits in SI units, their source
+//! and how sure that source is. An existing `ThresholdProfile` is valid.
+
+use crate::model::{GasGroup, PointKind, Zone};
+use crate::units::{Dim, Meters, Volts, format_quantity};
+use std::fmt;
+
+/// What a rule checks.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Check {
+    /// Largest |σ| on a span [C/m²].
+    WebCharge,
+    /// |E| at points of a kind [V/m].
+    FieldAtPoints,
+    /// |V| at an operator's position [V].
+    BodyVoltage,
+    /// Spark energy ½CV² of an insulated operator [J].
+    SparkEnergy,
+    /// Web potential near electronics against the separation rule [V].
+    ElectronicsSeparation,
+    /// Capacitance of an isolated conductive roller [F].
+    IsolatedConductor,
+    /// Breakdown voltage of the web layer (propagating brush) [V].
+    PropagatingBrush,
+}
+
+impl Check {
+    /// Every check, in the order of the documentation.
+    pub const ALL: [Check; 7] = [
+        Check::WebCharge,
+        Check::FieldAtPoints,
+        Check::BodyVoltage,
+        Check::SparkEnergy,
+        Check::ElectronicsSeparation,
+        Check::IsolatedConductor,
+        Check::PropagatingBrush,
+    ];
+
+    /// The keyword used in the YAML: `web_charge`, ….
+    pub fn text(self) -> &'static str {
+        match self {
+            Check::WebCharge => "web_charge",
+            Check::FieldAtPoints => "field_at_points",
+            Check::BodyVoltage => "body_voltage",
+            Check::SparkEnergy => "spark_energy",
+            Check::ElectronicsSeparation => "electronics_separation",
+            Check::IsolatedConductor => "isolated_conductor",
+            Check::PropagatingBrush => "propagating_brush",
+        }
+    }
+
+    /// The dimension of the checked value and of the limits.
+    pub fn dim(self) -> Dim {
+        match self {
+            Check::WebCharge => Dim::SurfaceChargeDensity,
+            Check::FieldAtPoints => Dim::Field,
+            Check::BodyVoltage | Check::ElectronicsSeparation | Check::PropagatingBrush => {
+                Dim::Voltage
+            }
+            Check::SparkEnergy => Dim::Energy,
+            Check::IsolatedConductor => Dim::Capacitance,
+        }
+    }
+}
+
+impl fmt::Display for Check {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.text())
+    }
+}
+
+/// How sure the source of a limit is (FACTS.md categories).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Confidence {
+    /// Read in the named source.
+    Confirmed,
+    /// Arithmetic from confirmed values.
+    Derived,
+    /// Trade knowledge without a single source.
+    CommonPractice,
+    /// Recalled, not confirmed: verify against the current edition.
+    FromMemory,
+}
+
+impl Confidence {
+    /// `confirmed`, `derived`, `common practice`, or
+    /// `from memory — verify against the current edition`.
+    pub fn text(self) -> &'static str {
+        match self {
+            Confidence::Confirmed => "confirmed",
+            Confidence::Derived => "derived",
+            Confidence::CommonPractice => "common practice",
+            Confidence::FromMemory => "from memory — verify against the current edition",
+        }
+    }
+
+    /// Whether the limit must be verified before it is relied on.
+    pub fn needs_verification(self) -> bool {
+        self == Confidence::FromMemory
+    }
+
+    /// Reads the YAML keyword (`from memory` may carry its `— verify …` tail).
+    pub(super) fn parse(text: &str) -> Option<Confidence> {
+        let t = text.trim().to_lowercase();
+        match t.as_str() {
+            "confirmed" => Some(Confidence::Confirmed),
+            "derived" => Some(Confidence::Derived),
+            "common practice" => Some(Confidence::CommonPractice),
+            _ if t == "from memory" || t.starts_with("from memory ") => {
+                Some(Confidence::FromMemory)
+            }
+            _ => None,
+        }
+    }
+}
+
+impl fmt::Display for Confidence {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.text())
+    }
+}
+
+/// The kind of subject a rule looks at.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Subjects {
+    /// Spans of the web.
+    Spans,
+    /// Points of interest of one kind, or of any kind (`None`).
+    Points(Option<PointKind>),
+    /// Rollers.
+    Rollers,
+}
+
+/// Which hazardous zones a rule concerns; an empty list means any.
+#[derive(Debug, Clone, PartialEq, Eq, Default)]
+pub struct ZoneFilter {
+    /// Zone classes (0, 1, 2); empty = every class.
+    pub classes: Vec<u8>,
+    /// Gas groups; empty = every group.
+    pub gas_groups: Vec<GasGroup>,
+}
+
+impl ZoneFilter {
+    /// Whether a zone is of a listed class and gas group.
+    pub fn matches(&self, z: &Zone) -> bool {
+        (self.classes.is_empty() || self.classes.contains(&z.zone))
+            && (self.gas_groups.is_empty() || self.gas_groups.contains(&z.gas_group))
+    }
+
+    /// `zone 1 IIA/IIB`, `any zone`.
+    pub fn describe(&self) -> String {
+        let classes = if self.classes.is_empty() {
+            "any zone".to_string()
+        } else {
+            let c: Vec<String> = self.classes.iter().map(|c| c.to_string()).collect();
+            format!("zone {}", c.join("/"))
+        };
+        if self.gas_groups.is_empty() {
+            classes
+        } else {
+            let g: Vec<&str> = self.gas_groups.iter().map(|g| g.text()).collect();
+            format!("{classes} {}", g.join("/"))
+        }
+    }
+}
+
+/// Where a rule applies.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Applies {
+    /// What kind of subject.
+    pub subjects: Subjects,
+    /// Only subjects in a matching zone: spans touching its box, points
+    /// inside it, rollers inside or near it (see `assess::NEAR_ZONE`).
+    pub in_zone: bool,
+    /// The zones that count when `in_zone` is set.
+    pub zones: ZoneFilter,
+}
+
+impl Applies {
+    /// A short description: `spans in zone 1 IIA/IIB`, `operator points`.
+    pub fn describe(&self) -> String {
+        let what = match self.subjects {
+            Subjects::Spans => "spans".to_string(),
+            Subjects::Points(Some(k)) => format!("{} points", k.text()),
+            Subjects::Points(None) => "points".to_string(),
+            Subjects::Rollers => "rollers".to_string(),
+        };
+        if !self.in_zone {
+            return format!("all {what}");
+        }
+        let how = match self.subjects {
+            Subjects::Rollers => "in or near",
+            _ => "in",
+        };
+        format!("{what} {how} {}", self.zones.describe())
+    }
+}
+
+/// A separation limit: within `distance` the web may reach at most `voltage`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Separation {
+    /// Distance from the sensitive item [m].
+    pub distance: Meters,
+    /// Potential allowed closer than `distance` [V].
+    pub voltage: Volts,
+}
+
+/// One checked rule.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Rule {
+    /// Identifier, unique in its profile.
+    pub id: String,
+    /// What is checked.
+    pub check: Check,
+    /// What the rule checks, in words.
+    pub what: String,
+    /// Where it applies.
+    pub applies: Applies,
+    /// Warning limit, SI [unit of `dim`].
+    pub warn: Option<f64>,
+    /// Failure limit, SI [unit of `dim`]; `None` when `fail_is_zone_mie`.
+    pub fail: Option<f64>,
+    /// `fail: zone_mie`: the failure limit is the minimum ignition energy of
+    /// the zone the operator stands in (spark_energy only).
+    pub fail_is_zone_mie: bool,
+    /// electronics_separation: the near limit (e.g. 125 V within 25 mm).
+    pub near: Option<Separation>,
+    /// electronics_separation: the far limit (e.g. 2000 V within 300 mm).
+    pub far: Option<Separation>,
+    /// Dimension of the value and the limits.
+    pub dim: Dim,
+    /// Where the limits come from.
+    pub source: String,
+    /// How sure the source is.
+    pub confidence: Confidence,
+    /// Text shown in reports, when given.
+    pub note: Option<String>,
+}
+
+impl Rule {
+    /// The limits in words: `warn 1 µC/m², fail 1.7 µC/m²`.
+    pub fn limits_text(&self) -> String {
+        let mut parts = Vec::new();
+        if let Some(w) = self.warn {
+            parts.push(format!("warn {}", format_quantity(w, self.dim)));
+        }
+        if let Some(f) = self.fail {
+            parts.push(format!("fail {}", format_quantity(f, self.dim)));
+        }
+        if self.fail_is_zone_mie {
+            parts.push("fail at the MIE of the zone".to_string());
+        }
+        for (word, s) in [("near", self.near), ("far", self.far)] {
+            if let Some(s) = s {
+                parts.push(format!(
+                    "{word}: {} within {}",
+                    format_quantity(s.voltage, Dim::Voltage),
+                    format_quantity(s.distance, Dim::Length)
+                ));
+            }
+        }
+        parts.join(", ")
+    }
+}
+
+/// A checked threshold profile.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ThresholdProfile {
+    /// Short name (`ex-zone-1`).
+    pub name: String,
+    /// One-line title.
+    pub title: String,
+    /// Scope and how to read it.
+    pub description: String,
+    /// The rules, in file order.
+    pub rules: Vec<Rule>,
+    /// `shipped`, or the path of the file it was read from.
+    pub origin: String,
+    /// The YAML text as read, for hashing in the manifest.
+    pub text: String,
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn confidence_reads_its_keywords_and_the_verify_tail() {
+        assert_eq!(
+            Confidence::parse(" Confirmed "),
+            Some(Confidence::Confirmed)
+        );
+        assert_eq!(
+            Confidence::parse("common practice"),
+            Some(Confidence::CommonPractice)
+        );
+        assert_eq!(
+            Confidence::parse(Confidence::FromMemory.text()),
+            Some(Confidence::FromMemory)
+        );
+        assert_eq!(Confidence::parse("from memoryish"), None);
+        assert_eq!(Confidence::parse("sure"), None);
+    }
+
+    #[test]
+    fn zone_filter_describes_and_matches() {
+        let f = ZoneFilter {
+            classes: vec![1],
+            gas_groups: vec![GasGroup::IIA, GasGroup::IIB],
+        };
+        assert_eq!(f.describe(), "zone 1 IIA/IIB");
+        assert_eq!(ZoneFilter::default().describe(), "any zone");
+        let zone = |class: u8, gas_group: GasGroup| Zone {
+            id: "Z".to_string(),
+            name: None,
+            zone: class,
+            gas_group,
+            mie: 2e-4,
+            min: [0.0; 3],
+            max: [1.0; 3],
+        };
+        assert!(f.matches(&zone(1, GasGroup::IIB)));
+        assert!(!f.matches(&zone(2, GasGroup::IIB)));
+        assert!(!f.matches(&zone(1, GasGroup::IIC)));
+        assert!(ZoneFilter::default().matches(&zone(0, GasGroup::IIC)));
+    }
+}

@@ -1,0 +1,105 @@
+//! The built-in threshold profiles and loading (reading stage of the
+//! assessment, entry point): a profile is loaded by shipped name or from a
+//! file, and the physical limit of air (`air-limit`) is added to every set
+//! of profiles in force.
+
+use super::checked::ThresholdProfile;
+use super::validate::parse_profile;
+use crate::model::ValidationError;
+
+/// Name of the profile that is always applied (the physical limit of air).
+pub const AIR_LIMIT: &str = "air-limit";
+
+/// Largest threshold profile file read [bytes].
+pub const MAX_PROFILE_BYTES: u64 = 1024 * 1024;
+
+/// The shipped profiles, `(name, YAML text)`, one per file of
+/// `profiles/thresholds/`.
+pub fn shipped() -> Vec<(&'static str, &'static str)> {
+    vec![
+        (
+            "air-limit",
+            include_str!("../../../profiles/thresholds/air-limit.yaml"),
+        ),
+        (
+            "ex-zone-0",
+            include_str!("../../../profiles/thresholds/ex-zone-0.yaml"),
+        ),
+        (
+            "ex-zone-1",
+            include_str!("../../../profiles/thresholds/ex-zone-1.yaml"),
+        ),
+        (
+            "ex-zone-2",
+            include_str!("../../../profiles/thresholds/ex-zone-2.yaml"),
+        ),
+        (
+            "operator-shock",
+            include_str!("../../../profiles/thresholds/operator-shock.yaml"),
+        ),
+        (
+            "electronics",
+            include_str!("../../../profiles/thresholds/electronics.yaml"),
+        ),
+    ]
+}
+
+/// Loads a shipped profile by name, or else a profile file by path.
+pub fn load_profile(name_or_path: &str) -> anyhow::Result<ThresholdProfile> {
+    use anyhow::Context;
+    let list = shipped();
+    if let Some((_, text)) = list.iter().find(|(n, _)| *n == name_or_path) {
+        return parse_profile(text, "shipped").map_err(|e| problems(name_or_path, &e));
+    }
+    let path = std::path::Path::new(name_or_path);
+    let names: Vec<&str> = list.iter().map(|(n, _)| *n).collect();
+    if !path.is_file() {
+        anyhow::bail!(
+            "no threshold profile '{name_or_path}': give a shipped name ({}) or the path of a profile file",
+            names.join(", ")
+        );
+    }
+    let meta = std::fs::metadata(path)
+        .with_context(|| format!("reading threshold profile '{}'", path.display()))?;
+    if meta.len() > MAX_PROFILE_BYTES {
+        anyhow::bail!(
+            "threshold profile '{}' is {} bytes: the limit is {MAX_PROFILE_BYTES} bytes (a profile is a short YAML file)",
+            path.display(),
+            meta.len()
+        );
+    }
+    let text = std::fs::read_to_string(path).with_context(|| {
+        format!(
+            "reading threshold profile '{}' (it must be UTF-8 text)",
+            path.display()
+        )
+    })?;
+    parse_profile(&text, name_or_path).map_err(|e| problems(name_or_path, &e))
+}
+
+fn problems(origin: &str, e: &ValidationError) -> anyhow::Error {
+    let n = e.issues.len();
+    let mut msg = format!(
+        "invalid threshold profile '{origin}': {n} problem{}",
+        if n == 1 { "" } else { "s" }
+    );
+    for i in &e.issues {
+        msg.push_str(&format!("\n  {i}"));
+    }
+    anyhow::anyhow!(msg)
+}
+
+/// The profiles with the shipped `air-limit` profile added (first) unless one
+/// of that name is already there: the physical limit of air always applies.
+pub fn with_air_limit(mut profiles: Vec<ThresholdProfile>) -> Vec<ThresholdProfile> {
+    if profiles.iter().any(|p| p.name == AIR_LIMIT) {
+        return profiles;
+    }
+    // The shipped file is parsed by a test, so this cannot fail in a release.
+    if let Some((_, text)) = shipped().into_iter().find(|(n, _)| *n == AIR_LIMIT)
+        && let Ok(p) = parse_profile(text, "shipped")
+    {
+        profiles.insert(0, p);
+    }
+    profiles
+}
