@@ -1,0 +1,188 @@
+//! The field-strength chart: |E| on a logarithmic colour scale over the x–z plane, with
+//! the web path, rollers, zones, points and the limit contour drawn over it.
+//!
+//! Pipeline stage: report writers (PNG plots). Draws only. Grid values belong to the
+//! nodes; each cell is filled from midpoint to midpoint between nodes.
+
+use anyhow::{Result, ensure};
+use plotters::prelude::*;
+
+use super::colour::{NODATA, colour_bar, field_colour, log_range, log_ticks};
+use super::contour::{contour, draw_contour};
+use super::frame::{bar_height, empty_note, fmt_num, layout, non_empty, panel_box, render};
+use super::legend::{Sym, legend, scene_legend};
+use super::scene::{
+    draw_ground, draw_markers, draw_points, draw_roller_labels, draw_rollers, draw_zone_labels,
+    draw_zones,
+};
+use super::web::draw_web;
+use super::xz::{padded, side_bounds, slightly_padded, xz_chart, xz_mesh};
+use super::{FieldGrid, MAX_MAGNITUDE, SideView, coord_ok};
+
+/// Field-strength map |E| on a logarithmic colour scale (kV/m) with the web path, rollers,
+/// zones, points and the limit contour drawn over it. Returns PNG bytes.
+///
+/// Fails when `e_mag.len() != xs.len() * zs.len()` or when `xs` / `zs` are not finite and
+/// strictly increasing.
+pub fn field_map_png(v: &SideView, g: &FieldGrid, width: u32, height: u32) -> Result<Vec<u8>> {
+    let (nx, nz) = (g.xs.len(), g.zs.len());
+    ensure!(
+        nx.checked_mul(nz) == Some(g.e_mag.len()),
+        "field grid: e_mag has {} values, expected xs.len() × zs.len() = {nx} × {nz}",
+        g.e_mag.len()
+    );
+    ensure!(
+        increasing(&g.xs),
+        "field grid: xs must be finite and strictly increasing"
+    );
+    ensure!(
+        increasing(&g.zs),
+        "field grid: zs must be finite and strictly increasing"
+    );
+    render(width, height, |root| {
+        let title = non_empty(&v.title, "Web line");
+        let slice = if g.y.is_finite() {
+            format!("slice at y = {} mm", fmt_num(g.y * 1e3))
+        } else {
+            "slice position unknown".to_string()
+        };
+        let (main, panel) = layout(
+            root,
+            &format!("{title}: electric field strength |E|"),
+            &format!("{slice}; logarithmic colour scale; equal scale in x and z"),
+        )?;
+        let ex = cell_edges(&g.xs);
+        let ez = cell_edges(&g.zs);
+        let mut b = side_bounds(v);
+        let bounds = if let (Some(x), Some(z)) = (ex.as_ref(), ez.as_ref()) {
+            for (&xa, &za) in [x[0], x[x.len() - 1]]
+                .iter()
+                .zip([z[0], z[z.len() - 1]].iter())
+            {
+                b.add(xa, za);
+            }
+            b.add(x[0], z[z.len() - 1]);
+            b.add(x[x.len() - 1], z[0]);
+            let mut p = slightly_padded(b);
+            if let Some(g) = v.ground.filter(|g| coord_ok(*g)) {
+                p.z0 = p.z0.min(g - 0.04 * p.span());
+            }
+            p
+        } else {
+            padded(b, v.ground)
+        };
+        let mut chart = xz_chart(&main, bounds, v.ground.is_some_and(coord_ok))?;
+        xz_mesh(&mut chart)?;
+
+        let (llo, lhi) = log_range(&g.e_mag);
+        let t_of = |e: f64| ((e.max(1e-300).log10() - llo) / (lhi - llo)).clamp(0.0, 1.0);
+        let mut any_nan = false;
+        if let (Some(x), Some(z)) = (ex.as_ref(), ez.as_ref()) {
+            let area = chart.plotting_area();
+            area.draw(&Rectangle::new(
+                [(x[0], z[0]), (x[nx], z[nz])],
+                NODATA.filled(),
+            ))?;
+            for iz in 0..nz {
+                for ix in 0..nx {
+                    let e = g.e_mag.get(iz * nx + ix).copied().unwrap_or(f64::NAN);
+                    if !e.is_finite() {
+                        any_nan = true;
+                        continue;
+                    }
+                    let c = field_colour(t_of(e));
+                    area.draw(&Rectangle::new(
+                        [(x[ix], z[iz]), (x[ix + 1], z[iz + 1])],
+                        c.filled(),
+                    ))?;
+                }
+            }
+        }
+        draw_ground(root, &chart, v.ground, false)?;
+        draw_zones(&chart, &v.zones, false)?;
+        draw_rollers(root, &chart, &v.rollers)?;
+        draw_web(root, &chart, v, None)?;
+        let limit = g
+            .limit
+            .as_ref()
+            .filter(|(e, _)| e.is_finite() && *e > 0.0 && *e / 1e3 <= MAX_MAGNITUDE);
+        let mut contour_drawn = false;
+        if let Some((e_lim, label)) = limit {
+            let segs = contour(&g.xs, &g.zs, &g.e_mag, *e_lim);
+            contour_drawn = !segs.is_empty();
+            draw_contour(root, &chart, &segs, label)?;
+        }
+        draw_markers(root, &chart, &v.markers)?;
+        draw_points(root, &chart, &v.points)?;
+        draw_zone_labels(root, &chart, &v.zones)?;
+        draw_roller_labels(root, &chart, &v.rollers)?;
+        if !g.e_mag.iter().any(|e| e.is_finite()) {
+            empty_note(root, &chart, "no field values to show")?;
+        }
+
+        let (px, py, pw, ph) = panel_box(&panel);
+        let cmap = |t: f64| field_colour(t);
+        let ticks = log_ticks(llo, lhi);
+        let marks: Vec<(f64, String)> = limit
+            .iter()
+            .map(|(e, l)| (t_of(*e), l.clone()))
+            .filter(|(t, _)| *t > 0.0 && *t < 1.0)
+            .collect();
+        let bar_h = bar_height(ph);
+        let bottom = colour_bar(root, (px, py), bar_h, "|E| [kV/m]", &cmap, &ticks, &marks)?;
+        let mut items = Vec::new();
+        if let Some((e, l)) = limit {
+            let text = format!("{} ({} kV/m)", non_empty(l, "limit"), fmt_num(e / 1e3));
+            let text = if contour_drawn {
+                text
+            } else {
+                format!("{text}: not reached")
+            };
+            items.push((Sym::Contour, text));
+        }
+        items.extend(scene_legend(v, (Sym::Tape, "web path"), false));
+        if any_nan {
+            items.push((Sym::Swatch(NODATA), "not computed".to_string()));
+        }
+        legend(root, (px, bottom + 28), pw, py + ph, &items)
+    })
+}
+
+pub(super) fn increasing(v: &[f64]) -> bool {
+    v.iter().all(|x| coord_ok(*x)) && v.windows(2).all(|w| w[0] < w[1])
+}
+
+/// Cell boundaries (n + 1 values) halfway between nodes; None for an empty axis.
+fn cell_edges(nodes: &[f64]) -> Option<Vec<f64>> {
+    let n = nodes.len();
+    match n {
+        0 => None,
+        1 => Some(vec![nodes[0] - 0.005, nodes[0] + 0.005]),
+        _ => {
+            let mut e = Vec::with_capacity(n + 1);
+            e.push(nodes[0] - (nodes[1] - nodes[0]) / 2.0);
+            e.extend(nodes.windows(2).map(|w| (w[0] + w[1]) / 2.0));
+            e.push(nodes[n - 1] + (nodes[n - 1] - nodes[n - 2]) / 2.0);
+            Some(e)
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::colour::CONTOUR;
+    use super::super::testkit::{colours, decode, grid, has, title_has_ink, view};
+    use super::*;
+
+    #[test]
+    fn field_map_is_a_drawn_png_with_contour() {
+        let png = field_map_png(&view(), &grid(80, 60), 1200, 700).unwrap();
+        assert!(png.len() < 3_000_000, "size {} bytes", png.len());
+        let (w, h, rgb) = decode(&png);
+        assert_eq!((w, h), (1200, 700));
+        assert!(colours(&rgb) > 50);
+        assert!(title_has_ink(w, &rgb));
+        assert!(has(&rgb, CONTOUR), "limit contour drawn");
+        assert!(has(&rgb, field_colour(1.0)), "top of the colour bar");
+    }
+}
