@@ -713,7 +713,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
 }
 
 /// The short terminal summary: one line per finding, worst first.
-fn summary_table(a: &crate::assess::Assessment, max_rows: usize) -> String {
+fn summary_table(line: &Line, a: &crate::assess::Assessment, max_rows: usize) -> String {
     use tabled::settings::Style;
     #[derive(tabled::Tabled)]
     struct Row {
@@ -732,7 +732,7 @@ fn summary_table(a: &crate::assess::Assessment, max_rows: usize) -> String {
         .map(|f| Row {
             verdict: f.verdict.text().to_uppercase(),
             rule: format!("{}/{}", f.profile, f.rule),
-            subject: f.subject.clone(),
+            subject: crate::report::notes::subject_label(line, &f.subject),
             value: format_quantity(f.value, f.dim),
             limit: format_quantity(f.limit, f.dim),
             margin: crate::report::document::margin_text(f.margin),
@@ -756,7 +756,7 @@ fn print_assessment(line: &Line, a: &crate::assess::Assessment, dir: &Path) -> R
     let s = format!(
         "{}\n{}\n\nverdict: {} ({} fail, {} warn, {} pass)\nreport: {}\n\ncaution: {}\n",
         line.title,
-        summary_table(a, 25),
+        summary_table(line, a, 25),
         a.verdict.text().to_uppercase(),
         n(crate::assess::Verdict::Fail),
         n(crate::assess::Verdict::Warn),
@@ -977,7 +977,7 @@ fn plan_text(plan: &crate::plan::Plan, line: &Line) -> String {
                 .find(|g| g.profile == f.profile && g.rule == f.rule && g.subject == f.subject);
             rows.push(vec![
                 format!("{}/{}", f.profile, f.rule),
-                f.subject.clone(),
+                crate::report::notes::subject_label(line, &f.subject),
                 format!(
                     "{} {}",
                     f.verdict.text().to_uppercase(),
@@ -995,14 +995,18 @@ fn plan_text(plan: &crate::plan::Plan, line: &Line) -> String {
             ]);
         }
         for g in best.assessment.findings.iter().filter(|g| {
-            g.profile == crate::assess::eliminators::PROFILE
+            &*g.profile == crate::assess::eliminators::PROFILE
                 && g.verdict != crate::assess::Verdict::Pass
         }) {
             rows.push(vec![
                 format!("{}/{}", g.profile, g.rule),
-                g.subject.clone(),
+                crate::report::notes::subject_label(line, &g.subject),
                 "—".into(),
-                format!("{} {}", g.verdict.text().to_uppercase(), g.note),
+                format!(
+                    "{} {}",
+                    g.verdict.text().to_uppercase(),
+                    crate::report::notes::finding_notes(line, g)
+                ),
             ]);
         }
         s.push_str(&text::table(&["rule", "subject", "before", "after"], &rows));
@@ -1098,7 +1102,7 @@ fn profiles_cmd(a: &ProfilesArgs) -> Result<Outcome> {
             for (name, _) in profile::shipped() {
                 let p = profile::load_profile(name)?;
                 rows.push(vec![
-                    p.name.clone(),
+                    p.name.to_string(),
                     p.title.clone(),
                     format!("{}", p.rules.len()),
                 ]);
@@ -1114,8 +1118,8 @@ fn profiles_cmd(a: &ProfilesArgs) -> Result<Outcome> {
                 .iter()
                 .map(|r| {
                     vec![
-                        r.id.clone(),
-                        r.what.clone(),
+                        r.id.to_string(),
+                        r.what.to_string(),
                         r.warn
                             .map(|w| format_quantity(w, r.dim))
                             .unwrap_or_else(|| "—".into()),

@@ -6,12 +6,13 @@
 
 use approx::assert_relative_eq;
 use websigma::assess::{
-    Assessment, Check, Confidence, Finding, SubjectKind, ThresholdProfile, Verdict, assess,
-    load_profile, parse_profile, shipped, with_air_limit,
+    Check, Confidence, SubjectKind, ThresholdProfile, Verdict, assess, load_profile, parse_profile,
+    shipped, with_air_limit,
 };
 use websigma::charge::charge_profile;
 use websigma::field::{Scene, SolverSettings};
 use websigma::model::{Line, parse_line};
+use websigma::report::build::FindingRow as Finding;
 use websigma::units::EPS0;
 
 /// A web that does not relax (τ = 1e30 s, so every span is a uniform sheet
@@ -37,6 +38,14 @@ fn line(text: &str) -> Line {
     }
 }
 
+/// An assessment in the report's words (subjects, notes, assumptions), so
+/// the tests read what a person reads.
+struct Assessment {
+    findings: Vec<Finding>,
+    verdict: Verdict,
+    assumptions: Vec<String>,
+}
+
 fn run(line: &Line, profiles: &[ThresholdProfile]) -> Assessment {
     let charge = charge_profile(line);
     let settings = SolverSettings::default();
@@ -44,7 +53,16 @@ fn run(line: &Line, profiles: &[ThresholdProfile]) -> Assessment {
     let model = scene_model.web(&charge);
     let at: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
     let map = model.solve(&at, true).unwrap();
-    assess(line, &charge, &model, &map, profiles).unwrap()
+    let a = assess(line, &charge, &model, &map, profiles).unwrap();
+    Assessment {
+        findings: a.findings.iter().map(|f| Finding::new(line, f)).collect(),
+        verdict: a.verdict,
+        assumptions: a
+            .assumptions
+            .iter()
+            .map(|&x| websigma::report::notes::assumption(x).to_string())
+            .collect(),
+    }
 }
 
 /// A profile of one rule; `limits` are YAML lines such as `warn: 1 kV`.
@@ -726,7 +744,7 @@ fn every_shipped_profile_loads_with_sources() {
         let disk = std::fs::read_to_string(dir.join(format!("{name}.yaml"))).unwrap();
         assert_eq!(disk, text);
         let p = load_profile(name).unwrap();
-        assert_eq!(p.name, name);
+        assert_eq!(&*p.name, name);
         assert_eq!(p.origin, "shipped");
         assert!(!p.title.is_empty() && !p.description.is_empty());
         assert!(!p.rules.is_empty());
@@ -745,7 +763,7 @@ fn every_shipped_profile_loads_with_sources() {
 }
 
 fn rule<'a>(p: &'a ThresholdProfile, id: &str) -> &'a websigma::assess::Rule {
-    p.rules.iter().find(|r| r.id == id).unwrap()
+    p.rules.iter().find(|r| &*r.id == id).unwrap()
 }
 
 /// The shipped numbers are those of FACTS.md: air breakdown ε0·Eb and 2ε0·Eb
@@ -812,7 +830,7 @@ fn air_limit_is_added_once_and_profiles_load_from_files() {
     )
     .unwrap();
     let p = load_profile(path.to_str().unwrap()).unwrap();
-    assert_eq!(p.name, "mine");
+    assert_eq!(&*p.name, "mine");
     assert_eq!(p.origin, path.to_str().unwrap());
     std::fs::write(&path, "name: bad\n").unwrap();
     let err = format!("{:#}", load_profile(path.to_str().unwrap()).unwrap_err());

@@ -8,6 +8,7 @@ use websigma::charge::{charge_profile, decay};
 use websigma::field::{FieldMap, Scene, SolverSettings};
 use websigma::model::{Line, parse_line};
 use websigma::readings::invert_readings;
+use websigma::report::build::FindingRow;
 
 /// A straight web through free points A → B → C (2 m each), with charge set
 /// at the start and eliminators given as YAML list items.
@@ -135,15 +136,20 @@ fn passive_onset_switches_where_the_tip_field_crosses_it() {
     assert_eq!(l.eliminators[0].onset, Some(4e3 / 0.02));
 }
 
-fn findings(l: &Line) -> Vec<websigma::assess::Finding> {
+fn findings(l: &Line) -> Vec<FindingRow> {
     let r = invert_readings(l, &Scene::new(l, SolverSettings::default()).unwrap()).unwrap();
     let scene_m = Scene::new(l, SolverSettings::default()).unwrap();
     let m = scene_m.web(&r.charge);
     let pts = FieldMap { points: vec![] };
-    assess(l, &r.charge, &m, &pts, &[]).unwrap().findings
+    assess(l, &r.charge, &m, &pts, &[])
+        .unwrap()
+        .findings
+        .iter()
+        .map(|f| FindingRow::new(l, f))
+        .collect()
 }
 
-fn verdict_of(f: &[websigma::assess::Finding], rule: &str) -> Option<Verdict> {
+fn verdict_of(f: &[FindingRow], rule: &str) -> Option<Verdict> {
     f.iter().find(|x| x.rule == rule).map(|x| x.verdict)
 }
 

@@ -33,7 +33,10 @@ fn r8_one_assess_of_the_demo_builds_one_scene() {
     std::fs::write(&line, websigma::DEMO_LINE).unwrap();
     let out = dir.path().join("out");
     let (line, out) = (line.to_str().unwrap(), out.to_str().unwrap());
-    assert_eq!(scenes_built_by(&["websigma", "assess", line, "--out", out]), 1);
+    assert_eq!(
+        scenes_built_by(&["websigma", "assess", line, "--out", out]),
+        1
+    );
     // With the planner and its full re-assessments, still one.
     assert_eq!(
         scenes_built_by(&["websigma", "assess", line, "--out", out, "--plan", "2"]),
@@ -84,10 +87,8 @@ fn r8_demo_results_match_the_copy_stored_before_the_scene() {
         &std::fs::read_to_string(only_report(dir.path()).join("results.json")).unwrap(),
     )
     .unwrap();
-    let stored: serde_json::Value = serde_json::from_str(include_str!(
-        "fixtures/baseline/demo_results.json"
-    ))
-    .unwrap();
+    let stored: serde_json::Value =
+        serde_json::from_str(include_str!("fixtures/baseline/demo_results.json")).unwrap();
     // 1e-12 relative: the reshaping reorders no floating-point sum.
     same(&got, &stored, "results", 1e-12);
 }

@@ -29,44 +29,91 @@
 //! K. Robinson, PFFC "Static Beat" columns (2010, 2019); FACTS.md "Static
 //! eliminators".
 
-use super::{Confidence, Finding, SubjectKind};
+use super::{Confidence, Finding, FindingNote, Subject};
 use crate::charge::ChargeProfile;
 use crate::model::{Earthing, EliminatorKind, Line, NodeKind};
-use crate::units::{Dim, format_quantity, format_si};
+use std::sync::{Arc, LazyLock};
 
 /// Name under which these findings are listed.
 pub const PROFILE: &str = "eliminators";
 
-#[allow(clippy::too_many_arguments)]
+/// A built-in rule's fixed texts, shared so findings copy them without
+/// allocating.
+struct BuiltIn {
+    rule: Arc<str>,
+    check: Arc<str>,
+    source: Arc<str>,
+    confidence: Confidence,
+}
+
+fn built_in(rule: &str, check: &str, source: &str, confidence: Confidence) -> BuiltIn {
+    BuiltIn {
+        rule: rule.into(),
+        check: check.into(),
+        source: source.into(),
+        confidence,
+    }
+}
+
+static PROFILE_NAME: LazyLock<Arc<str>> = LazyLock::new(|| PROFILE.into());
+static CAPACITY: LazyLock<BuiltIn> = LazyLock::new(|| {
+    built_in(
+        "capacity",
+        "ion output of a powered bar against five times the web current it must neutralise",
+        "K. Robinson, PFFC \"Static Beat\": about 1000 µA per metre of bar; keep at least 5× the web current I′ = σ·v",
+        Confidence::Confirmed,
+    )
+});
+static FACING_ROLLER: LazyLock<BuiltIn> = LazyLock::new(|| {
+    built_in(
+        "facing-roller",
+        "clearance of a bar from a conducting roller the web touches, against three bar distances",
+        "K. Robinson, PFFC \"Static Beat\": place bars on a free span where a meter would read the web's field, not facing a grounded roller the web touches (the factor 3 is common practice)",
+        Confidence::CommonPractice,
+    )
+});
+static OPPOSITE_BARS: LazyLock<BuiltIn> = LazyLock::new(|| {
+    built_in(
+        "opposite-bars",
+        "offset along the span of two bars on opposite sides, against twice their distance",
+        "K. Robinson, PFFC \"Static Beat\": two-sided bars offset by more than twice the bar distance",
+        Confidence::CommonPractice,
+    )
+});
+static ZONE_APPROVAL: LazyLock<BuiltIn> = LazyLock::new(|| {
+    built_in(
+        "zone-approval",
+        "a powered bar inside a zone 0 or 1 must be of a type approved for that zone",
+        "IEC 60079-0 (equipment for explosive atmospheres); the bar maker's approval — common practice",
+        Confidence::CommonPractice,
+    )
+});
+
 fn finding(
-    rule: &str,
-    check: &str,
-    subject: &str,
+    rule: &BuiltIn,
+    subject: Subject,
     value: f64,
     warn: Option<f64>,
     fail: Option<f64>,
-    source: &str,
-    confidence: Confidence,
-    note: String,
+    note: FindingNote,
 ) -> Finding {
     let verdict = super::verdict_for(value, warn, fail);
     let limit = fail.or(warn).unwrap_or(1.0);
     Finding {
-        profile: PROFILE.to_string(),
-        rule: rule.to_string(),
-        check: check.to_string(),
-        subject_kind: SubjectKind::Eliminator,
-        subject: subject.to_string(),
+        profile: PROFILE_NAME.clone(),
+        rule: rule.rule.clone(),
+        check: rule.check.clone(),
+        subject,
         value,
-        dim: Dim::Number,
+        dim: crate::units::Dim::Number,
         limit,
         warn,
         fail,
         margin: value / limit,
         verdict,
-        source: source.to_string(),
-        confidence,
-        note,
+        source: rule.source.clone(),
+        confidence: rule.confidence,
+        notes: vec![note],
         contributions: Vec::new(),
     }
 }
@@ -84,42 +131,55 @@ pub fn arriving(charge: &ChargeProfile, s: f64) -> f64 {
 
 /// The findings of every eliminator on the line.
 pub fn eliminator_findings(line: &Line, charge: &ChargeProfile) -> Vec<Finding> {
-    findings_impl(line, charge, false)
-}
-
-/// The same findings without their texts (the planner's inner loop).
-pub fn eliminator_findings_lean(line: &Line, charge: &ChargeProfile) -> Vec<Finding> {
-    findings_impl(line, charge, true)
-}
-
-fn findings_impl(line: &Line, charge: &ChargeProfile, lean: bool) -> Vec<Finding> {
-    let text = |f: &dyn Fn() -> String| if lean { String::new() } else { f() };
     let mut out = Vec::new();
+    each_check(line, charge, |rule, subject, value, warn, fail, note| {
+        out.push(finding(rule, subject, value, warn, fail, note))
+    });
+    out
+}
+
+/// The number of failing eliminator findings and their largest margin,
+/// exactly as [`eliminator_findings`] gives them (the planner's objective).
+pub fn eliminator_score(line: &Line, charge: &ChargeProfile) -> (usize, f64) {
+    let (mut fails, mut worst) = (0, 0.0f64);
+    each_check(line, charge, |_, _, value, warn, fail, _| {
+        let limit = fail.or(warn).unwrap_or(1.0);
+        fails += usize::from(super::verdict_for(value, warn, fail) == super::Verdict::Fail);
+        worst = worst.max(value / limit);
+    });
+    (fails, worst)
+}
+
+/// One eliminator check's outcome: its rule, subject, value, warning and
+/// failure limits, and note.
+type CheckSink<'a> =
+    dyn FnMut(&'static BuiltIn, Subject, f64, Option<f64>, Option<f64>, FindingNote) + 'a;
+
+/// Applies every built-in eliminator check, in eliminator order.
+fn each_check(
+    line: &Line,
+    charge: &ChargeProfile,
+    mut sink: impl FnMut(&'static BuiltIn, Subject, f64, Option<f64>, Option<f64>, FindingNote),
+) {
+    let out: &mut CheckSink<'_> = &mut sink;
     for (i, e) in line.eliminators.iter().enumerate() {
         let span = &line.path.spans[e.span];
-        let label = text(&|| format!("{} ({} on {})", e.id, e.kind.text(), span.label()));
         if e.kind == EliminatorKind::Powered {
             let sigma_in = arriving(charge, e.s).abs();
             let current = sigma_in * line.web.speed;
-            out.push(finding(
-                "capacity",
-                "ion output of a powered bar against five times the web current it must neutralise",
-                &label,
+            out(
+                &CAPACITY,
+                Subject::Eliminator(i),
                 5.0 * current / e.ion_output,
                 None,
                 Some(1.0),
-                "K. Robinson, PFFC \"Static Beat\": about 1000 µA per metre of bar; keep at least 5× the web current I′ = σ·v",
-                Confidence::Confirmed,
-                text(&|| {
-                    format!(
-                        "web current {}/m ({} at {}), bar output {}/m",
-                        format_si(current, "A"),
-                        format_quantity(sigma_in, Dim::SurfaceChargeDensity),
-                        format_quantity(line.web.speed, Dim::Speed),
-                        format_si(e.ion_output, "A")
-                    )
-                }),
-            ));
+                FindingNote::WebCurrent {
+                    current,
+                    sigma_in,
+                    speed: line.web.speed,
+                    output: e.ion_output,
+                },
+            );
         }
         let roller_end = |node: usize| match line.path.nodes[node].kind {
             NodeKind::Roller { roller, .. } => {
@@ -135,58 +195,53 @@ fn findings_impl(line: &Line, charge: &ChargeProfile, lean: bool) -> Vec<Finding
             clearance = clearance.min(span.length - e.along);
         }
         if clearance.is_finite() {
-            out.push(finding(
-                "facing-roller",
-                "clearance of a bar from a conducting roller the web touches, against three bar distances",
-                &label,
+            out(
+                &FACING_ROLLER,
+                Subject::Eliminator(i),
                 3.0 * e.distance / clearance.max(1e-9),
                 None,
                 Some(1.0),
-                "K. Robinson, PFFC \"Static Beat\": place bars on a free span where a meter would read the web's field, not facing a grounded roller the web touches (the factor 3 is common practice)",
-                Confidence::CommonPractice,
-                text(&|| {
-                    format!(
-                        "{} from the roller, bar {} from the web",
-                        format_quantity(clearance, Dim::Length),
-                        format_quantity(e.distance, Dim::Length)
-                    )
-                }),
-            ));
+                FindingNote::RollerClearance {
+                    clearance,
+                    distance: e.distance,
+                },
+            );
         }
-        for o in line.eliminators.iter().skip(i + 1) {
+        for (j, o) in line.eliminators.iter().enumerate().skip(i + 1) {
             if o.span == e.span && o.side != e.side {
                 let offset = (o.along - e.along).abs();
                 let d = e.distance.max(o.distance);
-                out.push(finding(
-                    "opposite-bars",
-                    "offset along the span of two bars on opposite sides, against twice their distance",
-                    &format!("{} and {}", e.id, o.id),
+                out(
+                    &OPPOSITE_BARS,
+                    Subject::EliminatorPair(i, j),
                     2.0 * d / offset.max(1e-9),
                     Some(1.0),
                     None,
-                    "K. Robinson, PFFC \"Static Beat\": two-sided bars offset by more than twice the bar distance",
-                    Confidence::CommonPractice,
-                    format!("offset {}, distance {}", format_quantity(offset, Dim::Length), format_quantity(d, Dim::Length)),
-                ));
+                    FindingNote::BarOffset {
+                        offset,
+                        distance: d,
+                    },
+                );
             }
         }
         if e.kind == EliminatorKind::Powered {
             let (at, _) =
                 crate::model::geometry::meter_geometry(span, e.along, 0.0, e.distance, e.side);
-            for z in line.zones.iter().filter(|z| z.zone <= 1 && z.contains(at)) {
-                out.push(finding(
-                    "zone-approval",
-                    "a powered bar inside a zone 0 or 1 must be of a type approved for that zone",
-                    &label,
+            for (k, _) in line
+                .zones
+                .iter()
+                .enumerate()
+                .filter(|(_, z)| z.zone <= 1 && z.contains(at))
+            {
+                out(
+                    &ZONE_APPROVAL,
+                    Subject::Eliminator(i),
                     1.0,
                     Some(1.0),
                     None,
-                    "IEC 60079-0 (equipment for explosive atmospheres); the bar maker's approval — common practice",
-                    Confidence::CommonPractice,
-                    format!("in {} — a caution, not a computed risk", z.label()),
-                ));
+                    FindingNote::ZoneApproval { zone: k },
+                );
             }
         }
     }
-    out
 }

@@ -127,6 +127,18 @@ impl ChargeProfile {
             .unwrap_or(0)
     }
 
+    /// Largest |σ| on the path between `s0` and `s1` [m], across-web peak
+    /// included [C/m²]: the largest |σc| at the start of each charge piece
+    /// there (relaxation only lowers |σc| along a piece) times max |f(y)|.
+    pub fn peak_between(&self, s0: Meters, s1: Meters) -> CoulombsPerSquareMeter {
+        let peak = self
+            .pieces_between(s0, s1)
+            .iter()
+            .map(|(_, _, a)| a.abs())
+            .fold(0.0, f64::max);
+        peak * self.across.max_abs()
+    }
+
     /// The segments that overlap [s0, s1], clipped to it: `(start, end, σc at start)`.
     pub fn pieces_between(
         &self,

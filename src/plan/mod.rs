@@ -667,8 +667,8 @@ pub fn plan(
                 .collect::<Result<Vec<_>, _>>()
                 .ok()?,
         };
-        let (fails, worst) =
-            crate::assess::assess_score(placed, &charge, &fast, &pts, profiles).ok()?;
+        let sc = crate::assess::score(placed, &charge, &fast, &pts, profiles).ok()?;
+        let (fails, worst) = (sc.fails, sc.worst_margin);
         let upstream: f64 = bars
             .iter()
             .map(|&b| line.path.spans[cands[b].span].s_start + cands[b].along)
@@ -783,7 +783,14 @@ pub fn plan(
                 .findings
                 .iter()
                 .find(|f| f.verdict == Verdict::Fail)
-                .map(|f| format!("{}/{} on {}", f.profile, f.rule, f.subject))
+                .map(|f| {
+                    format!(
+                        "{}/{} on {}",
+                        f.profile,
+                        f.rule,
+                        crate::report::notes::subject_label(line, &f.subject)
+                    )
+                })
                 .unwrap_or_default();
             format!(
                 "no placement of up to {} bar(s) passes; the best leaves {} failing finding(s), e.g. {}; {} placements of {} candidates evaluated",

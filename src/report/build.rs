@@ -6,7 +6,7 @@
 //! from the failing and warning findings (which span to neutralise, which
 //! conductor to earth); no field is computed here.
 
-use crate::assess::{Assessment, Finding, SubjectKind, ThresholdProfile, Verdict};
+use crate::assess::{Assessment, Confidence, Finding, SubjectKind, ThresholdProfile, Verdict};
 use crate::charge::ChargeProfile;
 use crate::field::{ASSUMPTIONS, FieldMap, SpanContribution};
 use crate::model::{ChargeMode, Line, NodeKind, Point, Zone};
@@ -107,7 +107,7 @@ pub struct Report {
     /// Per-point results.
     pub points: Vec<PointResult>,
     /// Findings, worst first.
-    pub findings: Vec<Finding>,
+    pub findings: Vec<FindingRow>,
     /// Span contributions at the worst points: (point id, shares largest first).
     pub contributions: Vec<(String, Vec<SpanContribution>)>,
     /// What to do about the failing and warning findings.
@@ -130,6 +130,68 @@ pub struct Report {
     pub eliminators: Vec<crate::readings::EliminatorState>,
     /// The eliminator plan, when one was asked for and the line fails.
     pub plan: Option<PlanSection>,
+}
+
+/// A finding as the report shows it: the assessment's numbers with its
+/// subject and notes in words.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FindingRow {
+    /// Name of the profile the rule belongs to.
+    pub profile: String,
+    /// Rule id.
+    pub rule: String,
+    /// What the rule checks, in words.
+    pub check: String,
+    /// What kind of subject.
+    pub subject_kind: SubjectKind,
+    /// The subject's label (`S6 (R5-R6)`, `OP1`, `R6`).
+    pub subject: String,
+    /// The value found, SI [unit of `dim`].
+    pub value: f64,
+    /// Dimension of value and limits, for formatting.
+    pub dim: crate::units::Dim,
+    /// The governing limit, SI.
+    pub limit: f64,
+    /// Warning limit, SI.
+    pub warn: Option<f64>,
+    /// Failure limit, SI.
+    pub fail: Option<f64>,
+    /// value ÷ limit [1].
+    pub margin: f64,
+    /// The verdict.
+    pub verdict: Verdict,
+    /// Where the limit comes from.
+    pub source: String,
+    /// How sure the source is.
+    pub confidence: Confidence,
+    /// Context in words.
+    pub note: String,
+    /// For point findings: each span's share, largest |E| first.
+    pub contributions: Vec<SpanContribution>,
+}
+
+impl FindingRow {
+    /// Lays out one finding of `line`.
+    pub fn new(line: &Line, f: &Finding) -> Self {
+        FindingRow {
+            profile: f.profile.to_string(),
+            rule: f.rule.to_string(),
+            check: f.check.to_string(),
+            subject_kind: f.subject.kind(),
+            subject: super::notes::subject_label(line, &f.subject),
+            value: f.value,
+            dim: f.dim,
+            limit: f.limit,
+            warn: f.warn,
+            fail: f.fail,
+            margin: f.margin,
+            verdict: f.verdict,
+            source: f.source.to_string(),
+            confidence: f.confidence,
+            note: super::notes::finding_notes(line, f),
+            contributions: f.contributions.clone(),
+        }
+    }
 }
 
 /// The eliminator plan as the report shows it.
@@ -177,7 +239,7 @@ impl PlanSection {
                     });
                 before_after.push((
                     format!("{}/{}", f.profile, f.rule),
-                    f.subject.clone(),
+                    super::notes::subject_label(line, &f.subject),
                     format!("{} {}", f.verdict.text(), format_quantity(f.value, f.dim)),
                     after
                         .map(|g| {
@@ -291,14 +353,17 @@ pub fn build_report(
         })
         .collect();
 
-    let mut counts = [0usize; 3];
-    for f in &assessment.findings {
-        counts[f.verdict as usize] += 1;
-    }
+    let c = assessment.counts();
+    let counts = [c.pass, c.warn, c.fail];
+    let findings: Vec<FindingRow> = assessment
+        .findings
+        .iter()
+        .map(|f| FindingRow::new(line, f))
+        .collect();
     // Contributions at the worst points: the first three distinct points
     // among the findings (worst first).
     let mut contributions: Vec<(String, Vec<SpanContribution>)> = Vec::new();
-    for f in &assessment.findings {
+    for f in &findings {
         if f.subject_kind == SubjectKind::Point
             && !f.contributions.is_empty()
             && !contributions.iter().any(|(id, _)| id == &f.subject)
@@ -314,8 +379,8 @@ pub fn build_report(
         .iter()
         .flat_map(|p| p.rules.iter().map(|r| &r.source));
     for src in rule_sources.chain(assessment.findings.iter().map(|f| &f.source)) {
-        if !references.contains(src) {
-            references.push(src.clone());
+        if !references.iter().any(|r| r.as_str() == &**src) {
+            references.push(src.to_string());
         }
     }
     for extra in [
@@ -326,7 +391,12 @@ pub fn build_report(
         references.push(extra.to_string());
     }
     let mut assumptions: Vec<String> = ASSUMPTIONS.iter().map(|s| s.to_string()).collect();
-    assumptions.extend(assessment.assumptions.iter().cloned());
+    assumptions.extend(
+        assessment
+            .assumptions
+            .iter()
+            .map(|&a| super::notes::assumption(a).to_string()),
+    );
 
     Report {
         meta,
@@ -336,7 +406,7 @@ pub fn build_report(
         profiles: profiles
             .iter()
             .map(|p| ProfileRef {
-                name: p.name.clone(),
+                name: p.name.to_string(),
                 title: p.title.clone(),
                 origin: p.origin.clone(),
                 sha256: sha256_hex(p.text.as_bytes()),
@@ -347,9 +417,9 @@ pub fn build_report(
         assumptions,
         spans,
         points: point_results,
-        findings: assessment.findings.clone(),
+        recommendations: recommendations(line, &findings),
+        findings,
         contributions,
-        recommendations: recommendations(line, &assessment.findings),
         limitations: LIMITATIONS.iter().map(|s| s.to_string()).collect(),
         references,
         warnings: line
@@ -376,7 +446,7 @@ pub fn build_report(
 }
 
 /// Recommendations from the failing and warning findings, most urgent first.
-fn recommendations(line: &Line, findings: &[Finding]) -> Vec<String> {
+fn recommendations(line: &Line, findings: &[FindingRow]) -> Vec<String> {
     let mut out: Vec<String> = Vec::new();
     let mut push = |s: String| {
         if !out.contains(&s) {

@@ -112,3 +112,183 @@ pub fn reading_notes(notes: &[ReadingNote]) -> String {
         .collect::<Vec<_>>()
         .join("; ")
 }
+
+/// What a finding is about, in words (`S6 (R5-R6)`, `OP1`, `E1 (powered on S3 (R2-R3))`).
+pub fn subject_label(line: &Line, s: &crate::assess::Subject) -> String {
+    use crate::assess::Subject;
+    let bar = |i: usize| line.eliminators.get(i);
+    match *s {
+        Subject::Span(i) => line
+            .path
+            .spans
+            .get(i)
+            .map(|s| s.label())
+            .unwrap_or_default(),
+        Subject::Point(i) => line.points.get(i).map(|p| p.id.clone()).unwrap_or_default(),
+        Subject::Roller(i) => line
+            .rollers
+            .get(i)
+            .map(|r| r.id.clone())
+            .unwrap_or_default(),
+        Subject::Web => "web".to_string(),
+        Subject::Eliminator(i) => bar(i)
+            .map(|e| {
+                format!(
+                    "{} ({} on {})",
+                    e.id,
+                    e.kind.text(),
+                    line.path.spans[e.span].label()
+                )
+            })
+            .unwrap_or_default(),
+        Subject::EliminatorPair(i, j) => match (bar(i), bar(j)) {
+            (Some(a), Some(b)) => format!("{} and {}", a.id, b.id),
+            _ => String::new(),
+        },
+    }
+}
+
+fn zone_label(line: &Line, z: usize) -> String {
+    line.zones.get(z).map(|z| z.label()).unwrap_or_default()
+}
+
+/// One note of a finding, in words.
+pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
+    use crate::assess::{FindingNote, HeightBasis};
+    use crate::units::format_si;
+    let len = |v: f64| format_quantity(v, Dim::Length);
+    match n {
+        FindingNote::InZones(zones) => format!(
+            "in {}",
+            zones
+                .iter()
+                .map(|&z| zone_label(line, z))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ),
+        FindingNote::Capacitance {
+            assumed: true, ..
+        } => "C = 150 pF (IEC 61000-4-2 body model)".to_string(),
+        FindingNote::Capacitance { capacitance, .. } => {
+            format!("C = {}", format_quantity(*capacitance, Dim::Capacitance))
+        }
+        FindingNote::BodyPotential(v) => format!("|V| = {}", format_quantity(*v, Dim::Voltage)),
+        FindingNote::FailAtZoneMie { zone, mie } => format!(
+            "fail at the MIE of {} = {}",
+            zone_label(line, *zone),
+            format_quantity(*mie, Dim::Energy)
+        ),
+        FindingNote::Separation {
+            span,
+            distance,
+            allowed,
+            within,
+        } => format!(
+            "span {} at {}: allowed {} within {}",
+            line.path.spans.get(*span).map(|s| s.label()).unwrap_or_default(),
+            len(*distance),
+            format_quantity(*allowed, Dim::Voltage),
+            len(*within)
+        ),
+        FindingNote::NearZones(near) => near
+            .iter()
+            .map(|&(z, d)| {
+                if d == 0.0 {
+                    format!("in {}", zone_label(line, z))
+                } else {
+                    format!("{} from {}", len(d), zone_label(line, z))
+                }
+            })
+            .collect::<Vec<_>>()
+            .join(", "),
+        FindingNote::Roller(c) => {
+            let how = match c.basis {
+                HeightBasis::AboveGroundPlane => "above the ground plane",
+                HeightBasis::TouchesGroundPlane => {
+                    "assumed: the roller reaches the ground plane, so its height above it was replaced by"
+                }
+                HeightBasis::AboveZero => "above z = 0 (no ground plane given)",
+                HeightBasis::NoGround => {
+                    "assumed: no ground plane and the axis is not above z = 0, so the height is"
+                }
+            };
+            format!(
+                "r = {}, L = {}, h = {} {how}; C = 2πε0·L/arcosh(h/r)",
+                len(c.radius),
+                len(c.length),
+                len(c.height)
+            )
+        }
+        FindingNote::BreakdownVoltage {
+            thickness,
+            strength,
+        } => format!(
+            "U_b = {} × {}",
+            len(*thickness),
+            format_quantity(*strength, Dim::Field)
+        ),
+        FindingNote::NoBreakdownStrength => "breakdown_strength not given: cannot rule out propagating brush discharges (value shown as 0)".to_string(),
+        FindingNote::WebCurrent {
+            current,
+            sigma_in,
+            speed,
+            output,
+        } => format!(
+            "web current {}/m ({} at {}), bar output {}/m",
+            format_si(*current, "A"),
+            format_quantity(*sigma_in, Dim::SurfaceChargeDensity),
+            format_quantity(*speed, Dim::Speed),
+            format_si(*output, "A")
+        ),
+        FindingNote::RollerClearance {
+            clearance,
+            distance,
+        } => format!(
+            "{} from the roller, bar {} from the web",
+            len(*clearance),
+            len(*distance)
+        ),
+        FindingNote::BarOffset { offset, distance } => {
+            format!("offset {}, distance {}", len(*offset), len(*distance))
+        }
+        FindingNote::ZoneApproval { zone } => format!(
+            "in {} — a caution, not a computed risk",
+            zone_label(line, *zone)
+        ),
+        FindingNote::Rule(n) => n.to_string(),
+    }
+}
+
+/// A finding's notes in words, joined with `; `.
+pub fn finding_notes(line: &Line, f: &crate::assess::Finding) -> String {
+    f.notes
+        .iter()
+        .map(|n| finding_note(line, n))
+        .collect::<Vec<_>>()
+        .join("; ")
+}
+
+/// A modelling assumption a rule used, in words.
+pub fn assumption(a: crate::assess::Assumption) -> &'static str {
+    use crate::assess::Assumption;
+    match a {
+        Assumption::InsulatedOperator => {
+            "operators are assumed insulated from earth (insulating floor or footwear) and charged to the potential of their position"
+        }
+        Assumption::BodyCapacitance => {
+            "operator capacitance 150 pF (IEC 61000-4-2 body model) where not given"
+        }
+        Assumption::WebCharge => {
+            "the largest |σ| on a span is taken at the start of each charge piece on it (relaxation only lowers it), times the largest |f(y)| across the web"
+        }
+        Assumption::RollerCapacitance => {
+            "an isolated roller's capacitance is that of a cylinder over a grounded plane, C = 2πε0·L/arcosh(h/r), L = web width + 0.2 m; without a ground plane h is the axis height above z = 0 (1 m where that is not above the radius)"
+        }
+        Assumption::NearZone => {
+            "an isolated roller counts as near a zone when its bounding box is within 0.5 m of the zone's box"
+        }
+        Assumption::WebPotential => {
+            "the web potential near an electronics item is the largest |V| at 9 places on each span around its point nearest to the item, 10 µm off the web"
+        }
+    }
+}

@@ -6,6 +6,7 @@
 use crate::model::{GasGroup, PointKind, Zone};
 use crate::units::{Dim, Meters, Volts, format_quantity};
 use std::fmt;
+use std::sync::Arc;
 
 /// What a rule checks.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
@@ -210,12 +211,13 @@ pub struct Separation {
 /// One checked rule.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Rule {
-    /// Identifier, unique in its profile.
-    pub id: String,
+    /// Identifier, unique in its profile (shared, so findings copy it
+    /// without allocating).
+    pub id: Arc<str>,
     /// What is checked.
     pub check: Check,
-    /// What the rule checks, in words.
-    pub what: String,
+    /// What the rule checks, in words (the profile's text).
+    pub what: Arc<str>,
     /// Where it applies.
     pub applies: Applies,
     /// Warning limit, SI [unit of `dim`].
@@ -232,11 +234,11 @@ pub struct Rule {
     /// Dimension of the value and the limits.
     pub dim: Dim,
     /// Where the limits come from.
-    pub source: String,
+    pub source: Arc<str>,
     /// How sure the source is.
     pub confidence: Confidence,
     /// Text shown in reports, when given.
-    pub note: Option<String>,
+    pub note: Option<Arc<str>>,
 }
 
 impl Rule {
@@ -269,7 +271,7 @@ impl Rule {
 #[derive(Debug, Clone, PartialEq)]
 pub struct ThresholdProfile {
     /// Short name (`ex-zone-1`).
-    pub name: String,
+    pub name: Arc<str>,
     /// One-line title.
     pub title: String,
     /// Scope and how to read it.

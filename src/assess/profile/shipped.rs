@@ -92,7 +92,7 @@ fn problems(origin: &str, e: &ValidationError) -> anyhow::Error {
 /// The profiles with the shipped `air-limit` profile added (first) unless one
 /// of that name is already there: the physical limit of air always applies.
 pub fn with_air_limit(mut profiles: Vec<ThresholdProfile>) -> Vec<ThresholdProfile> {
-    if profiles.iter().any(|p| p.name == AIR_LIMIT) {
+    if profiles.iter().any(|p| &*p.name == AIR_LIMIT) {
         return profiles;
     }
     // The shipped file is parsed by a test, so this cannot fail in a release.

@@ -115,7 +115,7 @@ pub fn parse_profile(text: &str, origin: &str) -> Result<ThresholdProfile, Valid
     }
     match (name, title, description) {
         (Some(name), Some(title), Some(description)) => Ok(ThresholdProfile {
-            name,
+            name: name.into(),
             title,
             description,
             rules,
@@ -213,9 +213,9 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
     let (id, check, what, applies, source, confidence) =
         (id?, check?, what?, applies?, source?, confidence?);
     Some(Rule {
-        id,
+        id: id.into(),
         check,
-        what,
+        what: what.into(),
         applies,
         warn,
         fail,
@@ -223,9 +223,9 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
         near,
         far,
         dim: check.dim(),
-        source,
+        source: source.into(),
         confidence,
-        note,
+        note: note.map(Into::into),
     })
 }
 

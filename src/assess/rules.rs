@@ -1,0 +1,527 @@
+//! Applies the rules of the threshold profiles to their subjects (the
+//! checks and their formulas are documented in the parent module). Returns
+//! findings with typed subjects and notes, and the assumptions used.
+
+use super::finding::{Assumption, Finding, FindingNote, Subject};
+use super::{
+    Check, DEFAULT_BODY_CAPACITANCE, NEAR_ZONE, ROLLER_OVERHANG, Rule, Subjects, ThresholdProfile,
+    Verdict, WEB_OFFSET, roller_capacitance, span_peak_sigma, stored_energy, verdict_for,
+};
+use crate::charge::ChargeProfile;
+use crate::field::{FieldAt, FieldError, PointField, SpanContribution};
+use crate::model::geometry::distance_to_span;
+use crate::model::{Earthing, Line, Point, Span};
+
+/// Smallest step between web-potential samples [m].
+const SAMPLE_STEP: f64 = 0.01;
+
+/// What applying the rules gives: the findings (unsorted, empty when only
+/// the score was asked for), the assumptions used, the number of failures
+/// and the largest margin.
+pub(super) struct Outcome {
+    pub findings: Vec<Finding>,
+    pub assumptions: Vec<Assumption>,
+    pub fails: usize,
+    pub worst: f64,
+}
+
+/// Every rule of every profile applied. With `keep`, every finding is
+/// built; without, only the failures are counted and the worst margin kept
+/// (the planner's objective, evaluated millions of times): the rules are the
+/// same code either way, only what is kept differs.
+pub(super) fn apply_all(
+    line: &Line,
+    charge: &ChargeProfile,
+    model: &dyn FieldAt,
+    fields: &[PointField],
+    profiles: &[ThresholdProfile],
+    keep: bool,
+) -> Result<Outcome, FieldError> {
+    let mut run = Run {
+        line,
+        charge,
+        model,
+        fields,
+        keep,
+        out: Outcome {
+            findings: Vec::new(),
+            assumptions: Vec::new(),
+            fails: 0,
+            worst: 0.0,
+        },
+    };
+    for profile in profiles {
+        for rule in &profile.rules {
+            run.apply(profile, rule)?;
+        }
+    }
+    Ok(run.out)
+}
+
+/// Collects findings and assumptions while the rules are applied.
+struct Run<'a> {
+    line: &'a Line,
+    charge: &'a ChargeProfile,
+    model: &'a dyn FieldAt,
+    fields: &'a [PointField],
+    /// Build every finding, or only count.
+    keep: bool,
+    out: Outcome,
+}
+
+/// One finding's variable parts; its notes and contributions are built
+/// only when the finding is kept.
+struct Found<N, C> {
+    subject: Subject,
+    value: f64,
+    warn: Option<f64>,
+    fail: Option<f64>,
+    notes: N,
+    contributions: C,
+}
+
+/// Zone indices matching `keep`.
+fn zone_indices(line: &Line, keep: impl Fn(&crate::model::Zone) -> bool) -> Vec<usize> {
+    line.zones
+        .iter()
+        .enumerate()
+        .filter(|(_, z)| keep(z))
+        .map(|(i, _)| i)
+        .collect()
+}
+
+impl<'a> Run<'a> {
+    fn assume(&mut self, a: Assumption) {
+        if !self.out.assumptions.contains(&a) {
+            self.out.assumptions.push(a);
+        }
+    }
+
+    fn push<N, C>(&mut self, profile: &ThresholdProfile, rule: &Rule, s: Found<N, C>)
+    where
+        N: FnOnce() -> Vec<FindingNote>,
+        C: FnOnce() -> Vec<SpanContribution>,
+    {
+        let verdict = verdict_for(s.value, s.warn, s.fail);
+        let limit = s.fail.or(s.warn).unwrap_or(f64::INFINITY);
+        let margin = if limit.is_finite() && limit > 0.0 {
+            s.value / limit
+        } else {
+            0.0
+        };
+        self.count(verdict, margin);
+        if !self.keep {
+            return;
+        }
+        let mut notes = (s.notes)();
+        if let Some(n) = &rule.note {
+            notes.push(FindingNote::Rule(n.clone()));
+        }
+        self.out.findings.push(Finding {
+            profile: profile.name.clone(),
+            rule: rule.id.clone(),
+            check: rule.what.clone(),
+            subject: s.subject,
+            value: s.value,
+            dim: rule.dim,
+            limit,
+            warn: s.warn,
+            fail: s.fail,
+            margin,
+            verdict,
+            source: rule.source.clone(),
+            confidence: rule.confidence,
+            notes,
+            contributions: (s.contributions)(),
+        });
+    }
+
+    fn count(&mut self, verdict: Verdict, margin: f64) {
+        self.out.fails += usize::from(verdict == Verdict::Fail);
+        self.out.worst = self.out.worst.max(margin);
+    }
+
+    /// Matching zones the span touches; `None` when the rule wants zones and
+    /// there is none.
+    fn span_zones(&self, rule: &Rule, span: &Span) -> Option<Vec<usize>> {
+        if !rule.applies.in_zone {
+            return Some(Vec::new());
+        }
+        let width = self.line.web.width;
+        let zones = zone_indices(self.line, |z| {
+            rule.applies.zones.matches(z) && z.touches_span(span, width)
+        });
+        (!zones.is_empty()).then_some(zones)
+    }
+
+    /// Points of the rule's kind (with their index and field) and the
+    /// matching zones containing each (all points when the rule is not
+    /// zone-bound).
+    fn points(&self, rule: &Rule) -> Vec<(usize, &'a Point, &'a PointField, Vec<usize>)> {
+        let Subjects::Points(kind) = rule.applies.subjects else {
+            return Vec::new();
+        };
+        let mut out = Vec::new();
+        for (i, (p, f)) in self.line.points.iter().zip(self.fields).enumerate() {
+            if kind.is_some_and(|k| k != p.kind) {
+                continue;
+            }
+            if !rule.applies.in_zone {
+                out.push((i, p, f, Vec::new()));
+                continue;
+            }
+            let zones = zone_indices(self.line, |z| {
+                rule.applies.zones.matches(z) && z.contains(p.at)
+            });
+            if !zones.is_empty() {
+                out.push((i, p, f, zones));
+            }
+        }
+        out
+    }
+
+    fn apply(&mut self, profile: &ThresholdProfile, rule: &Rule) -> Result<(), FieldError> {
+        match rule.check {
+            Check::WebCharge => self.web_charge(profile, rule),
+            Check::FieldAtPoints | Check::BodyVoltage | Check::SparkEnergy => {
+                self.point_values(profile, rule)
+            }
+            Check::ElectronicsSeparation => self.separation(profile, rule)?,
+            Check::IsolatedConductor => self.isolated(profile, rule),
+            Check::PropagatingBrush => self.propagating_brush(profile, rule),
+        }
+        Ok(())
+    }
+
+    fn web_charge(&mut self, profile: &ThresholdProfile, rule: &Rule) {
+        self.assume(Assumption::WebCharge);
+        for (i, span) in self.line.path.spans.iter().enumerate() {
+            let Some(zones) = self.span_zones(rule, span) else {
+                continue;
+            };
+            self.push(
+                profile,
+                rule,
+                Found {
+                    subject: Subject::Span(i),
+                    value: span_peak_sigma(span, self.charge),
+                    warn: rule.warn,
+                    fail: rule.fail,
+                    notes: || in_zones(zones),
+                    contributions: Vec::new,
+                },
+            );
+        }
+    }
+
+    fn point_values(&mut self, profile: &ThresholdProfile, rule: &Rule) {
+        if rule.check != Check::FieldAtPoints {
+            self.assume(Assumption::InsulatedOperator);
+        }
+        for (i, p, f, zones) in self.points(rule) {
+            let v = f.v.abs();
+            let mut fail = rule.fail;
+            // (C, assumed) for spark energy; (zone, MIE) when it fails there.
+            let mut spark: Option<(f64, bool)> = None;
+            let mut mie: Option<(usize, f64)> = None;
+            let value = match rule.check {
+                Check::FieldAtPoints => f.e_magnitude(),
+                Check::BodyVoltage => v,
+                _ => {
+                    let c = match p.capacitance {
+                        Some(c) => (c, false),
+                        None => {
+                            self.assume(Assumption::BodyCapacitance);
+                            (DEFAULT_BODY_CAPACITANCE, true)
+                        }
+                    };
+                    spark = Some(c);
+                    if rule.fail_is_zone_mie {
+                        let zs = &self.line.zones;
+                        let Some(&z) = zones
+                            .iter()
+                            .min_by(|&&a, &&b| zs[a].mie.total_cmp(&zs[b].mie))
+                        else {
+                            continue;
+                        };
+                        fail = Some(zs[z].mie);
+                        mie = Some((z, zs[z].mie));
+                    }
+                    stored_energy(c.0, v)
+                }
+            };
+            let zone_bound = !rule.fail_is_zone_mie;
+            self.push(
+                profile,
+                rule,
+                Found {
+                    subject: Subject::Point(i),
+                    value,
+                    warn: rule.warn,
+                    fail,
+                    notes: || {
+                        let mut notes = Vec::new();
+                        if let Some((capacitance, assumed)) = spark {
+                            notes.push(FindingNote::Capacitance {
+                                capacitance,
+                                assumed,
+                            });
+                            notes.push(FindingNote::BodyPotential(v));
+                        }
+                        if let Some((zone, mie)) = mie {
+                            notes.push(FindingNote::FailAtZoneMie { zone, mie });
+                        }
+                        if zone_bound {
+                            notes.extend(in_zones(zones));
+                        }
+                        notes
+                    },
+                    contributions: || sorted_contributions(f),
+                },
+            );
+        }
+    }
+
+    fn separation(&mut self, profile: &ThresholdProfile, rule: &Rule) -> Result<(), FieldError> {
+        let (Some(near), Some(far)) = (rule.near, rule.far) else {
+            return Ok(());
+        };
+        self.assume(Assumption::WebPotential);
+        for (i, p, f, zones) in self.points(rule) {
+            // (margin, |V_web|, allowed, span index, d)
+            let mut worst: Option<(f64, f64, f64, usize, f64)> = None;
+            for (k, span) in self.line.path.spans.iter().enumerate() {
+                let d = distance_to_span(span, self.line.web.width, p.at);
+                if d >= far.distance {
+                    continue;
+                }
+                let allowed = if d < near.distance {
+                    near.voltage
+                } else {
+                    far.voltage
+                };
+                let v = self.web_potential(span, p.at, d)?;
+                let margin = v / allowed;
+                if worst.as_ref().is_none_or(|w| margin > w.0) {
+                    worst = Some((margin, v, allowed, k, d));
+                }
+            }
+            let Some((_, v, allowed, k, d)) = worst else {
+                continue;
+            };
+            let within = if d < near.distance {
+                near.distance
+            } else {
+                far.distance
+            };
+            self.push(
+                profile,
+                rule,
+                Found {
+                    subject: Subject::Point(i),
+                    value: v,
+                    warn: None,
+                    fail: Some(allowed),
+                    notes: || {
+                        let mut notes = vec![FindingNote::Separation {
+                            span: k,
+                            distance: d,
+                            allowed,
+                            within,
+                        }];
+                        notes.extend(in_zones(zones));
+                        notes
+                    },
+                    contributions: || sorted_contributions(f),
+                },
+            );
+        }
+        Ok(())
+    }
+
+    /// Largest |V| on the span's surface around its point nearest to `at`.
+    fn web_potential(&self, span: &Span, at: [f64; 3], d: f64) -> Result<f64, FieldError> {
+        let dir = span.direction();
+        let half = self.line.web.width / 2.0;
+        let rel = [at[0] - span.start[0], at[2] - span.start[1]];
+        let u0 = (rel[0] * dir[0] + rel[1] * dir[1]).clamp(0.0, span.length);
+        let h = -rel[0] * dir[1] + rel[1] * dir[0];
+        let y0 = at[1].clamp(-half, half);
+        // Unit normal in x-z, on the item's side of the span.
+        let side = if h < 0.0 { -1.0 } else { 1.0 };
+        let n = [-dir[1] * side, dir[0] * side];
+        let step = d.max(SAMPLE_STEP);
+        let mut best: Option<f64> = None;
+        let mut last_err = None;
+        for du in [0.0, -step, step] {
+            for dy in [0.0, -step, step] {
+                let u = (u0 + du).clamp(0.0, span.length);
+                let y = (y0 + dy).clamp(-half, half);
+                let q = [
+                    span.start[0] + u * dir[0] + WEB_OFFSET * n[0],
+                    y,
+                    span.start[1] + u * dir[1] + WEB_OFFSET * n[1],
+                ];
+                match self.model.field_at(q, false) {
+                    Ok(f) => best = Some(best.unwrap_or(0.0).max(f.v.abs())),
+                    // Near another span's end (a sharp turn at a free point)
+                    // a sample may sit on that span: skip that sample.
+                    Err(e @ FieldError::OnWeb { .. }) => last_err = Some(e),
+                    Err(e) => return Err(e),
+                }
+            }
+        }
+        match (best, last_err) {
+            (Some(v), _) => Ok(v),
+            (None, Some(e)) => Err(e),
+            (None, None) => Ok(0.0),
+        }
+    }
+
+    fn isolated(&mut self, profile: &ThresholdProfile, rule: &Rule) {
+        let half_len = (self.line.web.width + ROLLER_OVERHANG) / 2.0;
+        for (i, roller) in self.line.rollers.iter().enumerate() {
+            if roller.earthing != Earthing::Isolated {
+                continue;
+            }
+            let mut near_zones = None;
+            if rule.applies.in_zone {
+                self.assume(Assumption::NearZone);
+                let bb = (
+                    [
+                        roller.center[0] - roller.radius,
+                        -half_len,
+                        roller.center[1] - roller.radius,
+                    ],
+                    [
+                        roller.center[0] + roller.radius,
+                        half_len,
+                        roller.center[1] + roller.radius,
+                    ],
+                );
+                let near: Vec<(usize, f64)> = self
+                    .line
+                    .zones
+                    .iter()
+                    .enumerate()
+                    .filter(|(_, z)| rule.applies.zones.matches(z))
+                    .map(|(k, z)| (k, box_distance(bb, (z.min, z.max))))
+                    .filter(|(_, d)| *d <= NEAR_ZONE)
+                    .collect();
+                if near.is_empty() {
+                    continue;
+                }
+                near_zones = Some(near);
+            }
+            self.assume(Assumption::RollerCapacitance);
+            let c = roller_capacitance(roller, self.line);
+            self.push(
+                profile,
+                rule,
+                Found {
+                    subject: Subject::Roller(i),
+                    value: c.capacitance,
+                    warn: rule.warn,
+                    fail: rule.fail,
+                    notes: || {
+                        let mut notes: Vec<FindingNote> =
+                            near_zones.map(FindingNote::NearZones).into_iter().collect();
+                        notes.push(FindingNote::Roller(c));
+                        notes
+                    },
+                    contributions: Vec::new,
+                },
+            );
+        }
+    }
+
+    fn propagating_brush(&mut self, profile: &ThresholdProfile, rule: &Rule) {
+        let web = &self.line.web;
+        let subjects: Vec<(usize, Vec<usize>)> = self
+            .line
+            .path
+            .spans
+            .iter()
+            .enumerate()
+            .filter_map(|(i, s)| self.span_zones(rule, s).map(|z| (i, z)))
+            .collect();
+        if subjects.is_empty() {
+            return;
+        }
+        let Some(eb) = web.breakdown_strength else {
+            let limit = rule.fail.or(rule.warn);
+            self.count(Verdict::Warn, 0.0);
+            if !self.keep {
+                return;
+            }
+            self.out.findings.push(Finding {
+                profile: profile.name.clone(),
+                rule: rule.id.clone(),
+                check: rule.what.clone(),
+                subject: Subject::Web,
+                value: 0.0,
+                dim: rule.dim,
+                limit: limit.unwrap_or(0.0),
+                warn: rule.warn,
+                fail: rule.fail,
+                margin: 0.0,
+                verdict: Verdict::Warn,
+                source: rule.source.clone(),
+                confidence: rule.confidence,
+                notes: vec![FindingNote::NoBreakdownStrength],
+                contributions: Vec::new(),
+            });
+            return;
+        };
+        let ub = web.thickness * eb;
+        for (i, zones) in subjects {
+            let thickness = web.thickness;
+            self.push(
+                profile,
+                rule,
+                Found {
+                    subject: Subject::Span(i),
+                    value: ub,
+                    warn: rule.warn,
+                    fail: rule.fail,
+                    notes: || {
+                        let mut notes = vec![FindingNote::BreakdownVoltage {
+                            thickness,
+                            strength: eb,
+                        }];
+                        notes.extend(in_zones(zones));
+                        notes
+                    },
+                    contributions: Vec::new,
+                },
+            );
+        }
+    }
+}
+
+/// The `InZones` note, when there are zones.
+fn in_zones(zones: Vec<usize>) -> Vec<FindingNote> {
+    if zones.is_empty() {
+        Vec::new()
+    } else {
+        vec![FindingNote::InZones(zones)]
+    }
+}
+
+/// Distance between two axis-aligned boxes (0 when they overlap) [m].
+fn box_distance(a: ([f64; 3], [f64; 3]), b: ([f64; 3], [f64; 3])) -> f64 {
+    (0..3)
+        .map(|k| {
+            let gap = (b.0[k] - a.1[k]).max(a.0[k] - b.1[k]).max(0.0);
+            gap * gap
+        })
+        .sum::<f64>()
+        .sqrt()
+}
+
+fn sorted_contributions(f: &PointField) -> Vec<SpanContribution> {
+    let mag = |c: &SpanContribution| (c.e[0] * c.e[0] + c.e[1] * c.e[1] + c.e[2] * c.e[2]).sqrt();
+    let mut out = f.contributions.clone();
+    out.sort_by(|a, b| mag(b).total_cmp(&mag(a)));
+    out
+}
