@@ -887,7 +887,16 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
     };
     let started = std::time::Instant::now();
     let scene = Scene::new(&line, solver)?;
-    let plan = crate::plan::plan(&line, &profiles, &st, &scene, &progress)?;
+    let plan = crate::plan::plan(&line, &profiles, &st, &scene, &progress).map_err(|e| {
+        let flags = match &a.candidates {
+            Some(path) => format!("--candidates '{}'", path.display()),
+            None => format!("--distance \"{}\", --spacing \"{}\"", a.distance, a.spacing),
+        };
+        match e {
+            crate::plan::PlanError::NoCandidatePositions => anyhow::Error::new(e).context(flags),
+            e => anyhow::Error::new(e),
+        }
+    })?;
     if tty {
         eprintln!(
             "\rsearched {} placements in {:.1} s            ",
@@ -928,7 +937,10 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
 }
 
 fn plan_text(plan: &crate::plan::Plan, line: &Line) -> String {
-    let mut s = format!("{}\n\n", plan.summary);
+    let mut s = format!(
+        "{}\n\n",
+        crate::report::plan_words::plan_summary(plan, line)
+    );
     let before = &plan.before;
     let count = |a: &crate::assess::Assessment, v: crate::assess::Verdict| {
         a.findings.iter().filter(|f| f.verdict == v).count()
@@ -948,7 +960,7 @@ fn plan_text(plan: &crate::plan::Plan, line: &Line) -> String {
                 format!("{}", i + 1),
                 o.bars
                     .iter()
-                    .map(|&b| plan.candidates[b].describe(line))
+                    .map(|&b| crate::report::plan_words::candidate_text(&plan.candidates[b], line))
                     .collect::<Vec<_>>()
                     .join("; "),
                 format!("{}", o.counts[2]),
@@ -1051,7 +1063,7 @@ fn plan_json(plan: &crate::plan::Plan, line: &Line) -> String {
         .collect();
     format!(
         "{{\n  \"summary\": {},\n  \"exhaustive\": {},\n  \"evaluated\": {},\n  \"candidates\": {},\n  \"before\": {{\"fail\": {}, \"warn\": {}, \"pass\": {}}},\n  \"plans\": [\n{}\n  ]\n}}\n",
-        json::string(&plan.summary),
+        json::string(&crate::report::plan_words::plan_summary(plan, line)),
         plan.exhaustive,
         plan.evaluated,
         plan.candidates.len(),

@@ -8,8 +8,10 @@ use websigma::assess::{Verdict, with_air_limit};
 use websigma::field::{Scene, SolverSettings};
 use websigma::model::{EliminatorKind, Side, parse_line};
 use websigma::plan::{
-    Candidate, PlanSettings, apply, apply_to_yaml, combinations, full_assessment, plan,
+    Candidate, PlanError, PlanOutcome, PlanSettings, apply, apply_to_yaml, combinations,
+    full_assessment, plan,
 };
+use websigma::report::plan_words::plan_summary;
 
 /// A charged web passing an operator; one or two bars make it pass.
 const LINE: &str = r#"
@@ -140,7 +142,8 @@ fn applied_plan_gives_the_predicted_findings() {
     st.spacing = 0.5;
     let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
     let best = &p.options[0];
-    assert_eq!(best.counts[2], 0, "{}", p.summary);
+    assert_eq!(best.counts[2], 0, "{}", plan_summary(&p, &line));
+    assert_eq!(p.outcome, PlanOutcome::AllPass);
     let bars: Vec<Candidate> = best.bars.iter().map(|&b| p.candidates[b].clone()).collect();
     let text = apply_to_yaml(LINE, &line, &bars, &scene).unwrap();
     let applied = parse_line(&text).unwrap();
@@ -181,8 +184,78 @@ fn max_bars_finds_the_fewest_bars() {
     st.spacing = 0.5;
     st.max_bars = 3;
     let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
-    assert_eq!(p.bars, 1, "{}", p.summary);
+    assert_eq!(p.bars, 1, "{}", plan_summary(&p, &line));
     assert_eq!(p.options[0].counts[2], 0);
+}
+
+/// When no bar passes, the outcome names the best plan's failures: their
+/// number and the first failing finding, which the summary quotes.
+#[test]
+fn outcome_without_a_passing_plan_names_the_first_failure() {
+    let hard = LINE
+        .replace("sigma: 4 uC/m^2", "sigma: 40 uC/m^2")
+        .replace("adds: 2 uC/m^2", "adds: 30 uC/m^2");
+    let line = parse_line(&hard).unwrap();
+    let profiles = profiles(&line);
+    let scene = Scene::new(&line, SolverSettings::default()).unwrap();
+    let mut st = PlanSettings::new();
+    st.spacing = 0.5;
+    st.bars = Some(1);
+    let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
+    let best = &p.options[0];
+    let first = best
+        .assessment
+        .findings
+        .iter()
+        .find(|f| f.verdict == Verdict::Fail)
+        .expect("one bar cannot bring this line within its limits");
+    let PlanOutcome::NoPass {
+        fails,
+        first_failing: Some(named),
+    } = &p.outcome
+    else {
+        panic!("expected a failing outcome, got {:?}", p.outcome);
+    };
+    assert_eq!(*fails, best.counts[2]);
+    assert_eq!(
+        (&named.profile, &named.rule, &named.subject),
+        (&first.profile, &first.rule, &first.subject)
+    );
+    let summary = plan_summary(&p, &line);
+    assert!(
+        summary.contains(&format!(
+            "e.g. {}/{} on {}",
+            first.profile,
+            first.rule,
+            websigma::report::notes::subject_label(&line, &first.subject)
+        )),
+        "{summary}"
+    );
+}
+
+/// Bars farther from the web than a third of each span's length fit nowhere
+/// (three bar distances from the grounded roller): a typed error, whose
+/// words name no command-line flag; the command adds the flags given.
+#[test]
+fn no_candidate_positions_is_a_typed_error() {
+    let line = parse_line(LINE).unwrap();
+    let profiles = profiles(&line);
+    let scene = Scene::new(&line, SolverSettings::default()).unwrap();
+    let mut st = PlanSettings::new();
+    st.distance = 1.0;
+    let e = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap_err();
+    assert!(matches!(e, PlanError::NoCandidatePositions), "{e}");
+    assert!(!e.to_string().contains("--"), "{e}");
+    let (_d, path) = temp_yaml(LINE);
+    websigma()
+        .arg("plan")
+        .arg(&path)
+        .args(["--distance", "1 m"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains(
+            "--distance \"1 m\", --spacing \"100 mm\": no candidate position for a bar",
+        ));
 }
 
 #[test]

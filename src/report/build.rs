@@ -217,7 +217,7 @@ impl PlanSection {
                 (
                     o.bars
                         .iter()
-                        .map(|&b| plan.candidates[b].describe(line))
+                        .map(|&b| super::plan_words::candidate_text(&plan.candidates[b], line))
                         .collect::<Vec<_>>()
                         .join("; "),
                     o.counts,
@@ -250,7 +250,7 @@ impl PlanSection {
             }
         }
         PlanSection {
-            summary: plan.summary.clone(),
+            summary: super::plan_words::plan_summary(plan, line),
             options,
             before_after,
         }

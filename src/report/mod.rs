@@ -14,6 +14,7 @@ pub mod html;
 pub mod json;
 pub mod markdown;
 pub mod notes;
+pub mod plan_words;
 pub mod plot;
 pub mod table;
 pub mod text;
