@@ -127,6 +127,22 @@ impl ChargeProfile {
             .unwrap_or(0)
     }
 
+    /// σc just after `s0` and just before `s1` [m] (0 where the path
+    /// carries no piece there) [C/m²].
+    pub fn ends_between(
+        &self,
+        s0: Meters,
+        s1: Meters,
+    ) -> (CoulombsPerSquareMeter, CoulombsPerSquareMeter) {
+        let pieces = self.pieces_between(s0, s1);
+        let start = pieces.first().map(|p| p.2).unwrap_or(0.0);
+        let end = pieces
+            .last()
+            .map(|p| p.2 * decay(p.1 - p.0, self.decay_length))
+            .unwrap_or(0.0);
+        (start, end)
+    }
+
     /// Largest |σ| on the path between `s0` and `s1` [m], across-web peak
     /// included [C/m²]: the largest |σc| at the start of each charge piece
     /// there (relaxation only lowers |σc| along a piece) times max |f(y)|.

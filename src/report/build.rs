@@ -321,20 +321,13 @@ pub fn build_report(
             .map(|z| z.id.clone())
             .collect()
     };
-    let fmax = charge.across.max_abs();
     let spans: Vec<SpanResult> = span_rows(line, charge)
         .into_iter()
         .zip(&line.path.spans)
         .map(|(row, s)| {
-            let peak = charge
-                .pieces_between(s.s_start, s.s_end)
-                .iter()
-                .map(|p| p.2.abs())
-                .fold(0.0, f64::max)
-                * fmax;
             SpanResult {
                 label: s.label(),
-                sigma_peak: peak,
+                sigma_peak: charge.peak_between(s.s_start, s.s_end),
                 zones: zones_touching(&line.zones, &|z| z.touches_span(s, line.web.width)),
                 row,
             }

@@ -318,7 +318,10 @@ pub fn layout(r: &Report) -> Vec<Section> {
     if let Some(b) = w.breakdown_strength {
         web_rows.push(vec!["breakdown strength".into(), format_si(b, "V/m")]);
     }
-    web_rows.push(vec!["across-web profile".into(), line.across.describe()]);
+    web_rows.push(vec![
+        "across-web profile".into(),
+        super::notes::across_shape(&line.across),
+    ]);
     web_rows.push(vec![
         "ground plane".into(),
         line.ground_plane

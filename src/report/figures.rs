@@ -12,19 +12,18 @@ use crate::report::plot::{
 
 /// The side view of the line.
 pub fn side_view(line: &Line, charge: &ChargeProfile) -> SideView {
-    let decay = |a: f64, ds: f64| a * crate::charge::decay(ds, charge.decay_length);
     let spans = line
         .path
         .spans
         .iter()
         .map(|s| {
-            let pieces = charge.pieces_between(s.s_start, s.s_end);
+            let (sigma_start, sigma_end) = charge.ends_between(s.s_start, s.s_end);
             PlotSpan {
                 name: s.name.clone(),
                 start: s.start,
                 end: s.end,
-                sigma_start: pieces.first().map(|p| p.2).unwrap_or(0.0),
-                sigma_end: pieces.last().map(|p| decay(p.2, p.1 - p.0)).unwrap_or(0.0),
+                sigma_start,
+                sigma_end,
             }
         })
         .collect();

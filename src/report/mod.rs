@@ -62,12 +62,7 @@ pub fn span_rows(line: &Line, charge: &ChargeProfile) -> Vec<SpanRow> {
         .spans
         .iter()
         .map(|s| {
-            let pieces = charge.pieces_between(s.s_start, s.s_end);
-            let sigma_start = pieces.first().map(|p| p.2).unwrap_or(0.0);
-            let sigma_end = pieces
-                .last()
-                .map(|p| p.2 * crate::charge::decay(p.1 - p.0, charge.decay_length))
-                .unwrap_or(0.0);
+            let (sigma_start, sigma_end) = charge.ends_between(s.s_start, s.s_end);
             SpanRow {
                 name: s.name.clone(),
                 from_to: format!("{} → {}", node_name(s.from_node), node_name(s.to_node)),

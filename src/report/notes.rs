@@ -292,3 +292,14 @@ pub fn assumption(a: crate::assess::Assumption) -> &'static str {
         }
     }
 }
+
+/// The across-web shape in words, such as `edges, f = 1 + k(2y/w)², k = 0.6`.
+pub fn across_shape(a: &crate::model::AcrossProfile) -> String {
+    use crate::model::AcrossShape;
+    match &a.shape {
+        AcrossShape::Uniform => "uniform (f = 1)".into(),
+        AcrossShape::Edges(k) => format!("edges, f = 1 + k(2y/w)², k = {k}"),
+        AcrossShape::Tilt(k) => format!("tilt, f = 1 + k(2y/w), k = {k}"),
+        AcrossShape::Table(t) => format!("table of {} points, piecewise linear", t.len()),
+    }
+}

@@ -4,7 +4,7 @@
 //! and how sure that source is. An existing `ThresholdProfile` is valid.
 
 use crate::model::{GasGroup, PointKind, Zone};
-use crate::units::{Dim, Meters, Volts, format_quantity};
+use crate::units::{Dim, Meters, Volts};
 use std::fmt;
 use std::sync::Arc;
 
@@ -149,22 +149,6 @@ impl ZoneFilter {
         (self.classes.is_empty() || self.classes.contains(&z.zone))
             && (self.gas_groups.is_empty() || self.gas_groups.contains(&z.gas_group))
     }
-
-    /// `zone 1 IIA/IIB`, `any zone`.
-    pub fn describe(&self) -> String {
-        let classes = if self.classes.is_empty() {
-            "any zone".to_string()
-        } else {
-            let c: Vec<String> = self.classes.iter().map(|c| c.to_string()).collect();
-            format!("zone {}", c.join("/"))
-        };
-        if self.gas_groups.is_empty() {
-            classes
-        } else {
-            let g: Vec<&str> = self.gas_groups.iter().map(|g| g.text()).collect();
-            format!("{classes} {}", g.join("/"))
-        }
-    }
 }
 
 /// Where a rule applies.
@@ -177,26 +161,6 @@ pub struct Applies {
     pub in_zone: bool,
     /// The zones that count when `in_zone` is set.
     pub zones: ZoneFilter,
-}
-
-impl Applies {
-    /// A short description: `spans in zone 1 IIA/IIB`, `operator points`.
-    pub fn describe(&self) -> String {
-        let what = match self.subjects {
-            Subjects::Spans => "spans".to_string(),
-            Subjects::Points(Some(k)) => format!("{} points", k.text()),
-            Subjects::Points(None) => "points".to_string(),
-            Subjects::Rollers => "rollers".to_string(),
-        };
-        if !self.in_zone {
-            return format!("all {what}");
-        }
-        let how = match self.subjects {
-            Subjects::Rollers => "in or near",
-            _ => "in",
-        };
-        format!("{what} {how} {}", self.zones.describe())
-    }
 }
 
 /// A separation limit: within `distance` the web may reach at most `voltage`.
@@ -241,32 +205,6 @@ pub struct Rule {
     pub note: Option<Arc<str>>,
 }
 
-impl Rule {
-    /// The limits in words: `warn 1 µC/m², fail 1.7 µC/m²`.
-    pub fn limits_text(&self) -> String {
-        let mut parts = Vec::new();
-        if let Some(w) = self.warn {
-            parts.push(format!("warn {}", format_quantity(w, self.dim)));
-        }
-        if let Some(f) = self.fail {
-            parts.push(format!("fail {}", format_quantity(f, self.dim)));
-        }
-        if self.fail_is_zone_mie {
-            parts.push("fail at the MIE of the zone".to_string());
-        }
-        for (word, s) in [("near", self.near), ("far", self.far)] {
-            if let Some(s) = s {
-                parts.push(format!(
-                    "{word}: {} within {}",
-                    format_quantity(s.voltage, Dim::Voltage),
-                    format_quantity(s.distance, Dim::Length)
-                ));
-            }
-        }
-        parts.join(", ")
-    }
-}
-
 /// A checked threshold profile.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ThresholdProfile {
@@ -307,13 +245,11 @@ mod tests {
     }
 
     #[test]
-    fn zone_filter_describes_and_matches() {
+    fn zone_filter_matches_class_and_gas_group() {
         let f = ZoneFilter {
             classes: vec![1],
             gas_groups: vec![GasGroup::IIA, GasGroup::IIB],
         };
-        assert_eq!(f.describe(), "zone 1 IIA/IIB");
-        assert_eq!(ZoneFilter::default().describe(), "any zone");
         let zone = |class: u8, gas_group: GasGroup| Zone {
             id: "Z".to_string(),
             name: None,
