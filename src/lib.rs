@@ -6,15 +6,32 @@
 //! function and each box one plain data type:
 //!
 //! ```text
-//! YAML ─ model::parse_line ─▶ Line ─ charge::charge_profile ─▶ ChargeProfile
-//!      ─ field::solve ─▶ FieldMap ─ report writers ─▶ table / CSV / JSON
+//! YAML ─ model::parse_line ─▶ Line ─ field::Scene::new ─▶ Scene
+//!      ─ readings::invert_readings ─▶ ChargeProfile ─ Scene::web(..).solve ─▶ FieldMap
+//!      ─ assess::assess ─▶ Assessment ─ [plan::plan ─▶ Plan]
+//!      ─ report::build::build_report ─▶ Report ─ writers ─▶ terminal / files
 //! ```
 //!
-//! - [`model`]: the line description, its validation and the web path geometry;
-//! - [`charge`]: the surface charge density along the path (relaxation);
-//! - [`field`]: Coulomb integrals over every span, images in a ground plane;
-//! - [`report`]: writers that only format;
-//! - [`units`]: SI inside, units parsed and formatted at the edges.
+//! [`pipeline::analyse`] runs the chain from `Line` to `Assessment` in one
+//! place, building the line's [`field::Scene`] once; every stage that needs a
+//! field (readings, passive-bar onset, assessment, planner, field map)
+//! borrows that scene.
+//!
+//! - [`model`]: the line description, its validation, the web path and the
+//!   geometry shared by every stage;
+//! - [`physics`]: physical constants and laws with their sources;
+//! - [`charge`]: the surface charge density along the path (relaxation,
+//!   eliminators);
+//! - [`field`]: the scene and Coulomb integrals over every span, images in a
+//!   ground plane;
+//! - [`readings`]: field-meter readings to surface charge density;
+//! - [`assess`]: threshold profiles and findings (numbers and typed notes);
+//! - [`plan`]: static-eliminator placement;
+//! - [`pipeline`]: the stages chained;
+//! - [`report`]: every word and picture a person sees; writers that only
+//!   format;
+//! - [`units`]: SI inside, units parsed and formatted at the edges;
+//! - [`yaml`]: the one place YAML is parsed.
 //!
 //! Estimates from a model are not measurements. They do not replace a
 //! hazardous-area classification or the judgement of a competent person.

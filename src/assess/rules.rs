@@ -9,7 +9,7 @@ use super::{
 };
 use crate::charge::ChargeProfile;
 use crate::field::{FieldAt, FieldError, PointField, SpanContribution};
-use crate::model::geometry::distance_to_span;
+use crate::model::geometry::{distance_to_span, span_frame};
 use crate::model::{Earthing, Line, Point, Span};
 
 /// Smallest step between web-potential samples [m].
@@ -343,9 +343,8 @@ impl<'a> Run<'a> {
     fn web_potential(&self, span: &Span, at: [f64; 3], d: f64) -> Result<f64, FieldError> {
         let dir = span.direction();
         let half = self.line.web.width / 2.0;
-        let rel = [at[0] - span.start[0], at[2] - span.start[1]];
-        let u0 = (rel[0] * dir[0] + rel[1] * dir[1]).clamp(0.0, span.length);
-        let h = -rel[0] * dir[1] + rel[1] * dir[0];
+        let frame = span_frame(span, self.line.web.width, at);
+        let (u0, h) = (frame.u.clamp(0.0, span.length), frame.h);
         let y0 = at[1].clamp(-half, half);
         // Unit normal in x-z, on the item's side of the span.
         let side = if h < 0.0 { -1.0 } else { 1.0 };
