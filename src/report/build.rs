@@ -291,10 +291,7 @@ pub fn build_report(
         })
         .collect();
 
-    let mut counts = [0usize; 3];
-    for f in &assessment.findings {
-        counts[f.verdict as usize] += 1;
-    }
+    let counts = assessment.counts().as_array();
     // Contributions at the worst points: the first three distinct points
     // among the findings (worst first).
     let mut contributions: Vec<(String, Vec<SpanContribution>)> = Vec::new();
