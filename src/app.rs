@@ -10,15 +10,20 @@ use crate::cli::{
     ProfilesArgs, ReadingsArgs,
 };
 use crate::error::Outcome;
-use crate::field::{ASSUMPTIONS, PointField, Scene, SolverSettings, WebField};
+use crate::field::{PointField, Scene, SolverSettings, WebField};
 use crate::model::geometry::point_problem;
 use crate::model::{Line, load_line, parse_line};
+use crate::points::{self, PointFile};
 use crate::readings::{ReadingsResult, invert_readings};
-use crate::report::{self, PointRequest, csv, json, text};
-use crate::units::{Dim, format_quantity, parse_quantity_or};
+use crate::report::field_out::{FieldFormat, FieldWriter};
+use crate::report::{
+    PointRequest, assessment_text, csv, json, pictures, plan_json, plan_text, profiles_text,
+    readings_text, summary,
+};
+use crate::units::Dim;
 use anyhow::{Context, Result, bail};
 use rayon::prelude::*;
-use std::io::{BufRead, BufReader, Write};
+use std::io::Write;
 use std::path::Path;
 
 /// Field-map resolution (points across) of the demo's report.
@@ -46,245 +51,90 @@ fn print_warnings(line: &Line) {
     }
 }
 
+/// Checked solver settings from `--tolerance`.
+fn solver(tolerance: f64) -> Result<SolverSettings> {
+    SolverSettings::new(tolerance).context("--tolerance")
+}
+
+/// Reads and checks the line description at `path`, keeping its text
+/// (for the report's checksum and `--apply`); warnings go to stderr.
+fn read_line(path: &Path) -> Result<(String, Line)> {
+    let text = crate::model::read_line_text(path)?;
+    let line = parse_line(&text).map_err(|e| {
+        anyhow::Error::new(e).context(format!("invalid line description '{}'", path.display()))
+    })?;
+    print_warnings(&line);
+    Ok((text, line))
+}
+
+/// Loads the line at `path`, builds its scene and converts its readings
+/// (the result holds the charge the rest of the run uses).
+fn load_with_charge(
+    path: &Path,
+    settings: SolverSettings,
+) -> Result<(Line, Scene, ReadingsResult)> {
+    let line = load_line(path)?;
+    print_warnings(&line);
+    let scene = Scene::new(&line, settings)?;
+    let r = line_charge(&line, &scene)?;
+    Ok((line, scene, r))
+}
+
+/// Writes `s` to standard output.
+fn print(s: &str) -> Result<()> {
+    emit(&mut std::io::stdout().lock(), s)
+}
+
+/// Exit 1 when a limit is exceeded, else 0.
+fn outcome(exceeded: bool) -> Outcome {
+    if exceeded {
+        Outcome::Exceeded
+    } else {
+        Outcome::Pass
+    }
+}
+
 /// Writes to stdout; a closed pipe (e.g. `| head`) ends quietly.
 fn emit(out: &mut impl Write, s: &str) -> Result<()> {
-    match out.write_all(s.as_bytes()) {
-        Ok(()) => Ok(()),
-        Err(e) if e.kind() == std::io::ErrorKind::BrokenPipe => Ok(()),
-        Err(e) => Err(e).context("writing to standard output"),
-    }
+    out.write_all(s.as_bytes()).or_else(quiet_pipe)
 }
 
-fn summary(line: &Line, charge: &ChargeProfile) -> String {
-    let w = &line.web;
-    let mut s = format!("line: {}\n", line.title);
-    s.push_str(&format!(
-        "web: {}, width {}, thickness {}, εr {}, speed {} ({})\n",
-        w.material.as_deref().unwrap_or("material not given"),
-        format_quantity(w.width, Dim::Length),
-        format_quantity(w.thickness, Dim::Length),
-        w.relative_permittivity,
-        format_quantity(w.speed, Dim::Speed),
-        crate::units::format_si(w.speed * 60.0, "m/min"),
-    ));
-    let lambda = w.decay_length();
-    s.push_str(&format!(
-        "charge relaxation: τ = {}{}, decay length v·τ = {}\n",
-        format_quantity(w.relaxation_time, Dim::Time),
-        if w.volume_resistivity.is_some() {
-            " (ε0·εr·ρ)"
-        } else {
-            " (given)"
-        },
-        if lambda.is_finite() {
-            format_quantity(lambda, Dim::Length)
-        } else {
-            "infinite".into()
-        }
-    ));
-    s.push_str(&format!("across the web: {}\n", charge.across.describe()));
-    match line.ground_plane {
-        Some(g) => s.push_str(&format!(
-            "ground plane: z = {} (potentials relative to it)\n",
-            format_quantity(g, Dim::Length)
-        )),
-        None => s.push_str("ground plane: none (potentials relative to zero at infinity)\n"),
+/// A closed pipe is not an error; any other write error is.
+fn quiet_pipe(e: std::io::Error) -> Result<()> {
+    match e.kind() {
+        std::io::ErrorKind::BrokenPipe => Ok(()),
+        _ => Err(e).context("writing to standard output"),
     }
-    s.push_str(&format!(
-        "path: {} nodes, {} spans, {} wrap arcs, {} long\n",
-        line.path.nodes.len(),
-        line.path.spans.len(),
-        line.path.arcs.len(),
-        format_quantity(line.path.total_length, Dim::Length)
-    ));
-    if line.charge.is_empty() {
-        s.push_str("charge: no entries — the web is uncharged\n");
-    }
-    for c in &line.charge {
-        s.push_str(&format!(
-            "charge: {} {} leaving {}\n",
-            match c.mode {
-                crate::model::ChargeMode::Set => "sets",
-                crate::model::ChargeMode::Add => "adds",
-            },
-            format_quantity(c.sigma, Dim::SurfaceChargeDensity),
-            c.at
-        ));
-    }
-    for e in &line.eliminators {
-        s.push_str(&format!(
-            "eliminator: {} {} on {} at {}, {} {}, η {}{}\n",
-            e.id,
-            e.kind.text(),
-            line.path.spans[e.span].label(),
-            format_quantity(e.along, Dim::Length),
-            format_quantity(e.distance, Dim::Length),
-            e.side.text(),
-            format_quantity(e.efficiency, Dim::Percent),
-            match e.onset {
-                Some(on) => format!(", onset {}", crate::units::format_si(on, "V/m")),
-                None => String::new(),
-            }
-        ));
-    }
-    if !line.readings.is_empty() {
-        s.push_str(&format!(
-            "readings: {} (the segments they fall on take their density from them; see `websigma readings`)\n",
-            line.readings.len()
-        ));
-    }
-    s
-}
-
-fn assumptions_text() -> String {
-    let mut s = String::from("assumptions:\n");
-    for a in ASSUMPTIONS {
-        s.push_str(&format!("  - {a}\n"));
-    }
-    s
 }
 
 /// Reading warnings go to stderr.
 fn print_reading_warnings(r: &ReadingsResult) {
-    for x in &r.readings {
-        for w in &x.warnings {
-            eprintln!(
-                "warning: reading {}: {}",
-                x.id,
-                crate::report::notes::reading_note(w)
-            );
-        }
+    for w in readings_text::reading_warnings(r) {
+        eprintln!("warning: {w}");
     }
 }
 
-/// The charge along the path: the model's, with the segments that hold
-/// readings fitted to them. Reading warnings go to stderr.
-fn line_charge(line: &Line, scene: &Scene) -> Result<(ChargeProfile, ReadingsResult)> {
+/// The readings converted and the charge along the path: the model's, with
+/// the segments that hold readings fitted to them. Warnings go to stderr.
+fn line_charge(line: &Line, scene: &Scene) -> Result<ReadingsResult> {
     let r = invert_readings(line, scene).context("converting the meter readings")?;
     print_reading_warnings(&r);
-    Ok((r.charge.clone(), r))
+    Ok(r)
 }
 
 fn check(a: &CheckArgs) -> Result<Outcome> {
-    let line = load_line(&a.line)?;
-    print_warnings(&line);
-    let scene = Scene::new(&line, SolverSettings::default())?;
-    let (charge, _) = line_charge(&line, &scene)?;
-    let mut out = std::io::stdout().lock();
-    let mut s = summary(&line, &charge);
-    s.push('\n');
-    s.push_str(&text::spans_table(&report::span_rows(&line, &charge)));
-    s.push_str(&format!(
-        "\npoints of interest: {} checked\n",
-        line.points.len()
-    ));
-    s.push_str(&assumptions_text());
-    s.push_str(&format!(
-        "\nvalid: {} ({} warning{})\n",
-        a.line.display(),
-        line.warnings.len(),
-        if line.warnings.len() == 1 { "" } else { "s" }
-    ));
-    emit(&mut out, &s)?;
+    let (line, _, r) = load_with_charge(&a.line, SolverSettings::default())?;
+    let s = summary::check_text(&line, &r.charge, &a.line.display().to_string());
+    print(&s)?;
     Ok(Outcome::Pass)
 }
 
-/// Parses `X,Y,Z` with bare numbers in metres.
-fn parse_point(text: &str) -> std::result::Result<[f64; 3], String> {
-    let parts: Vec<&str> = text.split(',').collect();
-    if parts.len() != 3 {
-        return Err(format!(
-            "expected three coordinates X,Y,Z such as \"1.2,0,0.025\" or \"1.2 m,0,25 mm\", got \"{text}\""
-        ));
-    }
-    let mut p = [0.0; 3];
-    for (i, part) in parts.iter().enumerate() {
-        p[i] = parse_quantity_or(part, Dim::Length, 1.0)
-            .map_err(|e| format!("{} coordinate: {e}", ["x", "y", "z"][i]))?;
-    }
-    Ok(p)
-}
-
-/// Reads the points of a CSV file: header with x, y, z (metres) and optional id.
-struct PointCsv {
-    reader: BufReader<std::fs::File>,
-    columns: [usize; 3],
-    id_col: Option<usize>,
-    line_no: usize,
-    name: String,
-}
-
-impl PointCsv {
-    fn open(path: &Path) -> Result<Self> {
-        let f = std::fs::File::open(path)
-            .with_context(|| format!("opening point file '{}'", path.display()))?;
-        let mut reader = BufReader::new(f);
-        let mut header = String::new();
-        reader
-            .read_line(&mut header)
-            .with_context(|| format!("reading point file '{}'", path.display()))?;
-        let cols: Vec<String> = header
-            .trim_start_matches('\u{feff}')
-            .trim()
-            .split(',')
-            .map(|c| c.trim().trim_matches('"').to_ascii_lowercase())
-            .collect();
-        let find = |n: &str| cols.iter().position(|c| c == n);
-        let (Some(x), Some(y), Some(z)) = (find("x"), find("y"), find("z")) else {
-            bail!(
-                "{}:1: expected a header with columns x,y,z (metres) and optionally id, got \"{}\"",
-                path.display(),
-                header.trim()
-            );
-        };
-        Ok(PointCsv {
-            reader,
-            columns: [x, y, z],
-            id_col: find("id"),
-            line_no: 1,
-            name: path.display().to_string(),
-        })
-    }
-
-    /// Up to `n` more points; an empty vector at the end of the file.
-    fn next_chunk(&mut self, n: usize) -> Result<Vec<PointRequest>> {
-        let mut out = Vec::new();
-        let mut buf = String::new();
-        while out.len() < n {
-            buf.clear();
-            let read = self
-                .reader
-                .read_line(&mut buf)
-                .with_context(|| format!("reading point file '{}'", self.name))?;
-            if read == 0 {
-                break;
-            }
-            self.line_no += 1;
-            let row = buf.trim();
-            if row.is_empty() {
-                continue;
-            }
-            let cells: Vec<&str> = row.split(',').map(|c| c.trim()).collect();
-            let mut at = [0.0; 3];
-            for (k, &c) in self.columns.iter().enumerate() {
-                let cell = cells.get(c).copied().unwrap_or("");
-                at[k] = parse_quantity_or(cell, Dim::Length, 1.0).map_err(|e| {
-                    anyhow::anyhow!(
-                        "{}:{}: column {}: {e}",
-                        self.name,
-                        self.line_no,
-                        ["x", "y", "z"][k]
-                    )
-                })?;
-            }
-            let id = self
-                .id_col
-                .and_then(|c| cells.get(c))
-                .map(|s| s.trim_matches('"').to_string())
-                .filter(|s| !s.is_empty());
-            out.push(PointRequest { id, at });
-        }
-        Ok(out)
+/// The `field` command's output format for the writer.
+fn field_format(f: OutputFormat) -> FieldFormat {
+    match f {
+        OutputFormat::Table => FieldFormat::Table,
+        OutputFormat::Csv => FieldFormat::Csv,
+        OutputFormat::Json => FieldFormat::Json,
     }
 }
 
@@ -301,80 +151,6 @@ fn check_point(line: &Line, p: &PointRequest, where_: &str) -> Result<()> {
     Ok(())
 }
 
-/// Formats results in the chosen format, one row per point.
-struct FieldWriter {
-    format: OutputFormat,
-    first: bool,
-    contributions: bool,
-}
-
-impl FieldWriter {
-    fn header(&self, spans: &[String]) -> String {
-        match self.format {
-            OutputFormat::Table => String::new(),
-            OutputFormat::Csv => format!("{}\n", csv::field_header(spans, self.contributions)),
-            OutputFormat::Json => json::FIELD_OPEN.to_string(),
-        }
-    }
-    fn rows(&mut self, reqs: &[PointRequest], res: &[PointField]) -> String {
-        let mut s = String::new();
-        match self.format {
-            OutputFormat::Table => {
-                let cells: Vec<Vec<String>> = reqs
-                    .iter()
-                    .zip(res)
-                    .map(|(q, f)| text::field_cells(q, f))
-                    .collect();
-                let t = text::table(&text::FIELD_HEADER, &cells);
-                // The header is repeated per chunk only for very long lists.
-                s.push_str(if self.first {
-                    &t
-                } else {
-                    t.split_once('\n')
-                        .and_then(|x| x.1.split_once('\n'))
-                        .map(|x| x.1)
-                        .unwrap_or("")
-                });
-                if self.contributions {
-                    for (q, f) in reqs.iter().zip(res) {
-                        s.push_str(&format!(
-                            "\ncontributions at {}:\n{}",
-                            q.id.clone().unwrap_or_else(|| format!(
-                                "[{}, {}, {}] m",
-                                f.at[0], f.at[1], f.at[2]
-                            )),
-                            text::contributions_table(f)
-                        ));
-                    }
-                }
-            }
-            OutputFormat::Csv => {
-                for (q, f) in reqs.iter().zip(res) {
-                    s.push_str(&csv::field_row(q, f));
-                    s.push('\n');
-                }
-            }
-            OutputFormat::Json => {
-                for (q, f) in reqs.iter().zip(res) {
-                    if !self.first {
-                        s.push_str(",\n");
-                    }
-                    self.first = false;
-                    s.push_str(&json::field_point(q, f));
-                }
-            }
-        }
-        self.first = false;
-        s
-    }
-    fn footer(&self) -> String {
-        match self.format {
-            OutputFormat::Json => json::FIELD_CLOSE.to_string(),
-            _ => String::new(),
-        }
-    }
-}
-
 fn evaluate(
     model: &WebField<'_>,
     reqs: &[PointRequest],
@@ -387,39 +163,21 @@ fn evaluate(
 }
 
 fn field(a: &FieldArgs) -> Result<Outcome> {
-    let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
-    let line = load_line(&a.line)?;
-    print_warnings(&line);
-    let scene = Scene::new(&line, settings)?;
-    let (charge, _) = line_charge(&line, &scene)?;
-    let model = scene.web(&charge);
+    let (line, scene, r) = load_with_charge(&a.line, solver(a.tolerance)?)?;
+    let model = scene.web(&r.charge);
     let spans: Vec<String> = line.path.spans.iter().map(|s| s.name.clone()).collect();
-    let mut w = FieldWriter {
-        format: a.format,
-        first: true,
-        contributions: a.contributions,
-    };
+    let mut w = FieldWriter::new(field_format(a.format), a.contributions);
     let mut out = std::io::BufWriter::new(std::io::stdout().lock());
 
     if let Some(path) = &a.points {
         // First pass: every row parses and is a point the model can evaluate.
-        let mut csvr = PointCsv::open(path)?;
-        let mut count = 0usize;
-        loop {
-            let start_line = csvr.line_no;
-            let chunk = csvr.next_chunk(CHUNK)?;
-            if chunk.is_empty() {
-                break;
-            }
+        let count = PointFile::open(path)?.for_each_chunk(CHUNK, |chunk, before| {
             for (i, q) in chunk.iter().enumerate() {
-                check_point(
-                    &line,
-                    q,
-                    &format!("{}: point {}", path.display(), start_line + i),
-                )?;
+                let where_ = format!("{}: point {}", path.display(), before + i + 1);
+                check_point(&line, q, &where_)?;
             }
-            count += chunk.len();
-        }
+            Ok(())
+        })?;
         if count == 0 {
             bail!(
                 "{}: no points after the header: expected rows of x,y,z in metres",
@@ -427,16 +185,11 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
             );
         }
         // Second pass: evaluate and write chunk by chunk.
-        let mut csvr = PointCsv::open(path)?;
         emit(&mut out, &w.header(&spans))?;
-        loop {
-            let chunk = csvr.next_chunk(CHUNK)?;
-            if chunk.is_empty() {
-                break;
-            }
-            let res = evaluate(&model, &chunk, a.contributions)?;
-            emit(&mut out, &w.rows(&chunk, &res))?;
-        }
+        PointFile::open(path)?.for_each_chunk(CHUNK, |chunk, _| {
+            let res = evaluate(&model, chunk, a.contributions)?;
+            emit(&mut out, &w.rows(chunk, &res))
+        })?;
     } else {
         let reqs: Vec<PointRequest> = if a.at.is_empty() {
             if line.points.is_empty() {
@@ -454,7 +207,8 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
         } else {
             let mut v = Vec::new();
             for (i, t) in a.at.iter().enumerate() {
-                let at = parse_point(t).map_err(|e| anyhow::anyhow!("--at #{}: {e}", i + 1))?;
+                let at =
+                    points::parse_point(t).map_err(|e| anyhow::anyhow!("--at #{}: {e}", i + 1))?;
                 let q = PointRequest { id: None, at };
                 check_point(&line, &q, &format!("--at #{} \"{t}\"", i + 1))?;
                 v.push(q);
@@ -466,15 +220,7 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
         emit(&mut out, &w.rows(&reqs, &res))?;
     }
     emit(&mut out, &w.footer())?;
-    if a.format == OutputFormat::Table {
-        emit(&mut out, &format!("\n{}", assumptions_text()))?;
-    }
-    match out.flush() {
-        Err(e) if e.kind() != std::io::ErrorKind::BrokenPipe => {
-            return Err(e).context("writing to standard output");
-        }
-        _ => {}
-    }
+    out.flush().or_else(quiet_pipe)?;
     Ok(Outcome::Pass)
 }
 
@@ -523,97 +269,6 @@ fn load_profiles(line: &Line, extra: &[String]) -> Result<Vec<crate::assess::Thr
     Ok(crate::assess::with_air_limit(out))
 }
 
-/// The lowest |E| limit among the rules in force, for the map's contour.
-fn lowest_field_limit(profiles: &[crate::assess::ThresholdProfile]) -> Option<(f64, String)> {
-    profiles
-        .iter()
-        .flat_map(|p| p.rules.iter().map(move |r| (p, r)))
-        .filter(|(_, r)| r.dim == Dim::Field)
-        .filter_map(|(p, r)| {
-            r.fail
-                .or(r.warn)
-                .map(|v| (v, format!("{}/{}", p.name, r.id)))
-        })
-        .min_by(|a, b| a.0.total_cmp(&b.0))
-}
-
-/// The largest |σ| on the path, across-web peak included [C/m²].
-fn curve_peak(charge: &ChargeProfile, line: &Line) -> f64 {
-    charge
-        .pieces_between(0.0, line.path.total_length)
-        .iter()
-        .map(|p| p.2.abs())
-        .fold(0.0, f64::max)
-        * charge.across.max_abs()
-}
-
-/// The three report pictures of a line: side view, field map at y = 0 and
-/// charge along the path (the field map is computed here on an
-/// `map_resolution`-wide grid).
-#[allow(clippy::too_many_arguments)]
-pub fn make_plots(
-    line: &Line,
-    charge: &ChargeProfile,
-    readings: &ReadingsResult,
-    model: &WebField<'_>,
-    profiles: &[crate::assess::ThresholdProfile],
-    assessment: &crate::assess::Assessment,
-    map_resolution: usize,
-) -> Result<Vec<crate::report::build::Plot>> {
-    use crate::report::{build, figures, plot};
-    // Figures.
-    let side = figures::side_view(line, charge);
-    let (xr, zr) = figures::extent(line);
-    let nx = map_resolution.clamp(20, 1000);
-    let nz = ((nx as f64) * (zr[1] - zr[0]) / (xr[1] - xr[0]))
-        .round()
-        .clamp(10.0, 1000.0) as usize;
-    let (xs, zs, e) = model.side_view_grid(xr, zr, nx, nz, 0.0);
-    let grid = figures::field_grid(xs, zs, e, 0.0, lowest_field_limit(profiles));
-    let height = figures::picture_height(xr, zr, 1400);
-    // Charge limits that apply somewhere on this line (from the findings),
-    // without those so far above the charge that they would flatten the plot.
-    let peak = curve_peak(charge, line);
-    let mut sigma_limits: Vec<(f64, String)> = Vec::new();
-    for f in &assessment.findings {
-        if f.dim != Dim::SurfaceChargeDensity {
-            continue;
-        }
-        let label = format!("{}/{} fail", f.profile, f.rule);
-        if let Some(v) = f.fail
-            && !sigma_limits.iter().any(|(_, l)| l == &label)
-            && (v <= 3.0 * peak || sigma_limits.is_empty())
-        {
-            sigma_limits.push((v, label));
-        }
-    }
-    let mut curve = figures::charge_curve(line, charge, sigma_limits);
-    curve.markers = readings
-        .readings
-        .iter()
-        .map(|r| (r.s, r.sigma, r.sigma_low, r.sigma_high, r.id.clone()))
-        .collect();
-    Ok(vec![
-        build::Plot {
-            file: "side_view.png".into(),
-            caption: "Side view: rollers, web path coloured by charge density, zones and points of interest".into(),
-            png: plot::side_view_png(&side, 1400, height)?,
-        },
-        build::Plot {
-            file: "field_map.png".into(),
-            caption: "Field strength |E| on the centreline plane y = 0 (logarithmic colour scale)".into(),
-            png: plot::field_map_png(&side, &grid, 1400, height)?,
-        },
-        build::Plot {
-            file: "charge_along_path.png".into(),
-            caption: "Charge density along the web path, with the limits in force".into(),
-            png: plot::charge_png(&curve, 1400, 700)?,
-        },
-    ])
-}
-
-/// Runs the whole pipeline and writes the report folder; returns its path
-/// and the assessment.
 /// What an assessment run leaves for the terminal.
 struct AssessRun {
     dir: std::path::PathBuf,
@@ -622,6 +277,7 @@ struct AssessRun {
     readings: ReadingsResult,
 }
 
+/// Runs the whole pipeline and writes the report folder.
 fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     use crate::report::{build, folder};
     check_out_dir(job.out)?;
@@ -642,7 +298,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     print_reading_warnings(&readings);
     let model = scene.web(&charge);
 
-    let plots = make_plots(
+    let mut plots = pictures::make_plots(
         line,
         &charge,
         &readings,
@@ -651,7 +307,6 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
         &assessment,
         job.map_resolution,
     )?;
-    let mut plots = plots;
     let mut plan_section = None;
     if let Some(n) = job.plan
         && assessment.verdict == crate::assess::Verdict::Fail
@@ -660,31 +315,11 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
         st.max_bars = n.max(1);
         st.spacing = 0.25;
         let plan = crate::plan::plan(line, &profiles, &st, scene, &|_, _| {})?;
-        if let Some(best) = plan.options.first() {
+        if let Some(bars) = best_bars(&plan) {
             let planning = crate::plan::planning_line(line, scene)?;
-            let bars: Vec<_> = best
-                .bars
-                .iter()
-                .map(|&b| plan.candidates[b].clone())
-                .collect();
             let placed = crate::plan::apply(&planning, &bars);
-            let (pc, _) = line_charge(&placed, scene)?;
-            let side = crate::report::figures::side_view(&placed, &pc);
-            let (xr, zr) = crate::report::figures::extent(&placed);
-            let h = crate::report::figures::picture_height(xr, zr, 1400);
-            let curve = crate::report::figures::charge_curve(&placed, &pc, Vec::new());
-            plots.push(build::Plot {
-                file: "side_view_planned.png".into(),
-                caption: "Side view with the best plan's bars".into(),
-                png: crate::report::plot::side_view_png(&side, 1400, h)?,
-            });
-            plots.push(build::Plot {
-                file: "charge_along_path_planned.png".into(),
-                caption:
-                    "Charge density along the path with the best plan's bars, and without them"
-                        .into(),
-                png: crate::report::plot::charge_png(&curve, 1400, 700)?,
-            });
+            let placed_charge = line_charge(&placed, scene)?.charge;
+            plots.extend(pictures::planned_plots(&placed, &placed_charge)?);
         }
         plan_section = Some(build::PlanSection::from_plan(&plan, line));
     }
@@ -712,68 +347,9 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     })
 }
 
-/// The short terminal summary: one line per finding, worst first.
-fn summary_table(line: &Line, a: &crate::assess::Assessment, max_rows: usize) -> String {
-    use tabled::settings::Style;
-    #[derive(tabled::Tabled)]
-    struct Row {
-        verdict: String,
-        rule: String,
-        subject: String,
-        value: String,
-        limit: String,
-        margin: String,
-        confidence: String,
-    }
-    let rows: Vec<Row> = a
-        .findings
-        .iter()
-        .take(max_rows)
-        .map(|f| Row {
-            verdict: f.verdict.text().to_uppercase(),
-            rule: format!("{}/{}", f.profile, f.rule),
-            subject: crate::report::notes::subject_label(line, &f.subject),
-            value: format_quantity(f.value, f.dim),
-            limit: format_quantity(f.limit, f.dim),
-            margin: crate::report::document::margin_text(f.margin),
-            confidence: f.confidence.text().to_string(),
-        })
-        .collect();
-    let mut t = tabled::Table::new(rows);
-    t.with(Style::sharp());
-    let mut s = t.to_string();
-    if a.findings.len() > max_rows {
-        s.push_str(&format!(
-            "\n… and {} more findings in the report",
-            a.findings.len() - max_rows
-        ));
-    }
-    s
-}
-
-fn print_assessment(line: &Line, a: &crate::assess::Assessment, dir: &Path) -> Result<()> {
-    let n = |v: crate::assess::Verdict| a.findings.iter().filter(|f| f.verdict == v).count();
-    let s = format!(
-        "{}\n{}\n\nverdict: {} ({} fail, {} warn, {} pass)\nreport: {}\n\ncaution: {}\n",
-        line.title,
-        summary_table(line, a, 25),
-        a.verdict.text().to_uppercase(),
-        n(crate::assess::Verdict::Fail),
-        n(crate::assess::Verdict::Warn),
-        n(crate::assess::Verdict::Pass),
-        dir.display(),
-        crate::CAUTIONS
-    );
-    emit(&mut std::io::stdout().lock(), &s)
-}
-
 fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
-    let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
-    let text = crate::model::read_line_text(&a.line)?;
-    let line = parse_line(&text).map_err(|e| {
-        anyhow::Error::new(e).context(format!("invalid line description '{}'", a.line.display()))
-    })?;
-    print_warnings(&line);
+    let settings = solver(a.tolerance)?;
+    let (text, line) = read_line(&a.line)?;
     let AssessRun {
         dir, assessment, ..
     } = run_assessment(AssessJob {
@@ -786,12 +362,19 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
         map_resolution: a.map_resolution,
         plan: a.plan,
     })?;
-    print_assessment(&line, &assessment, &dir)?;
-    Ok(if assessment.verdict == crate::assess::Verdict::Fail {
-        Outcome::Exceeded
-    } else {
-        Outcome::Pass
-    })
+    print(&assessment_text::assessment_text(&line, &assessment, &dir))?;
+    Ok(outcome(assessment.verdict == crate::assess::Verdict::Fail))
+}
+
+/// The bars of the best plan, if there is one.
+fn best_bars(plan: &crate::plan::Plan) -> Option<Vec<crate::plan::Candidate>> {
+    let best = plan.options.first()?;
+    Some(
+        best.bars
+            .iter()
+            .map(|&b| plan.candidates[b].clone())
+            .collect(),
+    )
 }
 
 /// Converts the plan command line into checked planner settings.
@@ -863,12 +446,8 @@ fn plan_settings(a: &PlanArgs, line: &Line) -> Result<crate::plan::PlanSettings>
 
 fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
     use std::io::IsTerminal;
-    let text = crate::model::read_line_text(&a.line)?;
-    let line = parse_line(&text).map_err(|e| {
-        anyhow::Error::new(e).context(format!("invalid line description '{}'", a.line.display()))
-    })?;
-    print_warnings(&line);
-    let solver = SolverSettings::new(a.tolerance).context("--tolerance")?;
+    let (text, line) = read_line(&a.line)?;
+    let solver = solver(a.tolerance)?;
     let st = plan_settings(a, &line)?;
     if let Some(out) = &a.apply
         && out.exists()
@@ -905,17 +484,12 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
         );
     }
     let s = match a.format {
-        OutputFormat::Json => plan_json(&plan, &line),
-        _ => plan_text(&plan, &line),
+        OutputFormat::Json => plan_json::plan_json(&plan, &line),
+        _ => plan_text::plan_text(&plan, &line),
     };
-    emit(&mut std::io::stdout().lock(), &s)?;
+    print(&s)?;
     let passes = plan.options.first().is_some_and(|o| o.counts[2] == 0);
-    if let (Some(out), Some(best)) = (&a.apply, plan.options.first()) {
-        let bars: Vec<crate::plan::Candidate> = best
-            .bars
-            .iter()
-            .map(|&b| plan.candidates[b].clone())
-            .collect();
+    if let (Some(out), Some(bars)) = (&a.apply, best_bars(&plan)) {
         let new_text = crate::plan::apply_to_yaml(&text, &line, &bars, &scene)?;
         parse_line(&new_text).map_err(|e| {
             anyhow::Error::new(e).context("internal: the planned line description does not parse")
@@ -929,233 +503,38 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
             .with_context(|| format!("--apply: writing '{}'", out.display()))?;
         eprintln!("wrote {} with the best plan's bars added", out.display());
     }
-    Ok(if passes {
-        Outcome::Pass
-    } else {
-        Outcome::Exceeded
-    })
-}
-
-fn plan_text(plan: &crate::plan::Plan, line: &Line) -> String {
-    let mut s = format!(
-        "{}\n\n",
-        crate::report::plan_words::plan_summary(plan, line)
-    );
-    let before = &plan.before;
-    let count = |a: &crate::assess::Assessment, v: crate::assess::Verdict| {
-        a.findings.iter().filter(|f| f.verdict == v).count()
-    };
-    s.push_str(&format!(
-        "without new bars: {} fail, {} warn, {} pass\n\n",
-        count(before, crate::assess::Verdict::Fail),
-        count(before, crate::assess::Verdict::Warn),
-        count(before, crate::assess::Verdict::Pass)
-    ));
-    let rows: Vec<Vec<String>> = plan
-        .options
-        .iter()
-        .enumerate()
-        .map(|(i, o)| {
-            vec![
-                format!("{}", i + 1),
-                o.bars
-                    .iter()
-                    .map(|&b| crate::report::plan_words::candidate_text(&plan.candidates[b], line))
-                    .collect::<Vec<_>>()
-                    .join("; "),
-                format!("{}", o.counts[2]),
-                format!("{}", o.counts[1]),
-                format!("{}", o.counts[0]),
-                crate::report::document::margin_text(o.worst_margin),
-            ]
-        })
-        .collect();
-    s.push_str(&text::table(
-        &["plan", "bars", "fail", "warn", "pass", "worst margin"],
-        &rows,
-    ));
-    if let Some(best) = plan.options.first() {
-        s.push_str("\nbest plan, findings that warn or fail before → after:\n");
-        let mut rows = Vec::new();
-        for f in before
-            .findings
-            .iter()
-            .filter(|f| f.verdict != crate::assess::Verdict::Pass)
-        {
-            let after = best
-                .assessment
-                .findings
-                .iter()
-                .find(|g| g.profile == f.profile && g.rule == f.rule && g.subject == f.subject);
-            rows.push(vec![
-                format!("{}/{}", f.profile, f.rule),
-                crate::report::notes::subject_label(line, &f.subject),
-                format!(
-                    "{} {}",
-                    f.verdict.text().to_uppercase(),
-                    format_quantity(f.value, f.dim)
-                ),
-                after
-                    .map(|g| {
-                        format!(
-                            "{} {}",
-                            g.verdict.text().to_uppercase(),
-                            format_quantity(g.value, g.dim)
-                        )
-                    })
-                    .unwrap_or_else(|| "—".into()),
-            ]);
-        }
-        for g in best.assessment.findings.iter().filter(|g| {
-            &*g.profile == crate::assess::eliminators::PROFILE
-                && g.verdict != crate::assess::Verdict::Pass
-        }) {
-            rows.push(vec![
-                format!("{}/{}", g.profile, g.rule),
-                crate::report::notes::subject_label(line, &g.subject),
-                "—".into(),
-                format!(
-                    "{} {}",
-                    g.verdict.text().to_uppercase(),
-                    crate::report::notes::finding_notes(line, g)
-                ),
-            ]);
-        }
-        s.push_str(&text::table(&["rule", "subject", "before", "after"], &rows));
-    }
-    s.push_str(&format!("\ncaution: {}\n", crate::CAUTIONS));
-    s
-}
-
-fn plan_json(plan: &crate::plan::Plan, line: &Line) -> String {
-    let count = |a: &crate::assess::Assessment, v: crate::assess::Verdict| {
-        a.findings.iter().filter(|f| f.verdict == v).count()
-    };
-    let plans: Vec<String> = plan
-        .options
-        .iter()
-        .map(|o| {
-            let bars: Vec<String> = o
-                .bars
-                .iter()
-                .map(|&b| {
-                    let c = &plan.candidates[b];
-                    format!(
-                        "{{\"kind\": {}, \"span\": {}, \"position\": {}, \"side\": {}, \"distance\": {}, \"efficiency\": {}}}",
-                        json::string(c.kind.text()),
-                        json::string(&line.path.spans[c.span].name),
-                        json::num(c.along),
-                        json::string(c.side.text()),
-                        json::num(c.distance),
-                        json::num(c.efficiency)
-                    )
-                })
-                .collect();
-            format!(
-                "    {{\"bars\": [{}], \"fail\": {}, \"warn\": {}, \"pass\": {}, \"worst_margin\": {}}}",
-                bars.join(", "),
-                o.counts[2],
-                o.counts[1],
-                o.counts[0],
-                json::num(o.worst_margin)
-            )
-        })
-        .collect();
-    format!(
-        "{{\n  \"summary\": {},\n  \"exhaustive\": {},\n  \"evaluated\": {},\n  \"candidates\": {},\n  \"before\": {{\"fail\": {}, \"warn\": {}, \"pass\": {}}},\n  \"plans\": [\n{}\n  ]\n}}\n",
-        json::string(&crate::report::plan_words::plan_summary(plan, line)),
-        plan.exhaustive,
-        plan.evaluated,
-        plan.candidates.len(),
-        count(&plan.before, crate::assess::Verdict::Fail),
-        count(&plan.before, crate::assess::Verdict::Warn),
-        count(&plan.before, crate::assess::Verdict::Pass),
-        plans.join(",\n")
-    )
+    Ok(outcome(!passes))
 }
 
 fn readings_cmd(a: &ReadingsArgs) -> Result<Outcome> {
-    let settings = SolverSettings::new(a.tolerance).context("--tolerance")?;
-    let line = load_line(&a.line)?;
-    print_warnings(&line);
-    let scene = Scene::new(&line, settings)?;
-    let (_, r) = line_charge(&line, &scene)?;
+    let (_, _, r) = load_with_charge(&a.line, solver(a.tolerance)?)?;
     if r.readings.is_empty() {
         bail!(
             "the line has no `readings:`: add field-meter readings (span, position, distance, side, reading) to convert"
         );
     }
     let s = match a.format {
-        OutputFormat::Table => {
-            let mut s = text::readings_table(&r);
-            s.push_str(&format!(
-                "\nσ is the density at the meter's foot from all readings together ({}).\n",
-                r.method
-                    .as_ref()
-                    .map(crate::report::notes::fit_method)
-                    .unwrap_or_default()
-            ));
-            s.push_str("naive: σ = 2·ε0·E (isolated sheet) and ε0·E (all field on one side), the infinite-sheet rule (Gauss's law)\n");
-            s
-        }
+        OutputFormat::Table => readings_text::readings_text(&r),
         OutputFormat::Csv => csv::readings_csv(&r.readings),
         OutputFormat::Json => json::readings_json(&r),
     };
-    emit(&mut std::io::stdout().lock(), &s)?;
+    print(&s)?;
     Ok(Outcome::Pass)
 }
 
 fn profiles_cmd(a: &ProfilesArgs) -> Result<Outcome> {
-    use crate::assess::profile;
-    let mut s = String::new();
-    match &a.name {
+    use crate::assess::profile::{load_profile, shipped};
+    let s = match &a.name {
         None => {
-            let mut rows = Vec::new();
-            for (name, _) in profile::shipped() {
-                let p = profile::load_profile(name)?;
-                rows.push(vec![
-                    p.name.to_string(),
-                    p.title.clone(),
-                    format!("{}", p.rules.len()),
-                ]);
-            }
-            s.push_str(&text::table(&["profile", "title", "rules"], &rows));
-            s.push_str("\nshow one with `websigma profiles NAME`; apply with `assess: [NAME]` in the line or `--profile NAME|FILE`\n");
-        }
-        Some(name) => {
-            let p = profile::load_profile(name)?;
-            s.push_str(&format!("{} — {}\n{}\n\n", p.name, p.title, p.description));
-            let rows: Vec<Vec<String>> = p
-                .rules
+            let profiles = shipped()
                 .iter()
-                .map(|r| {
-                    vec![
-                        r.id.to_string(),
-                        r.what.to_string(),
-                        r.warn
-                            .map(|w| format_quantity(w, r.dim))
-                            .unwrap_or_else(|| "—".into()),
-                        r.fail
-                            .map(|w| format_quantity(w, r.dim))
-                            .unwrap_or_else(|| "—".into()),
-                        r.confidence.text().to_string(),
-                    ]
-                })
-                .collect();
-            s.push_str(&text::table(
-                &["rule", "checks", "warn", "fail", "confidence"],
-                &rows,
-            ));
-            s.push_str("\nsources:\n");
-            for r in &p.rules {
-                s.push_str(&format!("  {}: {}\n", r.id, r.source));
-                if let Some(n) = &r.note {
-                    s.push_str(&format!("    note: {n}\n"));
-                }
-            }
+                .map(|(name, _)| load_profile(name))
+                .collect::<std::result::Result<Vec<_>, _>>()?;
+            profiles_text::profile_list(&profiles)
         }
-    }
-    emit(&mut std::io::stdout().lock(), &s)?;
+        Some(name) => profiles_text::profile_text(&load_profile(name)?),
+    };
+    print(&s)?;
     Ok(Outcome::Pass)
 }
 
@@ -1175,18 +554,14 @@ fn demo(a: &DemoArgs) -> Result<Outcome> {
         plan: Some(3),
     })?;
     let elapsed = started.elapsed().as_secs_f64();
-    let (charge, readings) = (&run.charge, &run.readings);
-    let mut s = String::from("websigma demo — an invented example line, not a real plant\n\n");
-    s.push_str(&summary(&line, charge));
-    s.push('\n');
-    s.push_str(&text::spans_table(&report::span_rows(&line, charge)));
-    if !readings.readings.is_empty() {
-        s.push_str("\nmeter readings converted with the line's geometry (beside the infinite-sheet rule):\n");
-        s.push_str(&text::readings_table(readings));
-    }
-    emit(&mut std::io::stdout().lock(), &s)?;
+    let s = summary::demo_text(&line, &run.charge, &run.readings);
+    print(&s)?;
     eprintln!("assessed in {elapsed:.1} s");
-    print_assessment(&line, &run.assessment, &run.dir)?;
+    print(&assessment_text::assessment_text(
+        &line,
+        &run.assessment,
+        &run.dir,
+    ))?;
     // A demonstration: exit 0 once the report is written, whatever it found.
     Ok(Outcome::Pass)
 }

@@ -48,6 +48,7 @@ pub mod model;
 pub mod physics;
 pub mod pipeline;
 pub mod plan;
+pub mod points;
 pub mod readings;
 pub mod report;
 pub mod units;

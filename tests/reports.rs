@@ -390,7 +390,7 @@ fn sample_pictures_are_current() {
     } = pipeline(&line);
     let model = scene.web(&charge);
     // The demo's own resolution, so the sample is exactly what `demo` writes.
-    let plots = websigma::app::make_plots(
+    let plots = websigma::report::pictures::make_plots(
         &line,
         &charge,
         &readings,

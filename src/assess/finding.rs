@@ -255,6 +255,13 @@ pub struct VerdictCounts {
     pub fail: usize,
 }
 
+impl VerdictCounts {
+    /// The counts indexed by `Verdict as usize`: `[pass, warn, fail]`.
+    pub fn as_array(self) -> [usize; 3] {
+        [self.pass, self.warn, self.fail]
+    }
+}
+
 /// All findings of an assessment, worst first.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Assessment {

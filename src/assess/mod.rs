@@ -252,3 +252,50 @@ pub fn score(
         worst_margin: out.worst.max(worst),
     })
 }
+
+#[cfg(test)]
+mod counts_tests {
+    use super::*;
+    use crate::field::{Scene, SolverSettings};
+
+    /// A real assessment of a one-span line (uniform sheet: fast).
+    fn assessment() -> Assessment {
+        let line = crate::model::parse_line(
+            "web: {width: 1 m, thickness: 30 um, relative_permittivity: 2.2, relaxation_time: 1e30 s, speed: 1 m/s}\n\
+             path:\n  - point: [0 m, 1 m]\n    id: A\n  - point: [2 m, 1 m]\n    id: B\n\
+             charge:\n  - at: start\n    sigma: 5 uC/m^2\n",
+        )
+        .unwrap();
+        let profiles = with_air_limit(Vec::new());
+        let scene = Scene::new(&line, SolverSettings::default()).unwrap();
+        crate::pipeline::evaluate(&scene, &line, &profiles)
+            .unwrap()
+            .assessment
+    }
+
+    #[test]
+    fn counts_each_verdict_once() {
+        let mut a = assessment();
+        let first = a.findings.first().cloned().expect("the air limit applies");
+        a.findings = [Verdict::Fail, Verdict::Warn, Verdict::Pass, Verdict::Warn]
+            .into_iter()
+            .map(|v| Finding {
+                verdict: v,
+                ..first.clone()
+            })
+            .collect();
+        let c = a.counts();
+        assert_eq!((c.pass, c.warn, c.fail), (1, 2, 1));
+        assert_eq!(c.as_array(), [1, 2, 1]);
+        a.findings.clear();
+        assert_eq!(a.counts(), VerdictCounts::default());
+    }
+
+    #[test]
+    fn counts_add_up_to_the_findings() {
+        let a = assessment();
+        let c = a.counts();
+        assert_eq!(c.pass + c.warn + c.fail, a.findings.len());
+        assert_eq!(c.fail > 0, a.verdict == Verdict::Fail);
+    }
+}

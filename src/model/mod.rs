@@ -212,16 +212,6 @@ impl AcrossProfile {
             }
         }
     }
-
-    /// A short description such as `edges, k = 0.6`.
-    pub fn describe(&self) -> String {
-        match &self.shape {
-            AcrossShape::Uniform => "uniform (f = 1)".into(),
-            AcrossShape::Edges(k) => format!("edges, f = 1 + k(2y/w)², k = {k}"),
-            AcrossShape::Tilt(k) => format!("tilt, f = 1 + k(2y/w), k = {k}"),
-            AcrossShape::Table(t) => format!("table of {} points, piecewise linear", t.len()),
-        }
-    }
 }
 
 /// Whether a charge entry sets or adds to the centreline density.

@@ -324,13 +324,11 @@ pub fn build_report(
     let spans: Vec<SpanResult> = span_rows(line, charge)
         .into_iter()
         .zip(&line.path.spans)
-        .map(|(row, s)| {
-            SpanResult {
-                label: s.label(),
-                sigma_peak: charge.peak_between(s.s_start, s.s_end),
-                zones: zones_touching(&line.zones, &|z| z.touches_span(s, line.web.width)),
-                row,
-            }
+        .map(|(row, s)| SpanResult {
+            label: s.label(),
+            sigma_peak: charge.peak_between(s.s_start, s.s_end),
+            zones: zones_touching(&line.zones, &|z| z.touches_span(s, line.web.width)),
+            row,
         })
         .collect();
     let point_results: Vec<PointResult> = line
@@ -346,8 +344,7 @@ pub fn build_report(
         })
         .collect();
 
-    let c = assessment.counts();
-    let counts = [c.pass, c.warn, c.fail];
+    let counts = assessment.counts().as_array();
     let findings: Vec<FindingRow> = assessment
         .findings
         .iter()

@@ -5,17 +5,25 @@
 //! terminal, [`csv`] and [`json`] in SI units for other programs. The field
 //! writers work row by row so that very long point lists stream.
 
+pub mod assessment_text;
 pub mod build;
 pub mod csv;
 pub mod document;
+pub mod field_out;
 pub mod figures;
 pub mod folder;
 pub mod html;
 pub mod json;
 pub mod markdown;
 pub mod notes;
+pub mod pictures;
+pub mod plan_json;
+pub mod plan_text;
 pub mod plan_words;
 pub mod plot;
+pub mod profiles_text;
+pub mod readings_text;
+pub mod summary;
 pub mod table;
 pub mod text;
 

@@ -1,0 +1,112 @@
+//! The rows of the `field` command: an aligned table, CSV or JSON, written
+//! chunk by chunk so that very long point lists stream.
+//!
+//! Writer stage: formats each point's field and potential with the
+//! [`text`], [`csv`] and [`json`] helpers; computes nothing.
+
+use crate::field::PointField;
+use crate::report::summary::assumptions_text;
+use crate::report::{PointRequest, csv, json, text};
+
+/// The format of the `field` command's output.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FieldFormat {
+    /// Aligned text table with SI prefixes.
+    Table,
+    /// Comma-separated values in SI units.
+    Csv,
+    /// JSON in SI units.
+    Json,
+}
+
+/// Formats results in the chosen format, one row per point; call
+/// [`header`](Self::header), then [`rows`](Self::rows) per chunk, then
+/// [`footer`](Self::footer).
+pub struct FieldWriter {
+    format: FieldFormat,
+    first: bool,
+    contributions: bool,
+}
+
+impl FieldWriter {
+    /// A writer for rows in `format`, with each span's share when
+    /// `contributions` is set.
+    pub fn new(format: FieldFormat, contributions: bool) -> Self {
+        FieldWriter {
+            format,
+            first: true,
+            contributions,
+        }
+    }
+
+    /// What comes before the first row; `spans` names the CSV's
+    /// contribution columns.
+    pub fn header(&self, spans: &[String]) -> String {
+        match self.format {
+            FieldFormat::Table => String::new(),
+            FieldFormat::Csv => format!("{}\n", csv::field_header(spans, self.contributions)),
+            FieldFormat::Json => json::FIELD_OPEN.to_string(),
+        }
+    }
+    /// The rows of one chunk of points and their results.
+    pub fn rows(&mut self, reqs: &[PointRequest], res: &[PointField]) -> String {
+        let mut s = String::new();
+        match self.format {
+            FieldFormat::Table => {
+                let cells: Vec<Vec<String>> = reqs
+                    .iter()
+                    .zip(res)
+                    .map(|(q, f)| text::field_cells(q, f))
+                    .collect();
+                let t = text::table(&text::FIELD_HEADER, &cells);
+                // The header is repeated per chunk only for very long lists.
+                s.push_str(if self.first {
+                    &t
+                } else {
+                    t.split_once('\n')
+                        .and_then(|x| x.1.split_once('\n'))
+                        .map(|x| x.1)
+                        .unwrap_or("")
+                });
+                if self.contributions {
+                    for (q, f) in reqs.iter().zip(res) {
+                        s.push_str(&format!(
+                            "\ncontributions at {}:\n{}",
+                            q.id.clone().unwrap_or_else(|| format!(
+                                "[{}, {}, {}] m",
+                                f.at[0], f.at[1], f.at[2]
+                            )),
+                            text::contributions_table(f)
+                        ));
+                    }
+                }
+            }
+            FieldFormat::Csv => {
+                for (q, f) in reqs.iter().zip(res) {
+                    s.push_str(&csv::field_row(q, f));
+                    s.push('\n');
+                }
+            }
+            FieldFormat::Json => {
+                for (q, f) in reqs.iter().zip(res) {
+                    if !self.first {
+                        s.push_str(",\n");
+                    }
+                    self.first = false;
+                    s.push_str(&json::field_point(q, f));
+                }
+            }
+        }
+        self.first = false;
+        s
+    }
+    /// What comes after the last row: the closing of the JSON document, or
+    /// the modelling assumptions under the table.
+    pub fn footer(&self) -> String {
+        match self.format {
+            FieldFormat::Table => format!("\n{}", assumptions_text()),
+            FieldFormat::Csv => String::new(),
+            FieldFormat::Json => json::FIELD_CLOSE.to_string(),
+        }
+    }
+}

@@ -1,0 +1,145 @@
+//! The line summary in words: what `check` and `demo` print about a line
+//! before any assessment.
+//!
+//! Writer stage: formats the checked line and its charge profile; computes
+//! nothing.
+
+use crate::charge::ChargeProfile;
+use crate::field::ASSUMPTIONS;
+use crate::model::{ChargeMode, Line};
+use crate::readings::ReadingsResult;
+use crate::report::{span_rows, text};
+use crate::units::{Dim, format_quantity, format_si};
+
+/// The line, its web, charge relaxation, path, charge entries, eliminators
+/// and readings, one fact a line.
+pub fn summary(line: &Line, charge: &ChargeProfile) -> String {
+    let w = &line.web;
+    let mut s = format!("line: {}\n", line.title);
+    s.push_str(&format!(
+        "web: {}, width {}, thickness {}, εr {}, speed {} ({})\n",
+        w.material.as_deref().unwrap_or("material not given"),
+        format_quantity(w.width, Dim::Length),
+        format_quantity(w.thickness, Dim::Length),
+        w.relative_permittivity,
+        format_quantity(w.speed, Dim::Speed),
+        format_si(w.speed * 60.0, "m/min"),
+    ));
+    let lambda = w.decay_length();
+    s.push_str(&format!(
+        "charge relaxation: τ = {}{}, decay length v·τ = {}\n",
+        format_quantity(w.relaxation_time, Dim::Time),
+        if w.volume_resistivity.is_some() {
+            " (ε0·εr·ρ)"
+        } else {
+            " (given)"
+        },
+        if lambda.is_finite() {
+            format_quantity(lambda, Dim::Length)
+        } else {
+            "infinite".into()
+        }
+    ));
+    s.push_str(&format!(
+        "across the web: {}\n",
+        super::notes::across_shape(&charge.across)
+    ));
+    match line.ground_plane {
+        Some(g) => s.push_str(&format!(
+            "ground plane: z = {} (potentials relative to it)\n",
+            format_quantity(g, Dim::Length)
+        )),
+        None => s.push_str("ground plane: none (potentials relative to zero at infinity)\n"),
+    }
+    s.push_str(&format!(
+        "path: {} nodes, {} spans, {} wrap arcs, {} long\n",
+        line.path.nodes.len(),
+        line.path.spans.len(),
+        line.path.arcs.len(),
+        format_quantity(line.path.total_length, Dim::Length)
+    ));
+    if line.charge.is_empty() {
+        s.push_str("charge: no entries — the web is uncharged\n");
+    }
+    for c in &line.charge {
+        s.push_str(&format!(
+            "charge: {} {} leaving {}\n",
+            match c.mode {
+                ChargeMode::Set => "sets",
+                ChargeMode::Add => "adds",
+            },
+            format_quantity(c.sigma, Dim::SurfaceChargeDensity),
+            c.at
+        ));
+    }
+    for e in &line.eliminators {
+        s.push_str(&format!(
+            "eliminator: {} {} on {} at {}, {} {}, η {}{}\n",
+            e.id,
+            e.kind.text(),
+            line.path.spans[e.span].label(),
+            format_quantity(e.along, Dim::Length),
+            format_quantity(e.distance, Dim::Length),
+            e.side.text(),
+            format_quantity(e.efficiency, Dim::Percent),
+            match e.onset {
+                Some(on) => format!(", onset {}", format_si(on, "V/m")),
+                None => String::new(),
+            }
+        ));
+    }
+    if !line.readings.is_empty() {
+        s.push_str(&format!(
+            "readings: {} (the segments they fall on take their density from them; see `websigma readings`)\n",
+            line.readings.len()
+        ));
+    }
+    s
+}
+
+/// The modelling assumptions of the field stage, as a list.
+pub fn assumptions_text() -> String {
+    let mut s = String::from("assumptions:\n");
+    for a in ASSUMPTIONS {
+        s.push_str(&format!("  - {a}\n"));
+    }
+    s
+}
+
+/// The summary followed by the derived-spans table.
+pub fn overview(line: &Line, charge: &ChargeProfile) -> String {
+    let mut s = summary(line, charge);
+    s.push('\n');
+    s.push_str(&text::spans_table(&span_rows(line, charge)));
+    s
+}
+
+/// What `check` prints: the overview, the points checked, the assumptions
+/// and the verdict on the file `file`.
+pub fn check_text(line: &Line, charge: &ChargeProfile, file: &str) -> String {
+    let mut s = overview(line, charge);
+    s.push_str(&format!(
+        "\npoints of interest: {} checked\n",
+        line.points.len()
+    ));
+    s.push_str(&assumptions_text());
+    s.push_str(&format!(
+        "\nvalid: {} ({} warning{})\n",
+        file,
+        line.warnings.len(),
+        if line.warnings.len() == 1 { "" } else { "s" }
+    ));
+    s
+}
+
+/// What `demo` prints before its assessment: the overview and the meter
+/// readings converted.
+pub fn demo_text(line: &Line, charge: &ChargeProfile, readings: &ReadingsResult) -> String {
+    let mut s = String::from("websigma demo — an invented example line, not a real plant\n\n");
+    s.push_str(&overview(line, charge));
+    if !readings.readings.is_empty() {
+        s.push_str("\nmeter readings converted with the line's geometry (beside the infinite-sheet rule):\n");
+        s.push_str(&text::readings_table(readings));
+    }
+    s
+}
