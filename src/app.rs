@@ -11,7 +11,6 @@ use crate::cli::{
 };
 use crate::error::Outcome;
 use crate::field::{PointField, Scene, SolverSettings, WebField};
-use crate::model::geometry::point_problem;
 use crate::model::{Line, load_line, parse_line};
 use crate::points::{self, PointFile};
 use crate::readings::{ReadingsResult, invert_readings};
@@ -22,7 +21,6 @@ use crate::report::{
 };
 use crate::units::Dim;
 use anyhow::{Context, Result, bail};
-use rayon::prelude::*;
 use std::io::Write;
 use std::path::Path;
 
@@ -139,27 +137,20 @@ fn field_format(f: OutputFormat) -> FieldFormat {
 }
 
 fn check_point(line: &Line, p: &PointRequest, where_: &str) -> Result<()> {
-    if let Some(msg) = point_problem(
-        &line.path,
-        &line.rollers,
-        line.web.width,
-        line.ground_plane,
-        p.at,
-    ) {
-        bail!("{where_}: {msg}");
+    match line.point_problem(p.at) {
+        Some(msg) => bail!("{where_}: {msg}"),
+        None => Ok(()),
     }
-    Ok(())
 }
 
+/// Field and potential at the requested points, in order.
 fn evaluate(
     model: &WebField<'_>,
     reqs: &[PointRequest],
     contributions: bool,
 ) -> Result<Vec<PointField>> {
-    Ok(reqs
-        .par_iter()
-        .map(|q| model.at(q.at, contributions))
-        .collect::<std::result::Result<Vec<_>, _>>()?)
+    let at: Vec<[f64; 3]> = reqs.iter().map(|q| q.at).collect();
+    Ok(model.solve(&at, contributions)?.points)
 }
 
 fn field(a: &FieldArgs) -> Result<Outcome> {
@@ -252,23 +243,6 @@ fn check_out_dir(out: &Path) -> Result<()> {
     Ok(())
 }
 
-fn load_profiles(line: &Line, extra: &[String]) -> Result<Vec<crate::assess::ThresholdProfile>> {
-    let mut names: Vec<String> = line.assess.clone();
-    for e in extra {
-        if !names.contains(e) {
-            names.push(e.clone());
-        }
-    }
-    let mut out = Vec::new();
-    for n in &names {
-        out.push(
-            crate::assess::profile::load_profile(n)
-                .with_context(|| format!("threshold profile \"{n}\""))?,
-        );
-    }
-    Ok(crate::assess::with_air_limit(out))
-}
-
 /// What an assessment run leaves for the terminal.
 struct AssessRun {
     dir: std::path::PathBuf,
@@ -282,7 +256,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     use crate::report::{build, folder};
     check_out_dir(job.out)?;
     let line = &job.line;
-    let profiles = load_profiles(line, job.extra_profiles)?;
+    let profiles = crate::assess::load_profiles(&line.assess, job.extra_profiles)?;
     let analysis = crate::pipeline::analyse(
         line,
         &profiles,
@@ -315,9 +289,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
         st.max_bars = n.max(1);
         st.spacing = 0.25;
         let plan = crate::plan::plan(line, &profiles, &st, scene, &|_, _| {})?;
-        if let Some(bars) = best_bars(&plan) {
-            let planning = crate::plan::planning_line(line, scene)?;
-            let placed = crate::plan::apply(&planning, &bars);
+        if let Some(placed) = plan.placed_line(line, scene)? {
             let placed_charge = line_charge(&placed, scene)?.charge;
             plots.extend(pictures::planned_plots(&placed, &placed_charge)?);
         }
@@ -364,17 +336,6 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
     })?;
     print(&assessment_text::assessment_text(&line, &assessment, &dir))?;
     Ok(outcome(assessment.verdict == crate::assess::Verdict::Fail))
-}
-
-/// The bars of the best plan, if there is one.
-fn best_bars(plan: &crate::plan::Plan) -> Option<Vec<crate::plan::Candidate>> {
-    let best = plan.options.first()?;
-    Some(
-        best.bars
-            .iter()
-            .map(|&b| plan.candidates[b].clone())
-            .collect(),
-    )
 }
 
 /// Converts the plan command line into checked planner settings.
@@ -426,19 +387,7 @@ fn plan_settings(a: &PlanArgs, line: &Line) -> Result<crate::plan::PlanSettings>
         let list = crate::model::parse_eliminator_list(&text, line).map_err(|e| {
             anyhow::Error::new(e).context(format!("invalid candidates '{}'", path.display()))
         })?;
-        st.candidates = Some(
-            list.iter()
-                .map(|e| crate::plan::Candidate {
-                    kind: e.kind,
-                    span: e.span,
-                    along: e.along,
-                    side: e.side,
-                    distance: e.distance,
-                    efficiency: e.efficiency,
-                    residual: e.residual,
-                })
-                .collect(),
-        );
+        st.candidates = Some(list.iter().map(crate::plan::Candidate::from).collect());
     }
     st.top = a.top.clamp(1, 100);
     Ok(st)
@@ -457,7 +406,7 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
             out.display()
         );
     }
-    let profiles = load_profiles(&line, &a.profiles)?;
+    let profiles = crate::assess::load_profiles(&line.assess, &a.profiles)?;
     let tty = std::io::stderr().is_terminal();
     let progress = move |done: usize, total: usize| {
         if tty && total > 20000 {
@@ -489,7 +438,7 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
     };
     print(&s)?;
     let passes = plan.options.first().is_some_and(|o| o.counts[2] == 0);
-    if let (Some(out), Some(bars)) = (&a.apply, best_bars(&plan)) {
+    if let (Some(out), Some(bars)) = (&a.apply, plan.best_bars()) {
         let new_text = crate::plan::apply_to_yaml(&text, &line, &bars, &scene)?;
         parse_line(&new_text).map_err(|e| {
             anyhow::Error::new(e).context("internal: the planned line description does not parse")

@@ -100,7 +100,7 @@ pub use finding::{
 };
 pub use profile::{
     Applies, Check, Confidence, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
-    load_profile, parse_profile, shipped, with_air_limit,
+    load_profile, load_profiles, parse_profile, shipped, with_air_limit,
 };
 
 use crate::charge::ChargeProfile;

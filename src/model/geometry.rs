@@ -172,3 +172,17 @@ pub fn meter_geometry(
         [n[0], 0.0, n[1]],
     )
 }
+
+impl super::Line {
+    /// Why a point of this line cannot be evaluated, or `None` when it can
+    /// (see [`point_problem`]).
+    pub fn point_problem(&self, at: [Meters; 3]) -> Option<PointProblem> {
+        point_problem(
+            &self.path,
+            &self.rollers,
+            self.web.width,
+            self.ground_plane,
+            at,
+        )
+    }
+}

@@ -37,6 +37,22 @@ pub struct Candidate {
     pub residual: f64,
 }
 
+impl From<&Eliminator> for Candidate {
+    /// The candidate at an eliminator's place (a candidate list read as
+    /// `eliminators` entries).
+    fn from(e: &Eliminator) -> Self {
+        Candidate {
+            kind: e.kind,
+            span: e.span,
+            along: e.along,
+            side: e.side,
+            distance: e.distance,
+            efficiency: e.efficiency,
+            residual: e.residual,
+        }
+    }
+}
+
 impl Candidate {
     /// The eliminator this candidate places, with an id.
     pub fn eliminator(&self, line: &Line, id: &str) -> Eliminator {

@@ -136,6 +136,28 @@ pub struct Plan {
     pub outcome: PlanOutcome,
 }
 
+impl Plan {
+    /// The bars of the best plan, if there is one.
+    pub fn best_bars(&self) -> Option<Vec<Candidate>> {
+        let best = self.options.first()?;
+        Some(
+            best.bars
+                .iter()
+                .map(|&b| self.candidates[b].clone())
+                .collect(),
+        )
+    }
+
+    /// The line with the best plan's bars placed (readings converted to
+    /// charge entries, as the planner worked), if there is a best plan.
+    pub fn placed_line(&self, line: &Line, scene: &Scene) -> Result<Option<Line>, PlanError> {
+        match self.best_bars() {
+            Some(bars) => Ok(Some(apply(&planning_line(line, scene)?, &bars))),
+            None => Ok(None),
+        }
+    }
+}
+
 /// What the search found, for the words in `report::plan_words`.
 #[derive(Debug, Clone, PartialEq)]
 pub enum PlanOutcome {
@@ -182,15 +204,6 @@ pub enum PlanError {
         "no candidate position for a bar: every span is too short or too close to its rollers for a bar at this distance: lower the bar distance or the candidate spacing, or give a candidate list"
     )]
     NoCandidatePositions,
-}
-
-/// Findings by verdict: pass, warn, fail.
-fn counts(a: &Assessment) -> [usize; 3] {
-    let mut c = [0; 3];
-    for f in &a.findings {
-        c[f.verdict as usize] += 1;
-    }
-    c
 }
 
 /// The full assessment of a line variant (readings, passive onset and
@@ -294,8 +307,8 @@ pub fn plan(
         let a = full_assessment(scene, &placed, profiles)?;
         options.push(PlanOption {
             bars: bars.clone(),
-            counts: counts(&a),
-            worst_margin: a.findings.iter().map(|f| f.margin).fold(0.0, f64::max),
+            counts: a.counts().as_array(),
+            worst_margin: a.worst_margin(),
             assessment: a,
         });
     }

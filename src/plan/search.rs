@@ -13,7 +13,7 @@
 //! combinatorial optimisation).
 
 use super::Candidate;
-use crate::assess::{Assessment, Verdict};
+use crate::assess::Assessment;
 use crate::model::Line;
 use rayon::prelude::*;
 use std::cmp::Ordering;
@@ -73,13 +73,12 @@ pub(super) fn upstream(bars: &[usize], cands: &[Candidate], line: &Line) -> f64 
 
 /// The score of a placement from its full assessment.
 pub(super) fn score(a: &Assessment, bars: &[usize], cands: &[Candidate], line: &Line) -> Score {
-    let fails = a
-        .findings
-        .iter()
-        .filter(|f| f.verdict == Verdict::Fail)
-        .count();
-    let worst = a.findings.iter().map(|f| f.margin).fold(0.0, f64::max);
-    (fails, worst, bars.len(), upstream(bars, cands, line))
+    (
+        a.counts().fail,
+        a.worst_margin(),
+        bars.len(),
+        upstream(bars, cands, line),
+    )
 }
 
 /// Whether `a` ranks before `b`.

@@ -47,5 +47,7 @@ mod validate;
 pub use checked::{
     Applies, Check, Confidence, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
 };
-pub use shipped::{AIR_LIMIT, MAX_PROFILE_BYTES, load_profile, shipped, with_air_limit};
+pub use shipped::{
+    AIR_LIMIT, MAX_PROFILE_BYTES, load_profile, load_profiles, shipped, with_air_limit,
+};
 pub use validate::parse_profile;

@@ -44,6 +44,23 @@ pub fn shipped() -> Vec<(&'static str, &'static str)> {
     ]
 }
 
+/// The profiles a line names (`assess:`) and the `extra` ones (each once,
+/// in that order), with the air limit added ([`with_air_limit`]).
+pub fn load_profiles(names: &[String], extra: &[String]) -> anyhow::Result<Vec<ThresholdProfile>> {
+    use anyhow::Context;
+    let mut all: Vec<&String> = names.iter().collect();
+    for e in extra {
+        if !all.contains(&e) {
+            all.push(e);
+        }
+    }
+    let mut out = Vec::new();
+    for n in all {
+        out.push(load_profile(n).with_context(|| format!("threshold profile \"{n}\""))?);
+    }
+    Ok(with_air_limit(out))
+}
+
 /// Loads a shipped profile by name, or else a profile file by path.
 pub fn load_profile(name_or_path: &str) -> anyhow::Result<ThresholdProfile> {
     use anyhow::Context;
