@@ -545,23 +545,7 @@ pub fn parse_line(text: &str) -> Result<Line, ValidationError> {
 
 /// Reads a line description file as text (size-limited, UTF-8).
 pub fn read_line_text(path: &FsPath) -> anyhow::Result<String> {
-    use anyhow::Context;
-    let meta = std::fs::metadata(path)
-        .with_context(|| format!("reading line description '{}'", path.display()))?;
-    if meta.len() > MAX_FILE_BYTES {
-        anyhow::bail!(
-            "line description '{}' is {} bytes: the limit is {} bytes (a line description is a short YAML file)",
-            path.display(),
-            meta.len(),
-            MAX_FILE_BYTES
-        );
-    }
-    std::fs::read_to_string(path).with_context(|| {
-        format!(
-            "reading line description '{}' (it must be UTF-8 text)",
-            path.display()
-        )
-    })
+    crate::yaml::read_text(path, "line description", MAX_FILE_BYTES)
 }
 
 /// Reads, parses and validates a line description file.

@@ -63,7 +63,6 @@ pub fn load_profiles(names: &[String], extra: &[String]) -> anyhow::Result<Vec<T
 
 /// Loads a shipped profile by name, or else a profile file by path.
 pub fn load_profile(name_or_path: &str) -> anyhow::Result<ThresholdProfile> {
-    use anyhow::Context;
     let list = shipped();
     if let Some((_, text)) = list.iter().find(|(n, _)| *n == name_or_path) {
         return parse_profile(text, "shipped").map_err(|e| problems(name_or_path, &e));
@@ -76,21 +75,7 @@ pub fn load_profile(name_or_path: &str) -> anyhow::Result<ThresholdProfile> {
             names.join(", ")
         );
     }
-    let meta = std::fs::metadata(path)
-        .with_context(|| format!("reading threshold profile '{}'", path.display()))?;
-    if meta.len() > MAX_PROFILE_BYTES {
-        anyhow::bail!(
-            "threshold profile '{}' is {} bytes: the limit is {MAX_PROFILE_BYTES} bytes (a profile is a short YAML file)",
-            path.display(),
-            meta.len()
-        );
-    }
-    let text = std::fs::read_to_string(path).with_context(|| {
-        format!(
-            "reading threshold profile '{}' (it must be UTF-8 text)",
-            path.display()
-        )
-    })?;
+    let text = crate::yaml::read_text(path, "threshold profile", MAX_PROFILE_BYTES)?;
     parse_profile(&text, name_or_path).map_err(|e| problems(name_or_path, &e))
 }
 
