@@ -50,7 +50,7 @@
 //! Robinson, PFFC "Static Beat" 2010 and 2019; NFPA 77 (2000) 5.4.
 
 use crate::charge::{ChargeProfile, SegmentOrigin, charge_profile_with};
-use crate::field::{FieldError, Scene};
+use crate::field::{FieldError, Scene, WebField};
 use crate::model::geometry::meter_geometry;
 use crate::model::{Line, NodeKind, Reading, ReadingValue};
 use crate::physics::AIR_BREAKDOWN_FIELD;
@@ -245,7 +245,7 @@ fn rows(
     unknowns: &[usize],
     distances: &[f64],
     active: &[bool],
-    scene: &Scene,
+    models: &[WebField<'_>],
 ) -> Result<Vec<Row>, FieldError> {
     // A(x) = A0 + Σ_j x_j T_j.
     let zero: Vec<(usize, f64)> = unknowns.iter().map(|&k| (k, 0.0)).collect();
@@ -269,9 +269,6 @@ fn rows(
                 .collect()
         })
         .collect();
-    let models: Vec<_> = (0..base.segments.len())
-        .map(|k| scene.web(&unit_profile(base, k)))
-        .collect();
     let m = line.meter;
     let mut out = Vec::new();
     for (i, r) in line.readings.iter().enumerate() {
@@ -282,7 +279,7 @@ fn rows(
             Some(e) => {
                 let (at, n) = meter_geometry(span, r.along, r.across, distances[i], r.side);
                 let mut g = Vec::with_capacity(models.len());
-                for model in &models {
+                for model in models {
                     let f = model.at(at, false)?;
                     g.push(f.e[0] * n[0] + f.e[1] * n[1] + f.e[2] * n[2]);
                 }
@@ -513,12 +510,18 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
     let singular = |k: usize| ReadingsError::Singular {
         s_start: model.segments[k].s_start,
     };
-    let r0 = rows(line, &model, &unknowns, &d0, &active, scene)?;
+    // The unit-density field of every segment, charged once (with
+    // conductors, each is a back-substitution) and reused at every set of
+    // meter distances.
+    let models: Vec<WebField<'_>> = (0..model.segments.len())
+        .map(|k| scene.web(&unit_profile(&model, k)))
+        .collect();
+    let r0 = rows(line, &model, &unknowns, &d0, &active, &models)?;
     let (x, _) = solve(&r0, n).ok_or_else(|| singular(unknowns[0]))?;
     let mut lo = x.clone();
     let mut hi = x.clone();
     for d in &sets {
-        let rr = rows(line, &model, &unknowns, d, &active, scene)?;
+        let rr = rows(line, &model, &unknowns, d, &active, &models)?;
         let Some((xd, pd)) = solve(&rr, n) else {
             continue;
         };
