@@ -38,6 +38,7 @@
 //! | field strength | V/m | `V/m`, `kV/m`, `MV/m`, `V/mm`, `kV/mm`, `V/cm`, `kV/cm`, `V/in`, `kV/in` |
 //! | voltage | V | `mV`, `V`, `kV`, `MV` |
 //! | capacitance | F | `pF`, `nF`, `uF`, `F` |
+//! | charge | C | `pC`, `nC`, `uC`, `mC`, `C` |
 //! | resistivity | Ω·m | `ohm m`, `ohm cm`, `Ω·m`, `Ω·cm`, ... |
 //! | energy | J | `nJ`, `uJ`, `mJ`, `J` |
 //! | time | s | `ms`, `s`, `min`, `h` |
@@ -88,6 +89,8 @@ pub type CoulombsPerSquareMeter = f64;
 pub type MetersPerSecond = f64;
 /// A capacitance [F].
 pub type Farads = f64;
+/// An electric charge [C].
+pub type Coulombs = f64;
 /// A volume resistivity [Ω·m].
 pub type OhmMeters = f64;
 /// An energy [J].
@@ -118,6 +121,8 @@ pub enum Dim {
     Voltage,
     /// A capacitance [F].
     Capacitance,
+    /// An electric charge [C].
+    Charge,
     /// A volume resistivity [Ω·m].
     Resistivity,
     /// An energy [J].
@@ -131,13 +136,14 @@ pub enum Dim {
 }
 
 /// All dimensions, in the order used to name a wrongly dimensioned unit.
-const ALL_DIMS: [Dim; 11] = [
+const ALL_DIMS: [Dim; 12] = [
     Dim::Length,
     Dim::Speed,
     Dim::SurfaceChargeDensity,
     Dim::Field,
     Dim::Voltage,
     Dim::Capacitance,
+    Dim::Charge,
     Dim::Resistivity,
     Dim::Energy,
     Dim::Time,
@@ -155,6 +161,7 @@ impl Dim {
             Dim::Field => "a field strength",
             Dim::Voltage => "a voltage",
             Dim::Capacitance => "a capacitance",
+            Dim::Charge => "a charge",
             Dim::Resistivity => "a resistivity",
             Dim::Energy => "an energy",
             Dim::Time => "a time",
@@ -172,6 +179,7 @@ impl Dim {
             Dim::Field => "48 kV/m",
             Dim::Voltage => "5 kV",
             Dim::Capacitance => "150 pF",
+            Dim::Charge => "5 nC",
             Dim::Resistivity => "1e15 ohm m",
             Dim::Energy => "0.24 mJ",
             Dim::Time => "400 s",
@@ -190,6 +198,7 @@ impl Dim {
             Dim::Field => "V/m",
             Dim::Voltage => "V",
             Dim::Capacitance => "F",
+            Dim::Charge => "C",
             Dim::Resistivity => "Ω·m",
             Dim::Energy => "J",
             Dim::Time => "s",
@@ -210,6 +219,7 @@ impl Dim {
             Dim::Field => "V/m, kV/m, MV/m, V/mm, kV/mm, V/cm, kV/cm, V/in, kV/in",
             Dim::Voltage => "mV, V, kV, MV",
             Dim::Capacitance => "pF, nF, uF, µF, F",
+            Dim::Charge => "pC, nC, uC, µC, mC, C",
             Dim::Resistivity => "ohm m, ohm cm, Ω·m, Ω·cm",
             Dim::Energy => "nJ, uJ, µJ, mJ, J",
             Dim::Time => "ms, s, min, h",
@@ -227,6 +237,7 @@ impl Dim {
             Dim::Field => FIELD_UNITS,
             Dim::Voltage => VOLTAGE_UNITS,
             Dim::Capacitance => CAPACITANCE_UNITS,
+            Dim::Charge => CHARGE_UNITS,
             Dim::Resistivity => RESISTIVITY_UNITS,
             Dim::Energy => ENERGY_UNITS,
             Dim::Time => TIME_UNITS,
@@ -252,6 +263,7 @@ impl Dim {
             Dim::Field => &[(0, "V/m"), (3, "kV/m"), (6, "MV/m")],
             Dim::Voltage => &[(-3, "mV"), (0, "V"), (3, "kV"), (6, "MV")],
             Dim::Capacitance => &[(-12, "pF"), (-9, "nF"), (-6, "µF"), (0, "F")],
+            Dim::Charge => &[(-12, "pC"), (-9, "nC"), (-6, "µC"), (-3, "mC"), (0, "C")],
             Dim::Resistivity => &[(0, "Ω·m")],
             Dim::Energy => &[(-9, "nJ"), (-6, "µJ"), (-3, "mJ"), (0, "J")],
             Dim::Time => &[(-3, "ms"), (0, "s")],
@@ -328,6 +340,13 @@ const CAPACITANCE_UNITS: &[UnitDef] = &[
     u("uF", 1.0, 1e6),
     u("nF", 1.0, 1e9),
     u("pF", 1.0, 1e12),
+];
+const CHARGE_UNITS: &[UnitDef] = &[
+    u("C", 1.0, 1.0),
+    u("mC", 1.0, 1e3),
+    u("uC", 1.0, 1e6),
+    u("nC", 1.0, 1e9),
+    u("pC", 1.0, 1e12),
 ];
 const RESISTIVITY_UNITS: &[UnitDef] = &[
     u("ohm*m", 1.0, 1.0),
@@ -712,7 +731,7 @@ fn parse_impl(
 }
 
 /// Parse text such as `"25 mm"` as a quantity of dimension `dim` and return its
-/// SI value ([m], [m/s], [C/m²], [V/m], [V], [F], [Ω·m], [J], [s], a fraction
+/// SI value ([m], [m/s], [C/m²], [V/m], [V], [F], [C], [Ω·m], [J], [s], a fraction
 /// for percentages, or the plain number).
 ///
 /// See the [module documentation](crate::units) for the accepted units. A bare
@@ -1034,6 +1053,22 @@ mod tests {
         assert_relative_eq!(p("2 µF", Dim::Capacitance), 2e-6, max_relative = REL);
         assert_relative_eq!(p("10 nF", Dim::Capacitance), 1e-8, max_relative = REL);
         assert_relative_eq!(p("150 pF", Dim::Capacitance), 1.5e-10, max_relative = REL);
+    }
+
+    #[test]
+    fn charge_units() {
+        assert_eq!(p("1 C", Dim::Charge), 1.0);
+        assert_relative_eq!(p("5 nC", Dim::Charge), 5e-9, max_relative = REL);
+        assert_relative_eq!(p("-2 µC", Dim::Charge), -2e-6, max_relative = REL);
+        assert_relative_eq!(p("2 uC", Dim::Charge), 2e-6, max_relative = REL);
+        assert_relative_eq!(p("30 pC", Dim::Charge), 3e-11, max_relative = REL);
+        assert_relative_eq!(p("0.1 mC", Dim::Charge), 1e-4, max_relative = REL);
+        assert_eq!(p("0 nC", Dim::Charge), 0.0);
+        assert_eq!(format_quantity(5e-9, Dim::Charge), "5 nC");
+        // A charge is not a surface charge density, and the other way round.
+        assert!(msg("5 nC", Dim::SurfaceChargeDensity).contains("which is a charge"));
+        assert!(msg("5 nC/m^2", Dim::Charge).contains("which is a surface charge density"));
+        assert!(msg("5 pF", Dim::Charge).contains("which is a capacitance"));
     }
 
     #[test]

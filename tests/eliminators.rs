@@ -16,7 +16,7 @@ fn line(sigma_uc: f64, eliminators: &str) -> Line {
     parse_line(&format!(
         "web: {{width: 1 m, thickness: 30 um, relative_permittivity: 3, relaxation_time: 10 s, speed: 2 m/s}}
 rollers:
-  - {{id: R, center: [4 m, 0.95 m], diameter: 100 mm}}
+  - {{id: R, center: [4 m, 0.95 m], diameter: 100 mm, earthing: grounded}}
 path:
   - point: [0 m, 1 m]
     id: A

@@ -42,7 +42,7 @@ fn assert_tangent(line: &Line) {
 
 #[test]
 fn all_four_wrap_combinations_give_true_tangents() {
-    let rollers = "  - {id: A, center: [0 m, 1 m], diameter: 200 mm}\n  - {id: B, center: [1.5 m, 0.7 m], diameter: 300 mm}";
+    let rollers = "  - {id: A, center: [0 m, 1 m], diameter: 200 mm, earthing: grounded}\n  - {id: B, center: [1.5 m, 0.7 m], diameter: 300 mm, earthing: grounded}";
     for (wa, wb) in [("cw", "cw"), ("ccw", "ccw"), ("cw", "ccw"), ("ccw", "cw")] {
         let path = format!(
             "  - point: [-1 m, 2 m]\n  - {{roller: A, wrap: {wa}}}\n  - {{roller: B, wrap: {wb}}}\n  - point: [3 m, 2 m]"
@@ -91,7 +91,7 @@ fn arc_length_is_continuous_and_sums_spans_and_wraps() {
 #[test]
 fn half_wrap_has_arc_length_pi_r() {
     let line = line_with(
-        "  - {id: A, center: [0 m, 1 m], diameter: 200 mm}",
+        "  - {id: A, center: [0 m, 1 m], diameter: 200 mm, earthing: grounded}",
         "  - point: [-2 m, 1.1 m]\n  - {roller: A, wrap: cw}\n  - point: [-2 m, 0.9 m]",
     )
     .unwrap();
@@ -103,7 +103,7 @@ fn half_wrap_has_arc_length_pi_r() {
 #[test]
 fn point_to_roller_tangent_length_is_sqrt_of_d2_minus_r2() {
     let line = line_with(
-        "  - {id: A, center: [1 m, 0.5 m], diameter: 1 m}",
+        "  - {id: A, center: [1 m, 0.5 m], diameter: 1 m, earthing: grounded}",
         "  - point: [0 m, 1.5 m]\n  - {roller: A, wrap: ccw}",
     )
     .unwrap();
@@ -126,37 +126,37 @@ fn invalid_geometries_are_refused() {
     let cases = [
         // overlapping rollers
         (
-            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm}\n  - {id: B, center: [0.15 m, 1 m], diameter: 200 mm}",
+            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm, earthing: grounded}\n  - {id: B, center: [0.15 m, 1 m], diameter: 200 mm, earthing: grounded}",
             "  - {roller: A, wrap: cw}\n  - {roller: B, wrap: cw}",
             "overlaps roller A",
         ),
         // crossed tangent between touching rollers
         (
-            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm}\n  - {id: B, center: [0.2 m, 1 m], diameter: 200 mm}",
+            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm, earthing: grounded}\n  - {id: B, center: [0.2 m, 1 m], diameter: 200 mm, earthing: grounded}",
             "  - {roller: A, wrap: cw}\n  - {roller: B, wrap: ccw}",
             "no web span",
         ),
         // a point inside the roller it should touch
         (
-            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm}",
+            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm, earthing: grounded}",
             "  - point: [0.05 m, 1 m]\n  - {roller: A, wrap: cw}",
             "inside roller A",
         ),
         // two coincident points: zero length
         (
-            "  - {id: A, center: [5 m, 1 m], diameter: 200 mm}",
+            "  - {id: A, center: [5 m, 1 m], diameter: 200 mm, earthing: grounded}",
             "  - point: [0 m, 1 m]\n  - point: [0 m, 1 m]",
             "coincide",
         ),
         // unknown roller
         (
-            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm}",
+            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm, earthing: grounded}",
             "  - point: [-1 m, 1 m]\n  - {roller: Z, wrap: cw}",
             "unknown roller \"Z\"",
         ),
         // fewer than two nodes
         (
-            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm}",
+            "  - {id: A, center: [0 m, 1 m], diameter: 200 mm, earthing: grounded}",
             "  - {roller: A, wrap: cw}",
             "at least two",
         ),
@@ -170,7 +170,7 @@ fn invalid_geometries_are_refused() {
 #[test]
 fn a_span_through_another_roller_is_warned_about() {
     let line = line_with(
-        "  - {id: A, center: [0 m, 1 m], diameter: 200 mm}\n  - {id: B, center: [2 m, 1 m], diameter: 200 mm}\n  - {id: C, center: [1 m, 1.1 m], diameter: 200 mm}",
+        "  - {id: A, center: [0 m, 1 m], diameter: 200 mm, earthing: grounded}\n  - {id: B, center: [2 m, 1 m], diameter: 200 mm, earthing: grounded}\n  - {id: C, center: [1 m, 1.1 m], diameter: 200 mm, earthing: grounded}",
         "  - {roller: A, wrap: cw}\n  - {roller: B, wrap: cw}",
     )
     .unwrap();

@@ -118,7 +118,7 @@ fn potential_is_zero_on_the_ground_plane() {
 fn ground_plane_equals_explicit_mirror_line() {
     let src = |ground: &str, z: &dyn Fn(f64) -> f64, wrap: &str, sigma: &str| {
         parse_line(&format!(
-            "{}{ground}rollers:\n  - {{id: A, center: [1 m, {} m], diameter: 200 mm}}\npath:\n  - point: [0 m, {} m]\n    id: IN\n  - {{roller: A, wrap: {wrap}}}\n  - point: [2 m, {} m]\n    id: OUT\nacross_profile: {{shape: tilt, k: 0.3}}\ncharge:\n  - at: start\n    sigma: {sigma}\n",
+            "{}{ground}rollers:\n  - {{id: A, center: [1 m, {} m], diameter: 200 mm, earthing: grounded}}\npath:\n  - point: [0 m, {} m]\n    id: IN\n  - {{roller: A, wrap: {wrap}}}\n  - point: [2 m, {} m]\n    id: OUT\nacross_profile: {{shape: tilt, k: 0.3}}\ncharge:\n  - at: start\n    sigma: {sigma}\n",
             web("relaxation_time: 2 s,"),
             z(1.0),
             z(1.4),

@@ -48,7 +48,7 @@ use integrate::KernelError;
 pub const ASSUMPTIONS: &[&str] = &[
     "the web is a thin charged sheet in free space: its own permittivity and the charge induced on rollers and frames are not modelled (except the grounded plane, by images)",
     "only the straight spans are integrated; the charge on the wrap arcs (in contact with the rollers) is not",
-    "rollers are taken to be as long as the web is wide and do not screen the field",
+    "rollers and the line's other conductors do not yet screen the field: the charge induced on them is not computed (only the grounded plane's, by images)",
 ];
 
 /// Checked settings of the solver.

@@ -3,7 +3,8 @@
 //! Geometry shared by the validator, the solver, the readings stage, the
 //! assessment and the planner: the distance from a point to a span's charged
 //! rectangle, the position and normal of a meter (or an eliminator's tips)
-//! held at a distance from a span, and why a point cannot be evaluated.
+//! held at a distance from a span, and why a point cannot be evaluated (on
+//! the web, inside a roller or another conductor, below the ground plane).
 //!
 //! A span runs from `start` [m] (side view, x–z) along the unit direction
 //! **d** for its length L [m]; the charged rectangle is 0 ≤ u ≤ L,
@@ -12,6 +13,7 @@
 //! √(Δu² + Δy² + h²) with Δu, Δy the overshoots beyond the rectangle's edges.
 
 use super::Side;
+use super::conductor::{Conductor, ConductorKind};
 use super::path::{Roller, Span, WebPath};
 use crate::units::Meters;
 use std::fmt;
@@ -77,6 +79,13 @@ pub enum PointProblem {
         /// The roller's id.
         roller: String,
     },
+    /// Inside (for a plate: on) a conductor of the `conductors:` list.
+    InsideConductor {
+        /// The conductor's id.
+        conductor: String,
+        /// Its shape as described.
+        kind: ConductorKind,
+    },
     /// On (within [`MIN_POINT_DISTANCE`] of) a span.
     OnWeb {
         /// Distance to the span [m].
@@ -95,8 +104,23 @@ impl fmt::Display for PointProblem {
             ),
             PointProblem::InsideRoller { roller } => write!(
                 f,
-                "the point lies inside roller {roller} (rollers are taken to be as long as the web is wide): move it outside"
+                "the point lies inside roller {roller} (a roller is as long as its `length:`, by default the web width + 0.2 m, centred on the web): move it outside"
             ),
+            PointProblem::InsideConductor { conductor, kind } => match kind {
+                ConductorKind::Plate => write!(
+                    f,
+                    "the point lies on plate {conductor} (closer than 1 µm): move it off the plate"
+                ),
+                ConductorKind::Person => write!(
+                    f,
+                    "the point lies inside person {conductor} (a vertical cylinder of the person's width and height): move it outside, or drop the point and let the person stand for it"
+                ),
+                _ => write!(
+                    f,
+                    "the point lies inside conductor {conductor} (a {}): move it outside",
+                    kind.text()
+                ),
+            },
             PointProblem::OnWeb { distance, span } => write!(
                 f,
                 "the point is {distance:.2e} m from span {span}, i.e. on the web: points must be at least 1 µm away (the field is discontinuous at a charged sheet)"
@@ -106,10 +130,26 @@ impl fmt::Display for PointProblem {
 }
 
 /// Why a point cannot be evaluated (on the web, inside a roller, below the
-/// ground plane), or `None` when it can.
+/// ground plane), or `None` when it can. Conductors of the `conductors:`
+/// list are not looked at: use [`point_problem_in`] or
+/// [`Line::point_problem`](super::Line::point_problem) for the whole line.
 pub fn point_problem(
     path: &WebPath,
     rollers: &[Roller],
+    width: Meters,
+    ground: Option<Meters>,
+    at: [Meters; 3],
+) -> Option<PointProblem> {
+    point_problem_in(path, rollers, &[], width, ground, at)
+}
+
+/// Why a point cannot be evaluated (below the ground plane, inside a roller,
+/// inside a conductor, on the web: the first that applies), or `None` when
+/// it can.
+pub fn point_problem_in(
+    path: &WebPath,
+    rollers: &[Roller],
+    conductors: &[Conductor],
     width: Meters,
     ground: Option<Meters>,
     at: [Meters; 3],
@@ -124,9 +164,17 @@ pub fn point_problem(
     }
     for r in rollers {
         let d = (at[0] - r.center[0]).hypot(at[2] - r.center[1]);
-        if d < r.radius && at[1].abs() <= width / 2.0 {
+        if d < r.radius && at[1].abs() <= r.length / 2.0 {
             return Some(PointProblem::InsideRoller {
                 roller: r.id.clone(),
+            });
+        }
+    }
+    for c in conductors {
+        if c.shape.contains(at) {
+            return Some(PointProblem::InsideConductor {
+                conductor: c.id.clone(),
+                kind: c.kind,
             });
         }
     }
@@ -171,18 +219,4 @@ pub fn meter_geometry(
         [foot[0] + distance * n[0], across, foot[1] + distance * n[1]],
         [n[0], 0.0, n[1]],
     )
-}
-
-impl super::Line {
-    /// Why a point of this line cannot be evaluated, or `None` when it can
-    /// (see [`point_problem`]).
-    pub fn point_problem(&self, at: [Meters; 3]) -> Option<PointProblem> {
-        point_problem(
-            &self.path,
-            &self.rollers,
-            self.web.width,
-            self.ground_plane,
-            at,
-        )
-    }
 }

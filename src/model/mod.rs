@@ -6,11 +6,14 @@
 //! library can be swapped in one place.
 
 pub mod charge;
+pub mod conductor;
+pub mod convex;
 pub mod geometry;
 pub mod path;
 pub mod raw;
 pub mod validate;
 
+pub use conductor::{Conductor, ConductorEarthing, ConductorKind, ConductorShape};
 pub use path::{Earthing, NodeKind, NodeSpec, Roller, Span, WebPath, Wrap, WrapArc};
 
 use crate::units::{
@@ -533,8 +536,31 @@ pub struct Line {
     pub meter: MeterSpec,
     /// Static eliminators, in path order.
     pub eliminators: Vec<Eliminator>,
+    /// Conductors other than rollers (plates, boxes, cylinders, people).
+    pub conductors: Vec<Conductor>,
     /// Problems that are not fatal, to show the user and list in reports.
     pub warnings: Vec<Issue>,
+}
+
+impl Line {
+    /// Why the point `at` = [x, y, z] [m] cannot be evaluated on this line
+    /// (below the ground plane, inside a roller or another conductor, on the
+    /// web), or `None` when it can.
+    pub fn point_problem(&self, at: [Meters; 3]) -> Option<geometry::PointProblem> {
+        geometry::point_problem_in(
+            &self.path,
+            &self.rollers,
+            &self.conductors,
+            self.web.width,
+            self.ground_plane,
+            at,
+        )
+    }
+
+    /// The floor a person stands on: the ground plane, or z = 0 without one [m].
+    pub fn floor(&self) -> Meters {
+        self.ground_plane.unwrap_or(0.0)
+    }
 }
 
 /// Parses and validates a line description from YAML text.

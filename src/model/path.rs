@@ -37,8 +37,8 @@
 //! swept in that direction, and the arc length is r·φ.
 //!
 //! Assumptions: the web is thin (its thickness is ignored in the geometry) and
-//! flat across its width; rollers are straight cylinders at least as long as
-//! the web is wide.
+//! flat across its width; rollers are straight cylinders, centred on the web's
+//! centreline and at least as long as the web is wide.
 //!
 //! ## Reference
 //! Elementary plane geometry of common tangents to two circles (e.g. any
@@ -46,6 +46,10 @@
 
 use crate::units::Meters;
 use std::f64::consts::TAU;
+
+/// A roller without `length:` is this much longer than the web is wide [m]
+/// (0.1 m beyond each edge; an assumption, stated in the outputs).
+pub const ROLLER_LENGTH_MARGIN: Meters = 0.2;
 
 /// Shortest span accepted [m]; shorter spans are refused as "zero length".
 pub const MIN_SPAN_LENGTH: Meters = 1e-6;
@@ -109,6 +113,11 @@ pub struct Roller {
     pub radius: Meters,
     /// Connection to earth.
     pub earthing: Earthing,
+    /// Length along its axis (ŷ), centred on the web's centreline [m].
+    pub length: Meters,
+    /// Whether `length` is the default (web width + [`ROLLER_LENGTH_MARGIN`])
+    /// rather than given, so that outputs can say so.
+    pub length_defaulted: bool,
 }
 
 /// What a path node is.
@@ -443,6 +452,8 @@ mod tests {
             center: [x, z],
             radius: r,
             earthing: Earthing::Grounded,
+            length: 1.0,
+            length_defaulted: false,
         }
     }
 

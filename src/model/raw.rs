@@ -92,6 +92,94 @@ pub struct RawLine {
     /// Static eliminators.
     #[serde(default)]
     pub eliminators: Vec<RawEliminator>,
+    /// Conductors other than rollers.
+    #[serde(default)]
+    pub conductors: Vec<RawConductor>,
+}
+
+/// `conductors[i]`: the keys of every shape; the validator checks which
+/// belong to the shape given.
+#[derive(Debug, Clone, Deserialize, Default)]
+#[serde(deny_unknown_fields)]
+pub struct RawConductor {
+    /// Identifier.
+    pub id: Option<Scalar>,
+    /// plate | box | cylinder | person
+    pub shape: Option<Scalar>,
+    /// grounded | isolated
+    pub earthing: Option<Scalar>,
+    /// Net charge of an isolated conductor, a charge.
+    pub charge: Option<Scalar>,
+    /// Lumped capacitance to ground of an isolated conductor.
+    pub capacitance_to_ground: Option<Scalar>,
+    /// Plate or box: one corner `[x, y, z]`.
+    pub from: Option<Vec<Scalar>>,
+    /// Plate or box: the opposite corner `[x, y, z]`.
+    pub to: Option<Vec<Scalar>>,
+    /// Plate: a corner `[x, y, z]`.
+    pub corner: Option<Vec<Scalar>>,
+    /// Plate: the first edge vector `[x, y, z]` (lengths).
+    pub edge1: Option<Vec<Scalar>>,
+    /// Plate: the second edge vector `[x, y, z]` (lengths).
+    pub edge2: Option<Vec<Scalar>>,
+    /// Cylinder: centre `[x, y, z]`.
+    pub center: Option<Vec<Scalar>>,
+    /// Cylinder: `x`, `y`, `z` or a direction `[a, b, c]`.
+    pub axis: Option<RawAxis>,
+    /// Cylinder: a length.
+    pub radius: Option<Scalar>,
+    /// Cylinder: a length along the axis.
+    pub length: Option<Scalar>,
+    /// Person: `[x, y]` on the floor.
+    pub at: Option<Vec<Scalar>>,
+    /// Person: a length (default 1.75 m).
+    pub height: Option<Scalar>,
+    /// Person: a length (default 0.3 m).
+    pub width: Option<Scalar>,
+}
+
+/// `conductors[i].axis`: a name (`x`, `y`, `z`) or a direction `[a, b, c]`.
+#[derive(Debug, Clone, PartialEq)]
+pub enum RawAxis {
+    /// A single value such as `z`.
+    Name(Scalar),
+    /// A list of values such as `[0, 0, 1]`.
+    Vector(Vec<Scalar>),
+}
+
+impl<'de> Deserialize<'de> for RawAxis {
+    fn deserialize<D: Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct AxisVisitor;
+        impl<'de> Visitor<'de> for AxisVisitor {
+            type Value = RawAxis;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("an axis such as `z` or a direction such as [0, 0, 1]")
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<RawAxis, E> {
+                Ok(RawAxis::Name(Scalar(v.to_string())))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<RawAxis, E> {
+                Ok(RawAxis::Name(Scalar(v.to_string())))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<RawAxis, E> {
+                Ok(RawAxis::Name(Scalar(v.to_string())))
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<RawAxis, E> {
+                Ok(RawAxis::Name(Scalar(format!("{v:?}"))))
+            }
+            fn visit_bool<E: de::Error>(self, v: bool) -> Result<RawAxis, E> {
+                Ok(RawAxis::Name(Scalar(v.to_string())))
+            }
+            fn visit_seq<A: de::SeqAccess<'de>>(self, mut seq: A) -> Result<RawAxis, A::Error> {
+                let mut out = Vec::new();
+                while let Some(x) = seq.next_element::<Scalar>()? {
+                    out.push(x);
+                }
+                Ok(RawAxis::Vector(out))
+            }
+        }
+        deserializer.deserialize_any(AxisVisitor)
+    }
 }
 
 /// `eliminators[i]`
@@ -193,6 +281,8 @@ pub struct RawRoller {
     pub diameter: Option<Scalar>,
     /// grounded | isolated | insulating
     pub earthing: Option<Scalar>,
+    /// A length along the roller's axis (default: web width + 0.2 m).
+    pub length: Option<Scalar>,
 }
 
 /// `path[i]`: either `point:` (with optional `id:`) or `roller:` with `wrap:`.

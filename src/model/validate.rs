@@ -3,10 +3,14 @@
 //! Checks every value and every reference, collecting *all* problems with
 //! their YAML path (`rollers[2].diameter: expected a length such as "120 mm",
 //! got "120"`) instead of stopping at the first. Suspicious but possible input
-//! becomes a warning kept in `Line::warnings`.
+//! becomes a warning kept in `Line::warnings`. The `conductors:` list is
+//! checked in `validate/conductors.rs`.
 
-use super::geometry::{meter_geometry, point_problem};
-use super::path::{self, Earthing, NodeKind, NodeSpec, Roller, Wrap};
+mod conductors;
+
+use super::conductor::Conductor;
+use super::geometry::{meter_geometry, point_problem_in};
+use super::path::{self, Earthing, NodeKind, NodeSpec, ROLLER_LENGTH_MARGIN, Roller, Wrap};
 use super::raw::{RawLine, Scalar};
 use super::*;
 use crate::physics::isolated_sheet_limit;
@@ -153,7 +157,7 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
         .ground_plane
         .as_ref()
         .and_then(|g| ctx.qty(g, Dim::Length, "ground_plane"));
-    let rollers = validate_rollers(&mut ctx, raw, ground_plane);
+    let rollers = validate_rollers(&mut ctx, raw, ground_plane, web.as_ref().map(|w| w.width));
     let nodes = validate_nodes(&mut ctx, raw, &rollers);
     let across = web
         .as_ref()
@@ -175,12 +179,39 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
     };
     check_spans(&mut ctx, &path, &rollers, ground_plane);
     let charge = validate_charge(&mut ctx, raw, &path, &web, &across);
-    let points = validate_points(&mut ctx, raw, &path, &rollers, &web, ground_plane);
+    let conductors =
+        conductors::validate_conductors(&mut ctx, raw, &path, &rollers, &web, ground_plane);
+    let scene = Obstacles {
+        path: &path,
+        rollers: &rollers,
+        conductors: &conductors,
+        web: &web,
+        ground: ground_plane,
+    };
+    let points = validate_points(&mut ctx, raw, &scene);
     let zones = validate_zones(&mut ctx, raw, &points, &rollers, &path);
     let assess = validate_assess(&mut ctx, raw);
     let meter = validate_meter(&mut ctx, raw);
-    let readings = validate_readings(&mut ctx, raw, &path, &rollers, &web, ground_plane);
-    let eliminators = validate_eliminators(&mut ctx, raw, &path, &rollers, &web, ground_plane);
+    let readings = validate_readings(&mut ctx, raw, &scene);
+    let eliminators = validate_eliminators(&mut ctx, raw, &scene);
+    conductors::check_ids(
+        &mut ctx,
+        &conductors,
+        &[
+            ("roller", rollers.iter().map(|r| r.id.as_str()).collect()),
+            (
+                "path node",
+                path.nodes.iter().filter_map(|n| n.id.as_deref()).collect(),
+            ),
+            ("point", points.iter().map(|x| x.id.as_str()).collect()),
+            ("zone", zones.iter().map(|x| x.id.as_str()).collect()),
+            ("reading", readings.iter().map(|x| x.id.as_str()).collect()),
+            (
+                "eliminator",
+                eliminators.iter().map(|x| x.id.as_str()).collect(),
+            ),
+        ],
+    );
 
     if !ctx.issues.is_empty() {
         return Err(ValidationError { issues: ctx.issues });
@@ -199,8 +230,32 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
         readings,
         meter,
         eliminators,
+        conductors,
         warnings: ctx.warnings,
     })
+}
+
+/// What a place of interest must stay clear of: the web, the rollers, the
+/// other conductors and the ground.
+struct Obstacles<'a> {
+    path: &'a WebPath,
+    rollers: &'a [Roller],
+    conductors: &'a [Conductor],
+    web: &'a Web,
+    ground: Option<f64>,
+}
+
+impl Obstacles<'_> {
+    fn problem(&self, at: [f64; 3]) -> Option<super::geometry::PointProblem> {
+        point_problem_in(
+            self.path,
+            self.rollers,
+            self.conductors,
+            self.web.width,
+            self.ground,
+            at,
+        )
+    }
 }
 
 fn validate_web(ctx: &mut Ctx, raw: &RawLine) -> Option<Web> {
@@ -313,7 +368,15 @@ impl Ctx {
     }
 }
 
-fn validate_rollers(ctx: &mut Ctx, raw: &RawLine, ground: Option<f64>) -> Option<Vec<Roller>> {
+/// Why a roller's earthing has no default, for the message when it is missing.
+pub const ROLLER_EARTHING_MISSING: &str = "missing: expected grounded | isolated | insulating (there is no safe default: taking the roller as grounded would hide the spark hazard of an isolated one and invent screening by an insulating one; taking it as insulating would drop the screening of a grounded one)";
+
+fn validate_rollers(
+    ctx: &mut Ctx,
+    raw: &RawLine,
+    ground: Option<f64>,
+    web_width: Option<f64>,
+) -> Option<Vec<Roller>> {
     let before = ctx.issues.len();
     let mut out: Vec<Roller> = Vec::new();
     for (i, r) in raw.rollers.iter().enumerate() {
@@ -327,11 +390,8 @@ fn validate_rollers(ctx: &mut Ctx, raw: &RawLine, ground: Option<f64>) -> Option
         let d = ctx.req_qty(&r.diameter, Dim::Length, &format!("{p}.diameter"));
         let d = ctx.positive(d, Dim::Length, &format!("{p}.diameter"));
         let earthing = if r.earthing.is_none() {
-            ctx.warn(
-                format!("{p}.earthing"),
-                "not given: taken as grounded (say grounded, isolated or insulating)",
-            );
-            Some("grounded")
+            ctx.err(format!("{p}.earthing"), ROLLER_EARTHING_MISSING);
+            None
         } else {
             keyword(
                 ctx,
@@ -339,6 +399,33 @@ fn validate_rollers(ctx: &mut Ctx, raw: &RawLine, ground: Option<f64>) -> Option
                 &format!("{p}.earthing"),
                 &["grounded", "isolated", "insulating"],
             )
+        };
+        // Without a valid web the line is refused anyway (reported at `web`);
+        // the margin alone stands in for the default so that the other
+        // checks still run.
+        let default_length = web_width.unwrap_or(0.0) + ROLLER_LENGTH_MARGIN;
+        let length = match &r.length {
+            None => Some((default_length, true)),
+            Some(v) => {
+                let path = format!("{p}.length");
+                let l = ctx.qty(v, Dim::Length, &path);
+                let l = ctx.positive(l, Dim::Length, &path);
+                match (l, web_width) {
+                    (Some(l), Some(w)) if l < w => {
+                        ctx.err(
+                            path,
+                            format!(
+                                "{} is shorter than the web is wide ({}): a roller carries the whole width of the web (the wrap arcs assume it); expected at least {}",
+                                crate::units::format_quantity(l, Dim::Length),
+                                crate::units::format_quantity(w, Dim::Length),
+                                crate::units::format_quantity(w, Dim::Length)
+                            ),
+                        );
+                        None
+                    }
+                    (l, _) => l.map(|l| (l, false)),
+                }
+            }
         };
         if let Some(id) = &id
             && out.iter().any(|o| &o.id == id)
@@ -348,7 +435,9 @@ fn validate_rollers(ctx: &mut Ctx, raw: &RawLine, ground: Option<f64>) -> Option
                 format!("duplicate roller id \"{id}\": every roller needs its own id"),
             );
         }
-        if let (Some(id), Some(center), Some(d), Some(e)) = (id, center, d, earthing) {
+        if let (Some(id), Some(center), Some(d), Some(e), Some((length, length_defaulted))) =
+            (id, center, d, earthing, length)
+        {
             let earthing = match e {
                 "isolated" => Earthing::Isolated,
                 "insulating" => Earthing::Insulating,
@@ -382,6 +471,8 @@ fn validate_rollers(ctx: &mut Ctx, raw: &RawLine, ground: Option<f64>) -> Option
                 center,
                 radius,
                 earthing,
+                length,
+                length_defaulted,
             });
         }
     }
@@ -746,14 +837,7 @@ fn validate_charge(
     out
 }
 
-fn validate_points(
-    ctx: &mut Ctx,
-    raw: &RawLine,
-    path: &WebPath,
-    rollers: &[Roller],
-    web: &Web,
-    ground: Option<f64>,
-) -> Vec<Point> {
+fn validate_points(ctx: &mut Ctx, raw: &RawLine, scene: &Obstacles) -> Vec<Point> {
     let mut out: Vec<Point> = Vec::new();
     for (i, q) in raw.points.iter().enumerate() {
         let p = format!("points[{i}]");
@@ -777,7 +861,7 @@ fn validate_points(
         let (Some(id), Some(kind), Some(at)) = (id, kind, at) else {
             continue;
         };
-        if let Some(msg) = point_problem(path, rollers, web.width, ground, at) {
+        if let Some(msg) = scene.problem(at) {
             ctx.err(format!("{p}.at"), msg.to_string());
             continue;
         }
@@ -977,14 +1061,8 @@ fn validate_meter(ctx: &mut Ctx, raw: &RawLine) -> MeterSpec {
     m
 }
 
-fn validate_readings(
-    ctx: &mut Ctx,
-    raw: &RawLine,
-    path: &WebPath,
-    rollers: &[Roller],
-    web: &Web,
-    ground: Option<f64>,
-) -> Vec<Reading> {
+fn validate_readings(ctx: &mut Ctx, raw: &RawLine, scene: &Obstacles) -> Vec<Reading> {
+    let (path, web) = (scene.path, scene.web);
     let mut out: Vec<Reading> = Vec::new();
     for (i, r) in raw.readings.iter().enumerate() {
         let p = format!("readings[{i}]");
@@ -1070,7 +1148,7 @@ fn validate_readings(
             continue;
         };
         let (at, _) = meter_geometry(&path.spans[span], along, across, distance, side);
-        if let Some(msg) = point_problem(path, rollers, web.width, ground, at) {
+        if let Some(msg) = scene.problem(at) {
             ctx.err(
                 format!("{p}.distance"),
                 format!(
@@ -1177,14 +1255,14 @@ pub fn validate_eliminator_list(
             .collect(),
         ..RawLine::default()
     };
-    let out = validate_eliminators(
-        &mut ctx,
-        &raw,
-        &line.path,
-        &line.rollers,
-        &line.web,
-        line.ground_plane,
-    );
+    let scene = Obstacles {
+        path: &line.path,
+        rollers: &line.rollers,
+        conductors: &line.conductors,
+        web: &line.web,
+        ground: line.ground_plane,
+    };
+    let out = validate_eliminators(&mut ctx, &raw, &scene);
     if ctx.issues.is_empty() {
         Ok(out)
     } else {
@@ -1192,14 +1270,8 @@ pub fn validate_eliminator_list(
     }
 }
 
-fn validate_eliminators(
-    ctx: &mut Ctx,
-    raw: &RawLine,
-    path: &WebPath,
-    rollers: &[Roller],
-    web: &Web,
-    ground: Option<f64>,
-) -> Vec<Eliminator> {
+fn validate_eliminators(ctx: &mut Ctx, raw: &RawLine, scene: &Obstacles) -> Vec<Eliminator> {
+    let path = scene.path;
     let mut out: Vec<Eliminator> = Vec::new();
     for (i, e) in raw.eliminators.iter().enumerate() {
         let p = format!("eliminators[{i}]");
@@ -1290,7 +1362,7 @@ fn validate_eliminators(
             continue;
         }
         let (at, _) = meter_geometry(&path.spans[span], along, 0.0, distance, side);
-        if let Some(msg) = point_problem(path, rollers, web.width, ground, at) {
+        if let Some(msg) = scene.problem(at) {
             ctx.err(
                 format!("{p}.distance"),
                 format!(

@@ -10,7 +10,7 @@
 //! below the ground plane.
 
 use super::PlanSettings;
-use crate::model::geometry::{meter_geometry, point_problem};
+use crate::model::geometry::meter_geometry;
 use crate::model::{Earthing, Eliminator, EliminatorKind, Line, NodeKind, Side};
 use crate::model::{
     PASSIVE_EFFICIENCY, PASSIVE_ONSET_VOLTAGE, PASSIVE_RESIDUAL, POWERED_EFFICIENCY,
@@ -112,15 +112,7 @@ pub fn candidates(line: &Line, st: &PlanSettings) -> Vec<Candidate> {
             }
             for side in [Side::Above, Side::Below] {
                 let (at, _) = meter_geometry(span, along, 0.0, st.distance, side);
-                if point_problem(
-                    &line.path,
-                    &line.rollers,
-                    line.web.width,
-                    line.ground_plane,
-                    at,
-                )
-                .is_some()
-                {
+                if line.point_problem(at).is_some() {
                     continue;
                 }
                 out.push(Candidate {

@@ -51,6 +51,25 @@ pub fn summary(line: &Line, charge: &ChargeProfile) -> String {
         )),
         None => s.push_str("ground plane: none (potentials relative to zero at infinity)\n"),
     }
+    let defaulted: Vec<&str> = line
+        .rollers
+        .iter()
+        .filter(|r| r.length_defaulted)
+        .map(|r| r.id.as_str())
+        .collect();
+    if !defaulted.is_empty() {
+        s.push_str(&format!(
+            "roller length: web width + 0.2 m = {} (not given) for {}\n",
+            format_quantity(
+                line.web.width + crate::model::path::ROLLER_LENGTH_MARGIN,
+                Dim::Length
+            ),
+            defaulted.join(", ")
+        ));
+    }
+    for c in &line.conductors {
+        s.push_str(&conductor_summary(c));
+    }
     s.push_str(&format!(
         "path: {} nodes, {} spans, {} wrap arcs, {} long\n",
         line.path.nodes.len(),
@@ -142,4 +161,70 @@ pub fn demo_text(line: &Line, charge: &ChargeProfile, readings: &ReadingsResult)
         s.push_str(&text::readings_table(readings));
     }
     s
+}
+
+/// One conductor in words: its shape, size and earthing.
+fn conductor_summary(c: &crate::model::Conductor) -> String {
+    use crate::model::{ConductorEarthing, ConductorKind, ConductorShape};
+    let len = |x: f64| format_quantity(x, Dim::Length);
+    let norm = |v: [f64; 3]| (v[0] * v[0] + v[1] * v[1] + v[2] * v[2]).sqrt();
+    let shape = match (c.kind, c.shape) {
+        (
+            ConductorKind::Person,
+            ConductorShape::Cylinder {
+                center,
+                radius,
+                length,
+                ..
+            },
+        ) => format!(
+            "person at [{}, {}], a vertical cylinder {} high and {} wide on the floor",
+            len(center[0]),
+            len(center[1]),
+            len(length),
+            len(2.0 * radius)
+        ),
+        (_, ConductorShape::Plate { origin, e1, e2 }) => format!(
+            "plate {} × {} from [{}, {}, {}]",
+            len(norm(e1)),
+            len(norm(e2)),
+            len(origin[0]),
+            len(origin[1]),
+            len(origin[2])
+        ),
+        (_, ConductorShape::Box { min, max }) => format!(
+            "box {} × {} × {}",
+            len(max[0] - min[0]),
+            len(max[1] - min[1]),
+            len(max[2] - min[2])
+        ),
+        (_, ConductorShape::Cylinder { radius, length, .. }) => format!(
+            "cylinder {} long, {} in diameter",
+            len(length),
+            len(2.0 * radius)
+        ),
+    };
+    let earthing = match c.earthing {
+        ConductorEarthing::Grounded => "grounded".to_string(),
+        ConductorEarthing::Isolated {
+            charge,
+            capacitance_to_ground,
+            capacitance_defaulted,
+        } => format!(
+            "isolated, net charge {}{}",
+            format_quantity(charge, Dim::Charge),
+            match capacitance_to_ground {
+                Some(cg) if capacitance_defaulted => format!(
+                    ", {} feet-to-floor (assumed default)",
+                    format_quantity(cg, Dim::Capacitance)
+                ),
+                Some(cg) => format!(
+                    ", {} lumped to ground",
+                    format_quantity(cg, Dim::Capacitance)
+                ),
+                None => String::new(),
+            }
+        ),
+    };
+    format!("conductor: {} {shape}, {earthing}\n", c.id)
 }
