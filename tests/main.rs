@@ -1,6 +1,7 @@
 //! The one integration-test binary: every test module is compiled here.
 //!
 //! - `analytic`: the field solver against closed forms and published results;
+//! - `bem`: the conductor solve against published capacitances and image solutions;
 //! - `assess`: threshold profiles and the rules applied to small lines;
 //! - `reports`: writer snapshots, the HTML, PNGs, folders, `assess` exit codes;
 //! - `solver`: path-level physics (superposition, images, symmetry);
@@ -11,6 +12,7 @@
 
 mod analytic;
 mod assess;
+mod bem;
 mod cli;
 mod eliminators;
 mod geometry;

@@ -35,8 +35,10 @@
 //! Coulomb's law and superposition; the method of images for a grounded plane
 //! (D. J. Griffiths, *Introduction to Electrodynamics*, 4th ed., §2.1 and §3.2).
 
+pub mod bem;
 pub mod integrate;
 pub mod kernels;
+pub mod panels;
 pub mod scene;
 
 pub use scene::{Scene, WebField};

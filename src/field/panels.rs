@@ -1,0 +1,532 @@
+//! # Meshing conductor surfaces into flat rectangular panels
+//!
+//! Field stage, conductor part: turns the plain geometry of a conductor
+//! ([`Shape`]) into flat rectangular panels for the boundary-element solve in
+//! [`super::bem`]. Each panel carries one unknown, constant surface charge
+//! density; its influence anywhere is the exact closed form of
+//! [`super::kernels::rectangle_geometry`], so the only discretisation errors
+//! are the constant density per panel and, for a cylinder, the facets.
+//!
+//! ## Shapes
+//! - **Plate**: the rectangle origin + s·e₁ + t·e₂, s, t ∈ [0, 1], e₁ ⟂ e₂.
+//!   A thin plate is one layer of panels carrying the *total* density of both
+//!   faces (σ = σ_top + σ_bottom): the usual zero-thickness model, exact for
+//!   the field outside a plate thin compared with its distance to the field
+//!   points (R. F. Harrington, *Field Computation by Moment Methods*, 1968,
+//!   ch. 2, the charged plate).
+//! - **Cuboid**: six faces, each meshed as a plate.
+//! - **Cylinder**: a prism of N flat facets (N = ⌈2πr/h⌉ for panel size h,
+//!   at least [`MIN_FACETS`] and the settings' minimum), closed by its
+//!   two end faces (regular N-gons). The facet circumradius r_f is chosen so
+//!   that the prism's perimeter equals the circle's,
+//!   N·2r_f·sin(π/N) = 2πr, i.e. r_f = πr/(N sin(π/N)): the lateral area is
+//!   exact, and the collocation points (facet centres, at the apothem
+//!   r_a = r_f cos(π/N) = r·(π/N)/tan(π/N) ≈ r(1 − π²/(3N²))) lie within
+//!   π²/(3N²) relative of the true surface (0.6 % for N = 24). Each N-gon end
+//!   face is cut into N wedges, each wedge into rings; the trapezoid between
+//!   ring fractions f₁ < f₂ of the apothem becomes the rectangle of the same
+//!   radial extent r_a(f₂ − f₁) and the mean tangential width w(f₁ + f₂)/2
+//!   (w the facet width), centred mid-ring: the same area as the trapezoid
+//!   (so the end face's area is exact) and the same radial band.
+//!
+//! ## Edge grading
+//! The charge density of a conductor is singular at its edges (∝ d^(−1/3) at
+//! a right-angled edge, ∝ d^(−1/2) at the edge of a thin plate: J. D. Jackson,
+//! *Classical Electrodynamics*, 3rd ed., §2.11, from memory). Panels are therefore made
+//! smaller towards edges: on [0, 1] the nodes are
+//! s_i = (1 − g)·i/n + g·(1 − cos(πi/n))/2 (both ends edges) or
+//! s_i = (1 − g)·i/n + g·sin(πi/(2n)) (edge at s = 1 only), g ∈ [0, 1) the
+//! grading. The largest spacing is (1 − g + gπ/2)/n, so n is raised by that
+//! factor to keep every panel at most the panel size.
+//!
+//! | symbol | meaning | unit |
+//! | --- | --- | --- |
+//! | r, r_f, r_a | cylinder radius, facet circumradius, apothem | m |
+//! | N | number of facets around a cylinder | 1 |
+//! | w | facet width, 2r_f sin(π/N) = 2πr/N | m |
+//! | g | grading, 0 = uniform | 1 |
+//! | n | panels along one edge | 1 |
+
+use std::f64::consts::PI;
+
+use super::kernels::{LocalField, rectangle_geometry};
+
+/// Fewest facets around a cylinder.
+pub const MIN_FACETS: usize = 12;
+/// Shortest accepted length of any conductor dimension [m] (the closed-form
+/// kernels are accurate from about 1e-6 m, see [`super::kernels`]).
+pub const MIN_SIZE: f64 = 1e-5;
+/// Longest accepted length of any conductor dimension [m].
+pub const MAX_SIZE: f64 = 1e3;
+/// Largest |e₁·e₂|/(|e₁||e₂|) accepted for a plate's edges (perpendicular to
+/// rounding of typed-in coordinates).
+const MAX_SKEW: f64 = 1e-9;
+
+/// The surface of one conductor (x along the machine, y across, z up) [m].
+#[derive(Debug, Clone, PartialEq)]
+pub enum Shape {
+    /// A closed circular cylinder (with its two end discs).
+    Cylinder {
+        /// Centre of the axis [m].
+        center: [f64; 3],
+        /// Direction of the axis (normalised here; any non-zero length).
+        axis: [f64; 3],
+        /// Radius [m].
+        radius: f64,
+        /// Length along the axis [m].
+        length: f64,
+    },
+    /// A thin rectangular plate, origin + s·e₁ + t·e₂ for s, t ∈ [0, 1].
+    Plate {
+        /// One corner [m].
+        origin: [f64; 3],
+        /// First edge [m].
+        e1: [f64; 3],
+        /// Second edge, perpendicular to the first [m].
+        e2: [f64; 3],
+    },
+    /// An axis-aligned box.
+    Cuboid {
+        /// Lowest corner [m].
+        min: [f64; 3],
+        /// Highest corner [m].
+        max: [f64; 3],
+    },
+}
+
+/// A shape that cannot be meshed; the message says what is accepted.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error("{0}")]
+pub struct ShapeError(pub String);
+
+/// One flat rectangular panel with constant density: centre, orthonormal
+/// frame (e_u, e_v in the panel, e_n normal) and half-sides.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Panel {
+    /// Centroid, the collocation point [m].
+    pub center: [f64; 3],
+    /// Unit vector along the first side [1].
+    pub eu: [f64; 3],
+    /// Unit vector along the second side [1].
+    pub ev: [f64; 3],
+    /// Unit normal [1].
+    pub en: [f64; 3],
+    /// Half-length along e_u [m].
+    pub half_u: f64,
+    /// Half-length along e_v [m].
+    pub half_v: f64,
+}
+
+impl Panel {
+    /// Area [m²].
+    pub fn area(&self) -> f64 {
+        4.0 * self.half_u * self.half_v
+    }
+
+    /// ∬ dA′/R [m] at `x` (the potential of unit density times 4πε₀).
+    #[inline]
+    pub fn potential_factor(&self, x: [f64; 3]) -> f64 {
+        rectangle_geometry(
+            -self.half_u,
+            self.half_u,
+            -self.half_v,
+            self.half_v,
+            self.local(x),
+        )
+        .v
+    }
+
+    /// ∬ dA′/R [m] and ∬ (x − r′)/R³ dA′ [1] (global components) at `x`.
+    #[inline]
+    pub fn factors(&self, x: [f64; 3]) -> LocalField {
+        let f = rectangle_geometry(
+            -self.half_u,
+            self.half_u,
+            -self.half_v,
+            self.half_v,
+            self.local(x),
+        );
+        let mut e = [0.0; 3];
+        for (k, ek) in e.iter_mut().enumerate() {
+            *ek = f.e[0] * self.eu[k] + f.e[1] * self.ev[k] + f.e[2] * self.en[k];
+        }
+        LocalField { v: f.v, e }
+    }
+
+    /// `x` in the panel's frame [m].
+    #[inline]
+    fn local(&self, x: [f64; 3]) -> [f64; 3] {
+        let d = sub(x, self.center);
+        [dot(d, self.eu), dot(d, self.ev), dot(d, self.en)]
+    }
+
+    /// The lowest z of the panel's corners [m].
+    pub fn z_min(&self) -> f64 {
+        self.center[2] - (self.half_u * self.eu[2]).abs() - (self.half_v * self.ev[2]).abs()
+    }
+}
+
+/// Meshing parameters (checked by `BemSettings`).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MeshParams {
+    /// Largest panel side [m].
+    pub panel_size: f64,
+    /// Edge grading g ∈ [0, 1).
+    pub grading: f64,
+    /// Fewest facets around a cylinder (at least [`MIN_FACETS`]).
+    pub min_facets: usize,
+}
+
+impl MeshParams {
+    /// Panels along an edge of length `len` (at least `min`), allowing for grading.
+    fn count(&self, len: f64, min: usize) -> usize {
+        let factor = 1.0 - self.grading + self.grading * PI / 2.0;
+        let n = (len * factor / self.panel_size).ceil();
+        // Bounded by the caller's size checks; the cast saturates anyway.
+        (n as usize).max(min)
+    }
+}
+
+/// Nodes on [0, 1] graded towards both ends (`two_sided`) or towards 1 only.
+pub fn graded_nodes(n: usize, g: f64, two_sided: bool) -> Vec<f64> {
+    (0..=n)
+        .map(|i| {
+            let x = i as f64 / n as f64;
+            let curved = if two_sided {
+                0.5 * (1.0 - (PI * x).cos())
+            } else {
+                (0.5 * PI * x).sin()
+            };
+            if i == n {
+                1.0
+            } else {
+                (1.0 - g) * x + g * curved
+            }
+        })
+        .collect()
+}
+
+/// Panels of one shape.
+pub fn mesh(shape: &Shape, p: &MeshParams) -> Result<Vec<Panel>, ShapeError> {
+    match shape {
+        Shape::Plate { origin, e1, e2 } => plate(*origin, *e1, *e2, p),
+        Shape::Cuboid { min, max } => cuboid(*min, *max, p),
+        Shape::Cylinder {
+            center,
+            axis,
+            radius,
+            length,
+        } => cylinder(*center, *axis, *radius, *length, p),
+    }
+}
+
+fn check_size(what: &str, v: f64) -> Result<(), ShapeError> {
+    if !v.is_finite() || !(MIN_SIZE..=MAX_SIZE).contains(&v) {
+        return Err(ShapeError(format!(
+            "{what} is {v:e} m: expected a length between {MIN_SIZE:e} m and {MAX_SIZE:e} m"
+        )));
+    }
+    Ok(())
+}
+
+fn check_point(what: &str, x: [f64; 3]) -> Result<(), ShapeError> {
+    if x.iter().any(|c| !c.is_finite() || c.abs() > 1e4) {
+        return Err(ShapeError(format!(
+            "{what} [{}, {}, {}] is not a finite point within 10 km of the origin",
+            x[0], x[1], x[2]
+        )));
+    }
+    Ok(())
+}
+
+fn plate(
+    origin: [f64; 3],
+    e1: [f64; 3],
+    e2: [f64; 3],
+    p: &MeshParams,
+) -> Result<Vec<Panel>, ShapeError> {
+    check_point("plate origin", origin)?;
+    let (l1, l2) = (norm(e1), norm(e2));
+    check_size("plate edge e1", l1)?;
+    check_size("plate edge e2", l2)?;
+    let skew = dot(e1, e2) / (l1 * l2);
+    if skew.abs() > MAX_SKEW {
+        return Err(ShapeError(format!(
+            "plate edges e1 and e2 are not perpendicular (cosine of the angle between them {skew:.3e}): give a rectangle, with e1·e2 = 0"
+        )));
+    }
+    let eu = scale(e1, 1.0 / l1);
+    let ev = scale(e2, 1.0 / l2);
+    let en = cross(eu, ev);
+    let su = graded_nodes(p.count(l1, 2), p.grading, true);
+    let sv = graded_nodes(p.count(l2, 2), p.grading, true);
+    let mut out = Vec::with_capacity((su.len() - 1) * (sv.len() - 1));
+    for a in su.windows(2) {
+        for b in sv.windows(2) {
+            let cu = 0.5 * (a[0] + a[1]) * l1;
+            let cv = 0.5 * (b[0] + b[1]) * l2;
+            out.push(Panel {
+                center: add(origin, add(scale(eu, cu), scale(ev, cv))),
+                eu,
+                ev,
+                en,
+                half_u: 0.5 * (a[1] - a[0]) * l1,
+                half_v: 0.5 * (b[1] - b[0]) * l2,
+            });
+        }
+    }
+    Ok(out)
+}
+
+fn cuboid(min: [f64; 3], max: [f64; 3], p: &MeshParams) -> Result<Vec<Panel>, ShapeError> {
+    check_point("box min", min)?;
+    check_point("box max", max)?;
+    let d = sub(max, min);
+    for (k, name) in ["x", "y", "z"].iter().enumerate() {
+        check_size(&format!("box size along {name} (max − min)"), d[k])?;
+    }
+    let ex = [d[0], 0.0, 0.0];
+    let ey = [0.0, d[1], 0.0];
+    let ez = [0.0, 0.0, d[2]];
+    let mut out = Vec::new();
+    // Two faces normal to each axis: (corner, e1, e2).
+    let faces = [
+        (min, ey, ez),
+        (add(min, ex), ey, ez),
+        (min, ex, ez),
+        (add(min, ey), ex, ez),
+        (min, ex, ey),
+        (add(min, ez), ex, ey),
+    ];
+    for (o, a, b) in faces {
+        out.extend(plate(o, a, b, p)?);
+    }
+    Ok(out)
+}
+
+fn cylinder(
+    center: [f64; 3],
+    axis: [f64; 3],
+    radius: f64,
+    length: f64,
+    p: &MeshParams,
+) -> Result<Vec<Panel>, ShapeError> {
+    check_point("cylinder centre", center)?;
+    check_size("cylinder radius", radius)?;
+    check_size("cylinder length", length)?;
+    let la = norm(axis);
+    if !la.is_finite() || la < 1e-12 {
+        return Err(ShapeError(format!(
+            "cylinder axis [{}, {}, {}] has no direction: give a non-zero vector along the axis",
+            axis[0], axis[1], axis[2]
+        )));
+    }
+    let a = scale(axis, 1.0 / la);
+    // p1 ⟂ a: cross with the coordinate axis least aligned with a.
+    let k = (0..3)
+        .min_by(|&i, &j| a[i].abs().total_cmp(&a[j].abs()))
+        .unwrap_or(0);
+    let mut ek = [0.0; 3];
+    ek[k] = 1.0;
+    let p1 = normalise(cross(a, ek));
+    let p2 = cross(a, p1);
+    let nf = ((2.0 * PI * radius / p.panel_size).ceil() as usize)
+        .max(p.min_facets)
+        .max(MIN_FACETS);
+    let half = PI / nf as f64;
+    let rf = PI * radius / (nf as f64 * half.sin());
+    let apothem = rf * half.cos();
+    let width = 2.0 * rf * half.sin();
+    let sl = graded_nodes(p.count(length, 2), p.grading, true);
+    let sr = graded_nodes(p.count(apothem, 1), p.grading, false);
+    let mut out = Vec::new();
+    for f in 0..nf {
+        let phi = (2 * f + 1) as f64 * half;
+        let n = add(scale(p1, phi.cos()), scale(p2, phi.sin()));
+        let t = add(scale(p1, -phi.sin()), scale(p2, phi.cos()));
+        for s in sl.windows(2) {
+            let along = (0.5 * (s[0] + s[1]) - 0.5) * length;
+            out.push(Panel {
+                center: add(center, add(scale(a, along), scale(n, apothem))),
+                eu: a,
+                ev: t,
+                en: n,
+                half_u: 0.5 * (s[1] - s[0]) * length,
+                half_v: 0.5 * width,
+            });
+        }
+        for end in [-0.5, 0.5] {
+            let c_end = add(center, scale(a, end * length));
+            for r in sr.windows(2) {
+                out.push(Panel {
+                    center: add(c_end, scale(n, 0.5 * (r[0] + r[1]) * apothem)),
+                    eu: n,
+                    ev: t,
+                    en: a,
+                    half_u: 0.5 * (r[1] - r[0]) * apothem,
+                    half_v: 0.25 * (r[0] + r[1]) * width,
+                });
+            }
+        }
+    }
+    Ok(out)
+}
+
+#[inline]
+pub(crate) fn sub(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
+    [a[0] - b[0], a[1] - b[1], a[2] - b[2]]
+}
+#[inline]
+pub(crate) fn add(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
+    [a[0] + b[0], a[1] + b[1], a[2] + b[2]]
+}
+#[inline]
+pub(crate) fn scale(a: [f64; 3], k: f64) -> [f64; 3] {
+    [a[0] * k, a[1] * k, a[2] * k]
+}
+#[inline]
+pub(crate) fn dot(a: [f64; 3], b: [f64; 3]) -> f64 {
+    a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
+}
+#[inline]
+pub(crate) fn norm(a: [f64; 3]) -> f64 {
+    dot(a, a).sqrt()
+}
+#[inline]
+fn cross(a: [f64; 3], b: [f64; 3]) -> [f64; 3] {
+    [
+        a[1] * b[2] - a[2] * b[1],
+        a[2] * b[0] - a[0] * b[2],
+        a[0] * b[1] - a[1] * b[0],
+    ]
+}
+fn normalise(a: [f64; 3]) -> [f64; 3] {
+    scale(a, 1.0 / norm(a))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn params(ps: f64, g: f64) -> MeshParams {
+        MeshParams {
+            panel_size: ps,
+            grading: g,
+            min_facets: MIN_FACETS,
+        }
+    }
+
+    fn total_area(p: &[Panel]) -> f64 {
+        p.iter().map(Panel::area).sum()
+    }
+
+    #[test]
+    fn graded_nodes_are_increasing_and_bounded() {
+        for two in [true, false] {
+            let s = graded_nodes(7, 0.6, two);
+            assert_eq!(s[0], 0.0);
+            assert_eq!(s[7], 1.0);
+            assert!(s.windows(2).all(|w| w[1] > w[0]));
+            // Largest spacing within the stated bound (1 − g + gπ/2)/n.
+            let max = s.windows(2).map(|w| w[1] - w[0]).fold(0.0, f64::max);
+            assert!(max <= (0.4 + 0.6 * PI / 2.0) / 7.0 + 1e-15);
+        }
+    }
+
+    #[test]
+    fn plate_and_box_areas_are_exact() {
+        let pl = mesh(
+            &Shape::Plate {
+                origin: [0.1, 0.2, 0.3],
+                e1: [0.0, 0.6, 0.8],
+                e2: [2.0, 0.0, 0.0],
+            },
+            &params(0.1, 0.5),
+        )
+        .unwrap();
+        assert!((total_area(&pl) - 2.0).abs() < 1e-13);
+        // Every panel at most the panel size.
+        assert!(
+            pl.iter()
+                .all(|q| q.half_u <= 0.05 + 1e-12 && q.half_v <= 0.05 + 1e-12)
+        );
+        let bx = mesh(
+            &Shape::Cuboid {
+                min: [0.0, 0.0, 0.0],
+                max: [1.0, 2.0, 3.0],
+            },
+            &params(0.25, 0.5),
+        )
+        .unwrap();
+        assert!((total_area(&bx) - 22.0).abs() < 1e-12);
+    }
+
+    #[test]
+    fn cylinder_area_is_exact_and_facets_near_the_surface() {
+        let (r, l) = (0.05, 0.7);
+        let pc = mesh(
+            &Shape::Cylinder {
+                center: [1.0, 0.0, 0.5],
+                axis: [0.0, 2.0, 0.0],
+                radius: r,
+                length: l,
+            },
+            &params(0.02, 0.5),
+        )
+        .unwrap();
+        // Lateral 2πrL is exact by the perimeter match; each end N-gon has area
+        // N·r_a·w/2 = π·r·r_a, r_a = r(π/N)/tan(π/N) (N = 16 here).
+        let ra = r * (PI / 16.0) / (PI / 16.0).tan();
+        let want = 2.0 * PI * r * l + 2.0 * PI * r * ra;
+        assert!(
+            (total_area(&pc) - want).abs() < 1e-14,
+            "{} vs {want}",
+            total_area(&pc)
+        );
+        assert_eq!(pc.iter().filter(|q| q.en[1].abs() < 0.5).count() % 16, 0);
+        // Collocation points of the facets within π²/(3N²) of the radius (N = 16 here).
+        for q in pc.iter().filter(|q| q.en[1].abs() < 0.5) {
+            let rho = (q.center[0] - 1.0).hypot(q.center[2] - 0.5);
+            assert!((rho - r).abs() < r * PI * PI / (3.0 * 16.0 * 16.0) * 1.01);
+        }
+    }
+
+    #[test]
+    fn degenerate_shapes_are_refused() {
+        let p = params(0.1, 0.5);
+        let bad = [
+            Shape::Cylinder {
+                center: [0.0; 3],
+                axis: [0.0, 0.0, 1.0],
+                radius: 0.0,
+                length: 1.0,
+            },
+            Shape::Cylinder {
+                center: [0.0; 3],
+                axis: [0.0; 3],
+                radius: 0.1,
+                length: 1.0,
+            },
+            Shape::Plate {
+                origin: [0.0; 3],
+                e1: [1.0, 0.0, 0.0],
+                e2: [1.0, 1.0, 0.0],
+            },
+            Shape::Cuboid {
+                min: [0.0; 3],
+                max: [1.0, 0.0, 1.0],
+            },
+            Shape::Cuboid {
+                min: [f64::NAN, 0.0, 0.0],
+                max: [1.0; 3],
+            },
+        ];
+        for s in bad {
+            let e = mesh(&s, &p).unwrap_err().0;
+            assert!(
+                e.contains("expected") || e.contains("give") || e.contains("finite"),
+                "{e}"
+            );
+        }
+    }
+}
