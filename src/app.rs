@@ -154,7 +154,13 @@ fn evaluate(
 }
 
 fn field(a: &FieldArgs) -> Result<Outcome> {
-    let (line, scene, r) = load_with_charge(&a.line, solver(a.tolerance)?)?;
+    let mut settings = solver(a.tolerance)?;
+    if let Some(panel) = &a.conductors {
+        let size = crate::units::parse_quantity(panel, Dim::Length)
+            .map_err(|e| anyhow::anyhow!("--conductors: {e}"))?;
+        settings = settings.with_conductors(size).context("--conductors")?;
+    }
+    let (line, scene, r) = load_with_charge(&a.line, settings)?;
     let model = scene.web(&r.charge);
     let spans: Vec<String> = line.path.spans.iter().map(|s| s.name.clone()).collect();
     let mut w = FieldWriter::new(field_format(a.format), a.contributions);

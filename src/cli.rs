@@ -162,6 +162,11 @@ pub struct FieldArgs {
     /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
     pub tolerance: f64,
+    /// Include the charge induced on the line's conductors (grounded and
+    /// isolated rollers, `conductors:`), solved on panels of about this
+    /// size, e.g. "50 mm" (without it, only the ground plane screens).
+    #[arg(long, value_name = "PANEL")]
+    pub conductors: Option<String>,
 }
 
 /// `websigma demo`

@@ -55,7 +55,7 @@ pub struct Evaluation {
 }
 
 /// A line's scene and its evaluation.
-#[derive(Debug, Clone)]
+#[derive(Debug)]
 pub struct Analysis {
     /// The charge-independent field model, for further questions (field
     /// map, planner).

@@ -14,6 +14,7 @@ mod analytic;
 mod assess;
 mod bem;
 mod cli;
+mod conductors;
 mod eliminators;
 mod geometry;
 mod pipeline;

@@ -64,6 +64,10 @@ pub const ASSUMPTIONS: &[&str] = &[
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct SolverSettings {
     rel_tol: f64,
+    /// Panel size of the conductors' boundary-element solve [m]; `None`:
+    /// conductors do not enter the field (the default until the solve is
+    /// fast enough for every stage).
+    conductor_panel: Option<f64>,
 }
 
 /// A solver setting out of range.
@@ -86,11 +90,35 @@ impl SolverSettings {
                 Self::MAX_TOL
             )));
         }
-        Ok(SolverSettings { rel_tol })
+        Ok(SolverSettings {
+            rel_tol,
+            conductor_panel: None,
+        })
     }
     /// The same settings with another tolerance.
     pub fn with_tolerance(self, rel_tol: f64) -> Result<Self, SettingsError> {
-        SolverSettings::new(rel_tol)
+        Ok(SolverSettings {
+            conductor_panel: self.conductor_panel,
+            ..SolverSettings::new(rel_tol)?
+        })
+    }
+    /// The same settings with the charge induced on the line's conductors
+    /// (grounded and isolated rollers, `conductors:`) solved on panels of
+    /// about `panel_size` [m] (between 1 mm and 1 m).
+    pub fn with_conductors(self, panel_size: f64) -> Result<Self, SettingsError> {
+        if !(1e-3..=1.0).contains(&panel_size) {
+            return Err(SettingsError(format!(
+                "conductor panel size must be between 1 mm and 1 m, got {panel_size:e} m"
+            )));
+        }
+        Ok(SolverSettings {
+            conductor_panel: Some(panel_size),
+            ..self
+        })
+    }
+    /// Panel size of the conductors' solve [m], when conductors are solved.
+    pub fn conductor_panel(&self) -> Option<f64> {
+        self.conductor_panel
     }
     /// Relative tolerance on V and |E|.
     pub fn rel_tol(&self) -> f64 {
@@ -101,7 +129,10 @@ impl SolverSettings {
 impl Default for SolverSettings {
     /// Relative tolerance 1e-9.
     fn default() -> Self {
-        SolverSettings { rel_tol: 1e-9 }
+        SolverSettings {
+            rel_tol: 1e-9,
+            conductor_panel: None,
+        }
     }
 }
 
@@ -124,6 +155,9 @@ pub enum FieldError {
         /// The point [m].
         at: [Meters; 3],
     },
+    /// The conductors' boundary-element solve failed.
+    #[error("conductors: {0}")]
+    Conductors(String),
     /// The numerical integration did not reach its tolerance.
     #[error("span {span} at [{x:.6} m, {y:.6} m, {z:.6} m]: {source}", x = at[0], y = at[1], z = at[2])]
     NotConverged {

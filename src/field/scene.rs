@@ -27,8 +27,10 @@
 //! Superposition and the method of images (D. J. Griffiths, *Introduction to
 //! Electrodynamics*, 4th ed., §2.1 and §3.2).
 
+use super::bem::{Bem, BemSettings, ConductorSpec, Earthing, Induced};
 use super::integrate::{Patch, patch_field};
 use super::kernels::{LocalField, QuadPiece};
+use super::panels::Shape;
 use super::{FieldAt, FieldError, FieldMap, PointField, SolverSettings, SpanContribution};
 use crate::charge::ChargeProfile;
 use crate::model::Line;
@@ -60,12 +62,15 @@ struct SpanGeometry {
 }
 
 /// The charge-independent field model of a line.
-#[derive(Debug, Clone)]
+#[derive(Debug)]
 pub struct Scene {
     spans: Vec<SpanGeometry>,
     width: Meters,
     ground: Option<Meters>,
     settings: SolverSettings,
+    /// The conductors' boundary-element solve, factorised once, when the
+    /// settings ask for conductors and the line has any.
+    bem: Option<Bem>,
 }
 
 impl Scene {
@@ -89,12 +94,22 @@ impl Scene {
                 }
             })
             .collect();
+        let bem = match settings.conductor_panel() {
+            Some(panel) => conductor_solve(line, panel)?,
+            None => None,
+        };
         Ok(Scene {
             spans,
             width: line.web.width,
             ground: line.ground_plane,
             settings,
+            bem,
         })
+    }
+
+    /// The conductors' solve, when conductors enter the field.
+    pub fn conductors(&self) -> Option<&Bem> {
+        self.bem.as_ref()
     }
 
     /// The solver settings the scene was built with.
@@ -133,10 +148,15 @@ impl Scene {
                     .collect()
             })
             .collect();
-        WebField {
+        let mut web = WebField {
             scene: self,
             patches,
+            induced: Ok(None),
+        };
+        if let Some(bem) = &self.bem {
+            web.induced = web.induce(bem).map(Some);
         }
+        web
     }
 
     /// The scene charged with a unit centreline density (1 C/m²) on the
@@ -153,6 +173,80 @@ impl Scene {
         }];
         self.web(&p)
     }
+}
+
+/// The boundary-element solve of the line's conductors (grounded and
+/// isolated rollers; `conductors:`), or `None` when it has none. A person
+/// stands on the floor: the solve needs a gap to the grounded plane, so the
+/// body's cylinder is taken to start 5 mm above it (the feet's coupling is
+/// the person's lumped capacitance).
+fn conductor_solve(line: &Line, panel: f64) -> Result<Option<Bem>, FieldError> {
+    use crate::model::{
+        ConductorEarthing, ConductorKind, ConductorShape, Earthing as RollerEarthing,
+    };
+    let shape = |s: ConductorShape| match s {
+        ConductorShape::Plate { origin, e1, e2 } => Shape::Plate { origin, e1, e2 },
+        ConductorShape::Box { min, max } => Shape::Cuboid { min, max },
+        ConductorShape::Cylinder {
+            center,
+            axis,
+            radius,
+            length,
+        } => Shape::Cylinder {
+            center,
+            axis,
+            radius,
+            length,
+        },
+    };
+    let mut specs: Vec<ConductorSpec> = line
+        .rollers
+        .iter()
+        .filter(|r| r.is_conductor())
+        .map(|r| ConductorSpec {
+            id: r.id.clone(),
+            shape: shape(r.cylinder()),
+            earthing: match r.earthing {
+                RollerEarthing::Isolated => Earthing::Isolated {
+                    charge: 0.0,
+                    lumped_capacitance: 0.0,
+                },
+                _ => Earthing::Grounded,
+            },
+        })
+        .collect();
+    for c in &line.conductors {
+        let mut s = shape(c.shape);
+        if c.kind == ConductorKind::Person
+            && let Shape::Cylinder { center, length, .. } = &mut s
+        {
+            center[2] += 2.5e-3;
+            *length -= 5e-3;
+        }
+        specs.push(ConductorSpec {
+            id: c.id.clone(),
+            shape: s,
+            earthing: match c.earthing {
+                ConductorEarthing::Grounded => Earthing::Grounded,
+                ConductorEarthing::Isolated {
+                    charge,
+                    capacitance_to_ground,
+                    ..
+                } => Earthing::Isolated {
+                    charge,
+                    lumped_capacitance: capacitance_to_ground.unwrap_or(0.0),
+                },
+            },
+        });
+    }
+    if specs.is_empty() {
+        return Ok(None);
+    }
+    let conductors = |e: super::bem::BemError| FieldError::Conductors(e.to_string());
+    let settings = BemSettings::new(panel).map_err(conductors)?;
+    Bem::new(&specs, line.ground_plane, settings)
+        .map(Some)
+        .map_err(conductors)
 }
 
 fn quad_pieces(charge: &ChargeProfile) -> Vec<QuadPiece> {
@@ -175,11 +269,57 @@ pub struct WebField<'s> {
     scene: &'s Scene,
     /// Per span: patches with their along-span offset [m].
     patches: Vec<Vec<(f64, Patch)>>,
+    /// The charge this web induces on the conductors (none without them),
+    /// or why it could not be solved.
+    induced: Result<Option<Induced>, FieldError>,
 }
 
 impl WebField<'_> {
     /// Field and potential at `at`; with `contributions`, also per span.
     pub fn at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError> {
+        let mut f = self.web_at(at, contributions)?;
+        let induced = self.induced.as_ref().map_err(Clone::clone)?;
+        if let (Some(induced), Some(bem)) = (induced, &self.scene.bem) {
+            let (e, v) = induced.at(bem, at);
+            for (fk, ek) in f.e.iter_mut().zip(e) {
+                *fk += ek;
+            }
+            f.v += v;
+            if contributions {
+                f.contributions.push(SpanContribution {
+                    span: "charge induced on conductors".to_string(),
+                    name: "conductors".to_string(),
+                    e,
+                    v,
+                });
+            }
+        }
+        Ok(f)
+    }
+
+    /// The charge induced on the conductors: the web's potential at every
+    /// collocation point (a point that falls on the web — where a roller's
+    /// surface meets its tangent — is taken 5 µm off it, outward from the
+    /// roller's axis, which changes the potential by σ·5 µm/ε0 at most, far
+    /// below a panel's own variation), then one back-substitution.
+    fn induce(&self, bem: &Bem) -> Result<Induced, FieldError> {
+        let points = bem.collocation_points();
+        let ext: Vec<f64> = points
+            .par_iter()
+            .map(|&x| match self.web_at(x, false) {
+                Ok(f) => Ok(f.v),
+                Err(FieldError::OnWeb { .. }) => {
+                    self.web_at([x[0], x[1], x[2] + 5e-6], false).map(|f| f.v)
+                }
+                Err(e) => Err(e),
+            })
+            .collect::<Result<_, _>>()?;
+        bem.solve(&ext)
+            .map_err(|e| FieldError::Conductors(e.to_string()))
+    }
+
+    /// Field and potential of the web's own charge (and its images).
+    fn web_at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError> {
         let mut e = [0.0; 3];
         let mut v = 0.0;
         let mut parts = Vec::new();
