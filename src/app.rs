@@ -14,7 +14,7 @@ use crate::field::{PointField, Scene, SolverSettings, WebField};
 use crate::model::{Line, load_line, parse_line};
 use crate::points::{self, PointFile};
 use crate::readings::{ReadingsResult, invert_readings};
-use crate::report::field_out::{FieldFormat, FieldWriter};
+use crate::report::field_out::{self, FieldFormat, FieldWriter};
 use crate::report::{
     PointRequest, assessment_text, csv, json, pictures, plan_json, plan_text, profiles_text,
     readings_text, summary,
@@ -163,7 +163,8 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
     let (line, scene, r) = load_with_charge(&a.line, settings)?;
     let model = scene.web(&r.charge);
     let spans: Vec<String> = line.path.spans.iter().map(|s| s.name.clone()).collect();
-    let mut w = FieldWriter::new(field_format(a.format), a.contributions);
+    let mut w = FieldWriter::new(field_format(a.format), a.contributions)
+        .with_assumptions(crate::field::assumptions(&scene.settings()));
     let mut out = std::io::BufWriter::new(std::io::stdout().lock());
 
     if let Some(path) = &a.points {
@@ -217,6 +218,10 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
         emit(&mut out, &w.rows(&reqs, &res))?;
     }
     emit(&mut out, &w.footer())?;
+    let conductors = model.conductor_results()?;
+    if a.format == OutputFormat::Table && !conductors.is_empty() {
+        emit(&mut out, &field_out::conductors_table(&conductors))?;
+    }
     out.flush().or_else(quiet_pipe)?;
     Ok(Outcome::Pass)
 }

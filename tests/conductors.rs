@@ -80,3 +80,32 @@ fn conductors_keep_the_field_linear_in_sigma() {
         assert!((e2[k] - 2.0 * e1[k]).abs() <= 1e-9 * norm(e2) + 1e-9);
     }
 }
+
+/// `field --conductors` prints each conductor's induced charge and says the
+/// conductors are in the model; a bad panel size is refused with the flag.
+#[test]
+fn field_command_lists_the_conductors() {
+    use crate::util::{temp_yaml, websigma};
+    use predicates::prelude::*;
+    let text = "web: {width: 1.0 m, thickness: 50 um, relative_permittivity: 3, relaxation_time: 1e30 s, speed: 1 m/s}\n\
+         rollers:\n  - {id: A, center: [0 m, 1 m], diameter: 100 mm, earthing: grounded}\n  - {id: B, center: [1 m, 1 m], diameter: 100 mm, earthing: isolated}\n\
+         path:\n  - {roller: A, wrap: cw}\n  - {roller: B, wrap: cw}\n\
+         charge:\n  - at: start\n    sigma: 5 uC/m^2\n";
+    let (_d, path) = temp_yaml(text);
+    websigma()
+        .arg("field")
+        .arg(&path)
+        .args(["--conductors", "80 mm", "--at", "0.5,0,1.3"])
+        .assert()
+        .code(0)
+        .stdout(predicate::str::contains("conductors (charge induced by the web"))
+        .stdout(predicate::str::contains("isolated"))
+        .stdout(predicate::str::contains("carry the charge the web induces"));
+    websigma()
+        .arg("field")
+        .arg(&path)
+        .args(["--conductors", "0 mm", "--at", "0.5,0,1.3"])
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains("--conductors"));
+}

@@ -41,7 +41,7 @@ pub mod kernels;
 pub mod panels;
 pub mod scene;
 
-pub use scene::{Scene, WebField};
+pub use scene::{ConductorResult, Scene, WebField};
 
 use crate::units::{Meters, Volts, VoltsPerMeter};
 use integrate::KernelError;
@@ -52,6 +52,23 @@ pub const ASSUMPTIONS: &[&str] = &[
     "only the straight spans are integrated; the charge on the wrap arcs (in contact with the rollers) is not",
     "rollers and the line's other conductors do not yet screen the field: the charge induced on them is not computed (only the grounded plane's, by images)",
 ];
+
+/// The modelling assumptions when the charge induced on the line's
+/// conductors is solved (`SolverSettings::with_conductors`).
+pub const ASSUMPTIONS_WITH_CONDUCTORS: &[&str] = &[
+    "the web is a thin charged sheet: its own permittivity is not modelled",
+    "only the straight spans are integrated; the charge on the wrap arcs (in contact with the rollers) is not",
+    "grounded and isolated rollers and the line's conductors carry the charge the web induces on them (boundary-element solve on flat panels with constant density, collocation at their centres); the grounded plane by images",
+];
+
+/// The assumptions that hold for a scene built with these settings.
+pub fn assumptions(settings: &SolverSettings) -> &'static [&'static str] {
+    if settings.conductor_panel().is_some() {
+        ASSUMPTIONS_WITH_CONDUCTORS
+    } else {
+        ASSUMPTIONS
+    }
+}
 
 /// Checked settings of the solver.
 ///

@@ -262,6 +262,25 @@ fn quad_pieces(charge: &ChargeProfile) -> Vec<QuadPiece> {
         .collect()
 }
 
+/// What the web's charge does to one conductor.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ConductorResult {
+    /// The conductor's id (a roller's or a `conductors:` entry's).
+    pub id: String,
+    /// Whether it is held at 0 V.
+    pub grounded: bool,
+    /// Net charge on its surface [C] (induced, for a grounded one).
+    pub charge: f64,
+    /// Its potential [V] (0 when grounded; floating when isolated).
+    pub potential: f64,
+    /// Capacitance to ground [F] (isolated only, lumped part included).
+    pub capacitance: Option<f64>,
+    /// Energy ½CV² a spark to ground can release [J] (isolated only).
+    pub spark_energy: Option<f64>,
+    /// Panels of its mesh.
+    pub panels: usize,
+}
+
 /// A scene with charge on its web, ready for evaluation at any number of
 /// points.
 #[derive(Debug, Clone)]
@@ -316,6 +335,29 @@ impl WebField<'_> {
             .collect::<Result<_, _>>()?;
         bem.solve(&ext)
             .map_err(|e| FieldError::Conductors(e.to_string()))
+    }
+
+    /// Per conductor: the charge, potential, capacitance and spark energy
+    /// this web's charge gives (empty without conductors).
+    pub fn conductor_results(&self) -> Result<Vec<ConductorResult>, FieldError> {
+        let induced = self.induced.as_ref().map_err(Clone::clone)?;
+        let (Some(induced), Some(bem)) = (induced, &self.scene.bem) else {
+            return Ok(Vec::new());
+        };
+        Ok(bem
+            .conductors()
+            .iter()
+            .enumerate()
+            .map(|(k, c)| ConductorResult {
+                id: c.spec.id.clone(),
+                grounded: c.isolated.is_none(),
+                charge: induced.net_charge(k),
+                potential: induced.potential(k),
+                capacitance: bem.capacitance_to_ground(k),
+                spark_energy: induced.spark_energy(bem, k),
+                panels: c.panels.len(),
+            })
+            .collect())
     }
 
     /// Field and potential of the web's own charge (and its images).

@@ -5,7 +5,7 @@
 //! [`text`], [`csv`] and [`json`] helpers; computes nothing.
 
 use crate::field::PointField;
-use crate::report::summary::assumptions_text;
+use crate::report::summary::assumptions_list;
 use crate::report::{PointRequest, csv, json, text};
 
 /// The format of the `field` command's output.
@@ -26,6 +26,8 @@ pub struct FieldWriter {
     format: FieldFormat,
     first: bool,
     contributions: bool,
+    /// The modelling assumptions listed under the table.
+    assumptions: &'static [&'static str],
 }
 
 impl FieldWriter {
@@ -36,6 +38,15 @@ impl FieldWriter {
             format,
             first: true,
             contributions,
+            assumptions: crate::field::ASSUMPTIONS,
+        }
+    }
+
+    /// The same writer listing these assumptions under the table.
+    pub fn with_assumptions(self, assumptions: &'static [&'static str]) -> Self {
+        FieldWriter {
+            assumptions,
+            ..self
         }
     }
 
@@ -104,9 +115,47 @@ impl FieldWriter {
     /// the modelling assumptions under the table.
     pub fn footer(&self) -> String {
         match self.format {
-            FieldFormat::Table => format!("\n{}", assumptions_text()),
+            FieldFormat::Table => format!("\n{}", assumptions_list(self.assumptions)),
             FieldFormat::Csv => String::new(),
             FieldFormat::Json => json::FIELD_CLOSE.to_string(),
         }
     }
+}
+
+/// The conductors' results as a table: induced charge on grounded ones,
+/// floating potential, capacitance and spark energy of isolated ones.
+pub fn conductors_table(rows: &[crate::field::ConductorResult]) -> String {
+    use crate::units::{Dim, format_quantity};
+    let opt = |v: Option<f64>, d: Dim| {
+        v.map(|x| format_quantity(x, d))
+            .unwrap_or_else(|| "—".into())
+    };
+    let cells: Vec<Vec<String>> = rows
+        .iter()
+        .map(|c| {
+            vec![
+                c.id.clone(),
+                if c.grounded { "grounded" } else { "isolated" }.to_string(),
+                format_quantity(c.charge, Dim::Charge),
+                format_quantity(c.potential, Dim::Voltage),
+                opt(c.capacitance, Dim::Capacitance),
+                opt(c.spark_energy, Dim::Energy),
+                c.panels.to_string(),
+            ]
+        })
+        .collect();
+    let mut s = String::from("\nconductors (charge induced by the web, boundary-element solve):\n");
+    s.push_str(&super::text::table(
+        &[
+            "conductor",
+            "earthing",
+            "charge",
+            "potential",
+            "C to ground",
+            "½CV²",
+            "panels",
+        ],
+        &cells,
+    ));
+    s
 }

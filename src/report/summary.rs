@@ -118,8 +118,13 @@ pub fn summary(line: &Line, charge: &ChargeProfile) -> String {
 
 /// The modelling assumptions of the field stage, as a list.
 pub fn assumptions_text() -> String {
+    assumptions_list(ASSUMPTIONS)
+}
+
+/// A list of assumptions under the heading `assumptions:`.
+pub fn assumptions_list(list: &[&str]) -> String {
     let mut s = String::from("assumptions:\n");
-    for a in ASSUMPTIONS {
+    for a in list {
         s.push_str(&format!("  - {a}\n"));
     }
     s
