@@ -98,7 +98,9 @@ fn field_command_lists_the_conductors() {
         .args(["--conductors", "80 mm", "--at", "0.5,0,1.3"])
         .assert()
         .code(0)
-        .stdout(predicate::str::contains("conductors (charge induced by the web"))
+        .stdout(predicate::str::contains(
+            "conductors (charge induced by the web",
+        ))
         .stdout(predicate::str::contains("isolated"))
         .stdout(predicate::str::contains("carry the charge the web induces"));
     websigma()
