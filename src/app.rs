@@ -54,6 +54,19 @@ fn solver(tolerance: f64) -> Result<SolverSettings> {
     SolverSettings::new(tolerance).context("--tolerance")
 }
 
+/// Checked solver settings from `--tolerance` and `--conductors PANEL`.
+fn solver_with(tolerance: f64, conductors: &Option<String>) -> Result<SolverSettings> {
+    let settings = solver(tolerance)?;
+    match conductors {
+        None => Ok(settings),
+        Some(panel) => {
+            let size = crate::units::parse_quantity(panel, Dim::Length)
+                .map_err(|e| anyhow::anyhow!("--conductors: {e}"))?;
+            settings.with_conductors(size).context("--conductors")
+        }
+    }
+}
+
 /// Reads and checks the line description at `path`, keeping its text
 /// (for the report's checksum and `--apply`); warnings go to stderr.
 fn read_line(path: &Path) -> Result<(String, Line)> {
@@ -154,12 +167,7 @@ fn evaluate(
 }
 
 fn field(a: &FieldArgs) -> Result<Outcome> {
-    let mut settings = solver(a.tolerance)?;
-    if let Some(panel) = &a.conductors {
-        let size = crate::units::parse_quantity(panel, Dim::Length)
-            .map_err(|e| anyhow::anyhow!("--conductors: {e}"))?;
-        settings = settings.with_conductors(size).context("--conductors")?;
-    }
+    let settings = solver_with(a.tolerance, &a.conductors)?;
     let (line, scene, r) = load_with_charge(&a.line, settings)?;
     let model = scene.web(&r.charge);
     let spans: Vec<String> = line.path.spans.iter().map(|s| s.name.clone()).collect();
@@ -315,7 +323,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
         &points,
         &assessment,
         &profiles,
-        job.settings.rel_tol(),
+        job.settings,
         plots,
         chrono::Utc::now(),
     );
@@ -331,7 +339,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
 }
 
 fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
-    let settings = solver(a.tolerance)?;
+    let settings = solver_with(a.tolerance, &a.conductors)?;
     let (text, line) = read_line(&a.line)?;
     let AssessRun {
         dir, assessment, ..
@@ -467,7 +475,7 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
 }
 
 fn readings_cmd(a: &ReadingsArgs) -> Result<Outcome> {
-    let (_, _, r) = load_with_charge(&a.line, solver(a.tolerance)?)?;
+    let (_, _, r) = load_with_charge(&a.line, solver_with(a.tolerance, &a.conductors)?)?;
     if r.readings.is_empty() {
         bail!(
             "the line has no `readings:`: add field-meter readings (span, position, distance, side, reading) to convert"

@@ -53,6 +53,11 @@ pub struct AssessArgs {
     /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
     pub tolerance: f64,
+    /// Include the charge induced on the line's conductors (grounded and
+    /// isolated rollers, `conductors:`), solved on panels of about this
+    /// size, e.g. "50 mm" (without it, only the ground plane screens).
+    #[arg(long, value_name = "PANEL")]
+    pub conductors: Option<String>,
     /// Points per side of the field map (the map has N × N/2 points).
     #[arg(long, default_value_t = 160, value_name = "N")]
     pub map_resolution: usize,
@@ -73,6 +78,11 @@ pub struct ReadingsArgs {
     /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
     pub tolerance: f64,
+    /// Include the charge induced on the line's conductors (grounded and
+    /// isolated rollers, `conductors:`), solved on panels of about this
+    /// size, e.g. "50 mm" (without it, only the ground plane screens).
+    #[arg(long, value_name = "PANEL")]
+    pub conductors: Option<String>,
 }
 
 /// `websigma plan`

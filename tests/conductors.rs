@@ -111,3 +111,55 @@ fn field_command_lists_the_conductors() {
         .code(2)
         .stderr(predicate::str::contains("--conductors"));
 }
+
+/// `assess --conductors` runs the whole pipeline in the screened scene: the
+/// report states the screened assumptions, and an operator above the span
+/// stands at a lower potential than without the rollers' induced charge.
+#[test]
+fn assess_with_conductors_screens_the_operator() {
+    use crate::util::{temp_yaml, websigma};
+    let text = "line: Screened test line\n\
+         web: {width: 1.0 m, thickness: 50 um, relative_permittivity: 3, relaxation_time: 1e30 s, speed: 1 m/s}\n\
+         rollers:\n  - {id: A, center: [0 m, 1 m], diameter: 100 mm, earthing: grounded}\n  - {id: B, center: [1 m, 1 m], diameter: 100 mm, earthing: grounded}\n\
+         path:\n  - {roller: A, wrap: cw}\n  - {roller: B, wrap: cw}\n\
+         charge:\n  - at: start\n    sigma: 5 uC/m^2\n\
+         points:\n  - {id: OP, kind: operator, at: [0.5 m, 0.9 m, 1.2 m]}\n\
+         assess: [operator-shock]\n";
+    let (d, path) = temp_yaml(text);
+    let body_voltage = |conductors: bool| {
+        let out = d.path().join(if conductors { "with" } else { "without" });
+        let mut cmd = websigma();
+        cmd.arg("assess").arg(&path).arg("--out").arg(&out);
+        cmd.args(["--map-resolution", "20"]);
+        if conductors {
+            cmd.args(["--conductors", "80 mm"]);
+        }
+        let code = cmd.assert().get_output().status.code();
+        assert!(matches!(code, Some(0) | Some(1)), "{code:?}");
+        let dir = std::fs::read_dir(&out)
+            .unwrap()
+            .next()
+            .unwrap()
+            .unwrap()
+            .path();
+        let md = std::fs::read_to_string(dir.join("report.md")).unwrap();
+        assert_eq!(
+            md.contains("carry the charge the web induces"),
+            conductors,
+            "the report states which model it used"
+        );
+        let json: serde_json::Value =
+            serde_json::from_str(&std::fs::read_to_string(dir.join("results.json")).unwrap())
+                .unwrap();
+        json["findings"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|f| f["rule"] == "body-voltage" && f["subject"] == "OP")
+            .expect("a body-voltage finding for OP")["value"]
+            .as_f64()
+            .unwrap()
+    };
+    let (open, screened) = (body_voltage(false), body_voltage(true));
+    assert!(screened < 0.9 * open, "{screened} V vs {open} V");
+}

@@ -114,7 +114,7 @@ fn report() -> Report {
         &points,
         &a,
         &profiles,
-        1e-9,
+        SolverSettings::default(),
         Vec::new(),
         now,
     )

@@ -8,7 +8,7 @@
 
 use crate::assess::{Assessment, Confidence, Finding, SubjectKind, ThresholdProfile, Verdict};
 use crate::charge::ChargeProfile;
-use crate::field::{ASSUMPTIONS, FieldMap, SpanContribution};
+use crate::field::{FieldMap, SpanContribution};
 use crate::model::{ChargeMode, Line, NodeKind, Point, Zone};
 use crate::readings::{ReadingResult, ReadingsResult, SegmentFit};
 use crate::report::{SpanRow, span_rows};
@@ -301,7 +301,7 @@ pub fn build_report(
     points: &FieldMap,
     assessment: &Assessment,
     profiles: &[ThresholdProfile],
-    rel_tol: f64,
+    solver: crate::field::SolverSettings,
     plots: Vec<Plot>,
     now: chrono::DateTime<chrono::Utc>,
 ) -> Report {
@@ -380,7 +380,10 @@ pub fn build_report(
     ] {
         references.push(extra.to_string());
     }
-    let mut assumptions: Vec<String> = ASSUMPTIONS.iter().map(|s| s.to_string()).collect();
+    let mut assumptions: Vec<String> = crate::field::assumptions(&solver)
+        .iter()
+        .map(|s| s.to_string())
+        .collect();
     assumptions.extend(
         assessment
             .assumptions
@@ -403,7 +406,7 @@ pub fn build_report(
                 rules: p.rules.len(),
             })
             .collect(),
-        rel_tol,
+        rel_tol: solver.rel_tol(),
         assumptions,
         spans,
         points: point_results,
