@@ -136,12 +136,7 @@ fn assess_with_conductors_screens_the_operator() {
         }
         let code = cmd.assert().get_output().status.code();
         assert!(matches!(code, Some(0) | Some(1)), "{code:?}");
-        let dir = std::fs::read_dir(&out)
-            .unwrap()
-            .next()
-            .unwrap()
-            .unwrap()
-            .path();
+        let dir = crate::util::only_report(&out);
         let md = std::fs::read_to_string(dir.join("report.md")).unwrap();
         assert_eq!(
             md.contains("carry the charge the web induces"),

@@ -1,8 +1,8 @@
 //! The pipeline in one place (issue #8): one scene per command, and the
 //! demo's numbers unchanged by the reshaping.
 
+use crate::util::only_report;
 use clap::Parser;
-use std::path::Path;
 use websigma::cli::Cli;
 use websigma::field::scene::scenes_built_on_this_thread;
 
@@ -12,17 +12,6 @@ fn scenes_built_by(args: &[&str]) -> usize {
     let cli = Cli::try_parse_from(args).expect("valid command line");
     websigma::app::run(cli).expect("the command runs");
     scenes_built_on_this_thread() - before
-}
-
-/// The only report folder under `out`.
-fn only_report(out: &Path) -> std::path::PathBuf {
-    let dirs: Vec<_> = std::fs::read_dir(out)
-        .unwrap()
-        .map(|e| e.unwrap().path())
-        .filter(|p| p.is_dir())
-        .collect();
-    assert_eq!(dirs.len(), 1, "{dirs:?}");
-    dirs[0].clone()
 }
 
 // See: #8

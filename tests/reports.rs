@@ -282,12 +282,7 @@ fn pngs_decode_with_the_expected_size_and_are_not_blank() {
         .args(["--map-resolution", "40"])
         .output()
         .unwrap();
-    let dir = std::fs::read_dir(&out)
-        .unwrap()
-        .next()
-        .unwrap()
-        .unwrap()
-        .path();
+    let dir = crate::util::only_report(&out);
     let line = parse_line(ZONE_LINE).unwrap();
     let (xr, zr) = websigma::report::figures::extent(&line);
     let h = websigma::report::figures::picture_height(xr, zr, 1400);

@@ -44,3 +44,14 @@ pub fn temp_yaml(text: &str) -> (tempfile::TempDir, PathBuf) {
     std::fs::write(&p, text).expect("write temp file");
     (dir, p)
 }
+
+/// The only report folder under `out`.
+pub fn only_report(out: &std::path::Path) -> std::path::PathBuf {
+    let dirs: Vec<_> = std::fs::read_dir(out)
+        .unwrap()
+        .map(|e| e.unwrap().path())
+        .filter(|p| p.is_dir())
+        .collect();
+    assert_eq!(dirs.len(), 1, "{dirs:?}");
+    dirs[0].clone()
+}

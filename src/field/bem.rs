@@ -263,7 +263,7 @@ pub enum BemError {
     },
     /// The mesh is larger than allowed.
     #[error(
-        "the conductors need {panels} panels at a panel size of {panel_size} m, more than the limit of {max} (a dense matrix of {gb:.1} GB): choose a panel size of at least {suggest:.3} m or raise the limit"
+        "the conductors need {panels} panels at a panel size of {panel_size} m, more than the limit of {max} (a dense matrix of {gb:.1} GB): choose a panel size of at least {suggest:.3} m"
     )]
     TooManyPanels {
         /// Panels needed.
