@@ -54,11 +54,13 @@ fn solver(tolerance: f64) -> Result<SolverSettings> {
     SolverSettings::new(tolerance).context("--tolerance")
 }
 
-/// Checked solver settings from `--tolerance` and `--conductors PANEL`.
+/// Checked solver settings from `--tolerance` and `--conductors PANEL|off`
+/// (absent: the default panel size).
 fn solver_with(tolerance: f64, conductors: &Option<String>) -> Result<SolverSettings> {
     let settings = solver(tolerance)?;
-    match conductors {
-        None => Ok(settings),
+    match conductors.as_deref().map(str::trim) {
+        None => Ok(settings.with_default_conductors()),
+        Some("off") => Ok(settings.without_conductors()),
         Some(panel) => {
             let size = crate::units::parse_quantity(panel, Dim::Length)
                 .map_err(|e| anyhow::anyhow!("--conductors: {e}"))?;
@@ -134,7 +136,7 @@ fn line_charge(line: &Line, scene: &Scene) -> Result<ReadingsResult> {
 }
 
 fn check(a: &CheckArgs) -> Result<Outcome> {
-    let (line, _, r) = load_with_charge(&a.line, SolverSettings::default())?;
+    let (line, _, r) = load_with_charge(&a.line, solver_with(1e-9, &a.conductors)?)?;
     let s = summary::check_text(&line, &r.charge, &a.line.display().to_string());
     print(&s)?;
     Ok(Outcome::Pass)
@@ -415,7 +417,7 @@ fn plan_settings(a: &PlanArgs, line: &Line) -> Result<crate::plan::PlanSettings>
 fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
     use std::io::IsTerminal;
     let (text, line) = read_line(&a.line)?;
-    let solver = solver(a.tolerance)?;
+    let solver = solver_with(a.tolerance, &a.conductors)?;
     let st = plan_settings(a, &line)?;
     if let Some(out) = &a.apply
         && out.exists()
@@ -517,7 +519,7 @@ fn demo(a: &DemoArgs) -> Result<Outcome> {
         line_text: text,
         extra_profiles: &[],
         out: &a.out,
-        settings: SolverSettings::default(),
+        settings: SolverSettings::default().with_default_conductors(),
         map_resolution: DEMO_MAP_RESOLUTION,
         plan: Some(3),
     })?;

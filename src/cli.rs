@@ -53,10 +53,11 @@ pub struct AssessArgs {
     /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
     pub tolerance: f64,
-    /// Include the charge induced on the line's conductors (grounded and
-    /// isolated rollers, `conductors:`), solved on panels of about this
-    /// size, e.g. "50 mm" (without it, only the ground plane screens).
-    #[arg(long, value_name = "PANEL")]
+    /// Panel size of the conductors' solve (grounded and isolated rollers,
+    /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
+    /// has too many conductors for it. "off": no conductors, only the
+    /// ground plane screens (the free-space model).
+    #[arg(long, value_name = "PANEL|off")]
     pub conductors: Option<String>,
     /// Points per side of the field map (the map has N × N/2 points).
     #[arg(long, default_value_t = 160, value_name = "N")]
@@ -78,10 +79,11 @@ pub struct ReadingsArgs {
     /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
     pub tolerance: f64,
-    /// Include the charge induced on the line's conductors (grounded and
-    /// isolated rollers, `conductors:`), solved on panels of about this
-    /// size, e.g. "50 mm" (without it, only the ground plane screens).
-    #[arg(long, value_name = "PANEL")]
+    /// Panel size of the conductors' solve (grounded and isolated rollers,
+    /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
+    /// has too many conductors for it. "off": no conductors, only the
+    /// ground plane screens (the free-space model).
+    #[arg(long, value_name = "PANEL|off")]
     pub conductors: Option<String>,
 }
 
@@ -127,6 +129,12 @@ pub struct PlanArgs {
     /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-6, value_name = "TOL")]
     pub tolerance: f64,
+    /// Panel size of the conductors' solve (grounded and isolated rollers,
+    /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
+    /// has too many conductors for it. "off": no conductors, only the
+    /// ground plane screens (the free-space model).
+    #[arg(long, value_name = "PANEL|off")]
+    pub conductors: Option<String>,
 }
 
 /// Kind of static eliminator.
@@ -150,6 +158,12 @@ pub struct ProfilesArgs {
 pub struct CheckArgs {
     /// The line description (YAML).
     pub line: PathBuf,
+    /// Panel size of the conductors' solve (grounded and isolated rollers,
+    /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
+    /// has too many conductors for it. "off": no conductors, only the
+    /// ground plane screens (the free-space model).
+    #[arg(long, value_name = "PANEL|off")]
+    pub conductors: Option<String>,
 }
 
 /// `websigma field`
@@ -172,10 +186,11 @@ pub struct FieldArgs {
     /// Relative tolerance of the integration (1e-12 to 1e-2).
     #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
     pub tolerance: f64,
-    /// Include the charge induced on the line's conductors (grounded and
-    /// isolated rollers, `conductors:`), solved on panels of about this
-    /// size, e.g. "50 mm" (without it, only the ground plane screens).
-    #[arg(long, value_name = "PANEL")]
+    /// Panel size of the conductors' solve (grounded and isolated rollers,
+    /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
+    /// has too many conductors for it. "off": no conductors, only the
+    /// ground plane screens (the free-space model).
+    #[arg(long, value_name = "PANEL|off")]
     pub conductors: Option<String>,
 }
 

@@ -118,9 +118,12 @@ fn field_json_has_the_documented_shape() {
     assert!((mag - (e[0] * e[0] + e[1] * e[1] + e[2] * e[2]).sqrt()).abs() <= 1e-12 * mag);
     // Above a positively charged horizontal span the field points up.
     assert!(e[2] > 0.0);
-    // The contributions add up to the total (superposition).
+    // The contributions add up to the total (superposition): three spans
+    // and the charge induced on the grounded rollers (conductors are in by
+    // default).
     let c = pts[0]["contributions"].as_array().unwrap();
-    assert_eq!(c.len(), 3);
+    assert_eq!(c.len(), 4);
+    assert!(c[3]["span"].as_str().unwrap().contains("conductors"));
     let vsum: f64 = c.iter().map(|x| x["V"].as_f64().unwrap()).sum();
     let v0 = pts[0]["V"].as_f64().unwrap();
     assert!((vsum - v0).abs() <= 1e-12 * v0.abs());

@@ -131,9 +131,7 @@ fn assess_with_conductors_screens_the_operator() {
         let mut cmd = websigma();
         cmd.arg("assess").arg(&path).arg("--out").arg(&out);
         cmd.args(["--map-resolution", "20"]);
-        if conductors {
-            cmd.args(["--conductors", "80 mm"]);
-        }
+        cmd.args(["--conductors", if conductors { "80 mm" } else { "off" }]);
         let code = cmd.assert().get_output().status.code();
         assert!(matches!(code, Some(0) | Some(1)), "{code:?}");
         let dir = crate::util::only_report(&out);

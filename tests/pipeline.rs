@@ -83,8 +83,17 @@ fn r8_demo_line_results_match_the_copy_stored_before_the_scene() {
         env!("CARGO_MANIFEST_DIR"),
         "/tests/fixtures/baseline/demo_line.yaml"
     );
+    // The stored copy is the free-space model (conductors off).
     assert_eq!(
-        scenes_built_by(&["websigma", "assess", line, "--out", out]),
+        scenes_built_by(&[
+            "websigma",
+            "assess",
+            line,
+            "--out",
+            out,
+            "--conductors",
+            "off"
+        ]),
         1
     );
     let got: serde_json::Value = serde_json::from_str(

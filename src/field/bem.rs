@@ -558,15 +558,19 @@ impl Bem {
     /// Induced charge for external potential `external` [V] at the
     /// collocation points, with every isolated conductor carrying its given charge.
     pub fn solve(&self, external: &[Volts]) -> Result<Induced, BemError> {
-        let charges: Vec<Coulombs> = self
-            .iso
+        self.solve_with_charges(external, &self.given_charges())
+    }
+
+    /// The net charge given to each isolated conductor (order of
+    /// [`Conductor::isolated`]) [C].
+    pub fn given_charges(&self) -> Vec<Coulombs> {
+        self.iso
             .iter()
             .map(|&k| match self.conductors[k].spec.earthing {
                 Earthing::Isolated { charge, .. } => charge,
                 Earthing::Grounded => 0.0,
             })
-            .collect();
-        self.solve_with_charges(external, &charges)
+            .collect()
     }
 
     /// The linear response to `external` alone: every isolated conductor's

@@ -51,6 +51,17 @@ use std::f64::consts::PI;
 
 use super::kernels::{LocalField, rectangle_geometry};
 
+/// Beyond this many larger half-sides from a panel's centre its influence is
+/// taken with the 2 × 2 Gauss rule (see [`Panel::factors`]).
+pub const GAUSS2_RATIO: f64 = 30.0;
+/// Beyond this many larger half-sides (and within [`GAUSS2_RATIO`]) the
+/// 3 × 3 Gauss rule.
+pub const GAUSS3_RATIO: f64 = 8.0;
+const GL2_NODES: [f64; 2] = [-0.577_350_269_189_625_8, 0.577_350_269_189_625_8];
+const GL2_WEIGHTS: [f64; 2] = [1.0, 1.0];
+const GL3_NODES: [f64; 3] = [-0.774_596_669_241_483_4, 0.0, 0.774_596_669_241_483_4];
+const GL3_WEIGHTS: [f64; 3] = [5.0 / 9.0, 8.0 / 9.0, 5.0 / 9.0];
+
 /// Fewest facets around a cylinder.
 pub const MIN_FACETS: usize = 12;
 /// Shortest accepted length of any conductor dimension [m] (the closed-form
@@ -124,33 +135,91 @@ impl Panel {
     }
 
     /// ∬ dA′/R [m] at `x` (the potential of unit density times 4πε₀).
+    ///
+    /// Exact closed form near the panel; far from it a tensor Gauss–Legendre
+    /// rule (see [`Panel::factors`] for the distances and the error bound).
     #[inline]
     pub fn potential_factor(&self, x: [f64; 3]) -> f64 {
-        rectangle_geometry(
-            -self.half_u,
-            self.half_u,
-            -self.half_v,
-            self.half_v,
-            self.local(x),
-        )
-        .v
+        let l = self.local(x);
+        match self.far_rule(l) {
+            Some(n) => self.gauss(l, n, false).v,
+            None => rectangle_geometry(-self.half_u, self.half_u, -self.half_v, self.half_v, l).v,
+        }
     }
 
     /// ∬ dA′/R [m] and ∬ (x − r′)/R³ dA′ [1] (global components) at `x`.
+    ///
+    /// Near the panel (distance r from its centre below [`GAUSS3_RATIO`]·h,
+    /// h the larger half-side) the exact closed form of
+    /// [`rectangle_geometry`]; farther, an n × n tensor Gauss–Legendre rule
+    /// over the panel, n = 3 up to [`GAUSS2_RATIO`]·h and n = 2 beyond. The
+    /// n-point rule integrates polynomials of degree 2n − 1 exactly; the
+    /// integrands 1/R and (x − r′)/R³ are analytic on the panel for r > √2·h,
+    /// with Taylor coefficients in (h/r)^k, so the relative error falls like
+    /// (h/r)^(2n) (Davis & Rabinowitz, *Methods of Numerical Integration*,
+    /// 2nd ed., §2.7, the Gauss error term; measured: halving h/r divides the
+    /// error by 16 for n = 2 and 64 for n = 3). The thresholds keep the
+    /// relative error of V and of **E** (vector norm) below 1e-6 in every
+    /// direction, measured for panels of aspect ratio 1 to 5 in this
+    /// module's tests (`far_rules_match_the_closed_form`); the largest, for
+    /// **E** with n = 3 at 8·h, is 6e-7. Cost: 4 or 9 square roots against
+    /// logarithms and arctangents for the closed form.
     #[inline]
     pub fn factors(&self, x: [f64; 3]) -> LocalField {
-        let f = rectangle_geometry(
-            -self.half_u,
-            self.half_u,
-            -self.half_v,
-            self.half_v,
-            self.local(x),
-        );
+        let l = self.local(x);
+        let f = match self.far_rule(l) {
+            Some(n) => self.gauss(l, n, true),
+            None => rectangle_geometry(-self.half_u, self.half_u, -self.half_v, self.half_v, l),
+        };
         let mut e = [0.0; 3];
         for (k, ek) in e.iter_mut().enumerate() {
             *ek = f.e[0] * self.eu[k] + f.e[1] * self.ev[k] + f.e[2] * self.en[k];
         }
         LocalField { v: f.v, e }
+    }
+
+    /// The Gauss order to use at local point `l`, or `None` for the closed form.
+    #[inline]
+    fn far_rule(&self, l: [f64; 3]) -> Option<usize> {
+        let h = self.half_u.max(self.half_v);
+        let r2 = l[0] * l[0] + l[1] * l[1] + l[2] * l[2];
+        if r2 >= (GAUSS2_RATIO * h).powi(2) {
+            Some(2)
+        } else if r2 >= (GAUSS3_RATIO * h).powi(2) {
+            Some(3)
+        } else {
+            None
+        }
+    }
+
+    /// The n × n Gauss–Legendre rule (n = 2 or 3) for V and, if `field`,
+    /// the local field factors at local point `l`.
+    #[inline]
+    fn gauss(&self, l: [f64; 3], n: usize, field: bool) -> LocalField {
+        let (nodes, weights): (&[f64], &[f64]) = if n == 2 {
+            (&GL2_NODES, &GL2_WEIGHTS)
+        } else {
+            (&GL3_NODES, &GL3_WEIGHTS)
+        };
+        let jac = self.half_u * self.half_v;
+        let mut out = LocalField::default();
+        for (a, wa) in nodes.iter().zip(weights) {
+            let du = l[0] - a * self.half_u;
+            for (b, wb) in nodes.iter().zip(weights) {
+                let dv = l[1] - b * self.half_v;
+                let r2 = du * du + dv * dv + l[2] * l[2];
+                let inv = 1.0 / r2.sqrt();
+                let w = wa * wb * jac;
+                out.v += w * inv;
+                if field {
+                    let k = w * inv * inv * inv;
+                    out.e[0] += k * du;
+                    out.e[1] += k * dv;
+                    out.e[2] += k * l[2];
+                }
+            }
+        }
+        out
     }
 
     /// `x` in the panel's frame [m].
@@ -527,6 +596,83 @@ mod tests {
                 e.contains("expected") || e.contains("give") || e.contains("finite"),
                 "{e}"
             );
+        }
+    }
+}
+
+#[cfg(test)]
+mod far_field_tests {
+    use super::*;
+
+    fn worst(p: &Panel, ratio: f64, n: usize) -> (f64, f64) {
+        let h = p.half_u.max(p.half_v);
+        let (mut ev, mut ee) = (0.0_f64, 0.0_f64);
+        for i in 0..40 {
+            for j in 0..80 {
+                let th = PI * (i as f64 + 0.5) / 40.0;
+                let ph = 2.0 * PI * j as f64 / 80.0;
+                let l = [
+                    ratio * h * th.sin() * ph.cos(),
+                    ratio * h * th.sin() * ph.sin(),
+                    ratio * h * th.cos(),
+                ];
+                let exact = rectangle_geometry(-p.half_u, p.half_u, -p.half_v, p.half_v, l);
+                let g = p.gauss(l, n, true);
+                ev = ev.max((g.v - exact.v).abs() / exact.v.abs());
+                let de = (0..3)
+                    .map(|k| (g.e[k] - exact.e[k]).powi(2))
+                    .sum::<f64>()
+                    .sqrt();
+                let me = exact.e.iter().map(|x| x * x).sum::<f64>().sqrt();
+                ee = ee.max(de / me);
+            }
+        }
+        (ev, ee)
+    }
+
+    /// The far rules against the closed form on spheres at the switching
+    /// distances (the worst place for each rule), for square and elongated
+    /// panels: relative error of V and of E below 1e-6 (the documented bound).
+    #[test]
+    fn far_rules_match_the_closed_form() {
+        for (hu, hv) in [(0.05, 0.05), (0.05, 0.02), (0.01, 0.05), (0.05, 0.01)] {
+            let p = Panel {
+                center: [0.0; 3],
+                eu: [1.0, 0.0, 0.0],
+                ev: [0.0, 1.0, 0.0],
+                en: [0.0, 0.0, 1.0],
+                half_u: hu,
+                half_v: hv,
+            };
+            let (v3, e3) = worst(&p, GAUSS3_RATIO, 3);
+            let (v2, e2) = worst(&p, GAUSS2_RATIO, 2);
+            for (what, err) in [("V n=3", v3), ("E n=3", e3), ("V n=2", v2), ("E n=2", e2)] {
+                assert!(err < 1e-6, "{what} for {hu}×{hv}: {err:e}");
+            }
+            // Just inside the closed-form region the 3-point rule would not
+            // meet the bound for E: the switch is where it is for a reason.
+            let (_, e_near) = worst(&p, 0.5 * GAUSS3_RATIO, 3);
+            assert!(e_near > 1e-6, "{hu}×{hv}: {e_near:e}");
+        }
+    }
+
+    /// The public factors switch rules without a jump beyond the bound.
+    #[test]
+    fn factors_are_continuous_at_the_switches() {
+        let p = Panel {
+            center: [0.3, -0.2, 1.0],
+            eu: [0.0, 1.0, 0.0],
+            ev: [0.0, 0.0, 1.0],
+            en: [1.0, 0.0, 0.0],
+            half_u: 0.04,
+            half_v: 0.03,
+        };
+        for ratio in [GAUSS3_RATIO, GAUSS2_RATIO] {
+            let r = ratio * 0.04;
+            let inside = p.factors(add(p.center, [r * (1.0 - 1e-9), 0.0, 0.0]));
+            let outside = p.factors(add(p.center, [r * (1.0 + 1e-9), 0.0, 0.0]));
+            assert!((inside.v - outside.v).abs() < 1e-6 * inside.v.abs());
+            assert!((inside.e[0] - outside.e[0]).abs() < 1e-6 * inside.e[0].abs());
         }
     }
 }

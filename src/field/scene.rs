@@ -71,6 +71,9 @@ pub struct Scene {
     /// The conductors' boundary-element solve, factorised once, when the
     /// settings ask for conductors and the line has any.
     bem: Option<Bem>,
+    /// Per isolated conductor of the solve (its order): the wrap arcs
+    /// (s_start, s_end) [m] of the web on it (isolated rollers only).
+    wraps: Vec<Vec<(Meters, Meters)>>,
 }
 
 impl Scene {
@@ -95,8 +98,30 @@ impl Scene {
             })
             .collect();
         let bem = match settings.conductor_panel() {
-            Some(panel) => conductor_solve(line, panel)?,
+            Some(panel) => conductor_solve(line, panel, settings.conductor_panel_given())?,
             None => None,
+        };
+        let wraps = match &bem {
+            Some(b) => {
+                let mut w = vec![Vec::new(); b.given_charges().len()];
+                for c in b.conductors() {
+                    if let Some(r) = c.isolated {
+                        w[r] = line
+                            .path
+                            .arcs
+                            .iter()
+                            .filter(|a| {
+                                line.rollers
+                                    .get(a.roller)
+                                    .is_some_and(|x| x.id == c.spec.id)
+                            })
+                            .map(|a| (a.s_start, a.s_end))
+                            .collect();
+                    }
+                }
+                w
+            }
+            None => Vec::new(),
         };
         Ok(Scene {
             spans,
@@ -104,6 +129,7 @@ impl Scene {
             ground: line.ground_plane,
             settings,
             bem,
+            wraps,
         })
     }
 
@@ -148,13 +174,18 @@ impl Scene {
                     .collect()
             })
             .collect();
+        let wrap_charges = self
+            .wraps
+            .iter()
+            .map(|arcs| arcs.iter().map(|&(a, b)| wrap_charge(charge, a, b)).sum())
+            .collect();
         let mut web = WebField {
             scene: self,
             patches,
             induced: Ok(None),
         };
         if let Some(bem) = &self.bem {
-            web.induced = web.induce(bem).map(Some);
+            web.induced = web.induce(bem, wrap_charges).map(Some);
         }
         web
     }
@@ -179,8 +210,11 @@ impl Scene {
 /// isolated rollers; `conductors:`), or `None` when it has none. A person
 /// stands on the floor: the solve needs a gap to the grounded plane, so the
 /// body's cylinder is taken to start 5 mm above it (the feet's coupling is
-/// the person's lumped capacitance).
-fn conductor_solve(line: &Line, panel: f64) -> Result<Option<Bem>, FieldError> {
+/// the person's lumped capacitance). With a default (not `given`) panel
+/// size, a mesh over the panel limit is retried with the size that fits
+/// (panel count ∝ 1/h², plus 5 %), at most eight times; the size used is
+/// [`Bem::settings`]' panel size.
+fn conductor_solve(line: &Line, panel: f64, given: bool) -> Result<Option<Bem>, FieldError> {
     use crate::model::{
         ConductorEarthing, ConductorKind, ConductorShape, Earthing as RollerEarthing,
     };
@@ -243,10 +277,52 @@ fn conductor_solve(line: &Line, panel: f64) -> Result<Option<Bem>, FieldError> {
         return Ok(None);
     }
     let conductors = |e: super::bem::BemError| FieldError::Conductors(e.to_string());
-    let settings = BemSettings::new(panel).map_err(conductors)?;
-    Bem::new(&specs, line.ground_plane, settings)
-        .map(Some)
-        .map_err(conductors)
+    let mut size = panel;
+    let mut tries = 0;
+    loop {
+        let settings = BemSettings::new(size).map_err(conductors)?;
+        match Bem::new(&specs, line.ground_plane, settings) {
+            Err(super::bem::BemError::TooManyPanels { suggest, .. }) if !given && tries < 8 => {
+                size = (suggest * 1.05).max(size * 1.05);
+                tries += 1;
+            }
+            r => return r.map(Some).map_err(conductors),
+        }
+    }
+}
+
+/// The charge [C] the web carries on a wrap arc from `s0` to `s1` [m]:
+///
+/// $$ Q = \sum_k A_k\,λ\,\bigl(1 - e^{-(b_k - a_k)/λ}\bigr) \int f(y)\,dy, $$
+///
+/// over the charge pieces k = (a_k, b_k, A_k) on the arc (A_k the
+/// centreline density at a_k, λ the decay length; (b_k − a_k) when λ = ∞),
+/// f the across-web shape, ∫f dy = Σ c₀Δy + c₁Δ(y²)/2 + c₂Δ(y³)/3 over its
+/// quadratic pieces.
+fn wrap_charge(charge: &ChargeProfile, s0: Meters, s1: Meters) -> f64 {
+    let across: f64 = quad_pieces(charge)
+        .iter()
+        .map(|p| {
+            let (a, b) = (p.y_lo, p.y_hi);
+            p.c[0] * (b - a)
+                + p.c[1] * (b * b - a * a) / 2.0
+                + p.c[2] * (b.powi(3) - a.powi(3)) / 3.0
+        })
+        .sum();
+    let lambda = charge.decay_length;
+    charge
+        .pieces_between(s0, s1)
+        .iter()
+        .map(|&(a, b, amp)| {
+            let along = if lambda.is_finite() && lambda > 0.0 {
+                lambda * -(-(b - a) / lambda).exp_m1()
+            } else {
+                b - a
+            };
+            amp * along
+        })
+        .sum::<f64>()
+        * across
 }
 
 fn quad_pieces(charge: &ChargeProfile) -> Vec<QuadPiece> {
@@ -321,7 +397,18 @@ impl WebField<'_> {
     /// surface meets its tangent — is taken 5 µm off it, outward from the
     /// roller's axis, which changes the potential by σ·5 µm/ε0 at most, far
     /// below a panel's own variation), then one back-substitution.
-    fn induce(&self, bem: &Bem) -> Result<Induced, FieldError> {
+    ///
+    /// The web's charge on a wrap arc lies a film thickness from the
+    /// roller's metal. On a grounded roller it is bound by the equal and
+    /// opposite charge it draws into the metal beneath it: the pair's field
+    /// outside is that of a dipole layer a film thickness thick, negligible,
+    /// so it is not integrated. On an isolated roller the metal stays
+    /// neutral, so the charge drawn under the film leaves an equal charge of
+    /// the wrap's sign on the rest of the roller: the wrap charge is added to
+    /// the roller's net charge (`wrap_charges`, per isolated conductor), which
+    /// raises its floating potential by Q/C (Gauss's law; the conductor's
+    /// charge redistributes as on any conductor).
+    fn induce(&self, bem: &Bem, wrap_charges: Vec<f64>) -> Result<Induced, FieldError> {
         let points = bem.collocation_points();
         let ext: Vec<f64> = points
             .par_iter()
@@ -333,7 +420,13 @@ impl WebField<'_> {
                 Err(e) => Err(e),
             })
             .collect::<Result<_, _>>()?;
-        bem.solve(&ext)
+        let charges: Vec<f64> = bem
+            .given_charges()
+            .iter()
+            .zip(wrap_charges.iter().chain(std::iter::repeat(&0.0)))
+            .map(|(q, w)| q + w)
+            .collect();
+        bem.solve_with_charges(&ext, &charges)
             .map_err(|e| FieldError::Conductors(e.to_string()))
     }
 
