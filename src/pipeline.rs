@@ -8,7 +8,7 @@
 //! all go through here, so a new physical effect enters in one place: the
 //! scene.
 
-use crate::assess::{Assessment, ThresholdProfile, assess};
+use crate::assess::{Assessment, ThresholdProfile, assess_with_conductors};
 use crate::charge::ChargeProfile;
 use crate::field::{FieldError, FieldMap, Scene, SolverSettings};
 use crate::model::Line;
@@ -87,7 +87,20 @@ pub fn evaluate(
     let web = scene.web(&charge);
     let at: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
     let points = web.solve(&at, true)?;
-    let assessment = assess(line, &charge, &web, &points, profiles)?;
+    // The conductors' results enter the assessment only when the scene
+    // solves conductors; otherwise it keeps its analytic fallbacks.
+    let conductors = match scene.conductors() {
+        Some(_) => Some(web.conductor_results()?),
+        None => None,
+    };
+    let assessment = assess_with_conductors(
+        line,
+        &charge,
+        &web,
+        &points,
+        conductors.as_deref(),
+        profiles,
+    )?;
     Ok(Evaluation {
         readings,
         charge,

@@ -3,6 +3,7 @@
 //! - `analytic`: the field solver against closed forms and published results;
 //! - `bem`: the conductor solve against published capacitances and image solutions;
 //! - `assess`: threshold profiles and the rules applied to small lines;
+//! - `assess_conductors`: the assessment with the conductors' solve;
 //! - `reports`: writer snapshots, the HTML, PNGs, folders, `assess` exit codes;
 //! - `solver`: path-level physics (superposition, images, symmetry);
 //! - `geometry`: web path tangents and arc lengths through the public API;
@@ -12,6 +13,7 @@
 
 mod analytic;
 mod assess;
+mod assess_conductors;
 mod bem;
 mod cli;
 mod conductors;

@@ -50,6 +50,9 @@ pub enum SubjectKind {
     Web,
     /// A static eliminator.
     Eliminator,
+    /// An entry of the line's `conductors:` list (plate, box, cylinder,
+    /// person).
+    Conductor,
 }
 
 /// What a finding is about, by index into the line.
@@ -67,6 +70,8 @@ pub enum Subject {
     Eliminator(usize),
     /// Two eliminators facing each other: `line.eliminators[i]` and `[j]`.
     EliminatorPair(usize, usize),
+    /// `line.conductors[i]`.
+    Conductor(usize),
 }
 
 impl Subject {
@@ -78,6 +83,7 @@ impl Subject {
             Subject::Roller(_) => SubjectKind::Roller,
             Subject::Web => SubjectKind::Web,
             Subject::Eliminator(_) | Subject::EliminatorPair(..) => SubjectKind::Eliminator,
+            Subject::Conductor(_) => SubjectKind::Conductor,
         }
     }
 }
@@ -108,6 +114,38 @@ pub struct RollerCapacitance {
     pub height: Meters,
     /// How h was chosen.
     pub basis: HeightBasis,
+}
+
+/// What the conductors' boundary-element solve gives for one isolated
+/// conductor (a roller or a `conductors:` entry).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SolvedConductor {
+    /// Capacitance to ground C [F], the lumped part included.
+    pub capacitance: Farads,
+    /// Floating potential V [V].
+    pub potential: Volts,
+    /// The lumped capacitance to ground added to the solved one [F] (a
+    /// person's feet to the floor, or a given `capacitance_to_ground`).
+    pub lumped: Option<Farads>,
+    /// Whether `lumped` is the person default rather than given.
+    pub lumped_assumed: bool,
+    /// Panels of the conductor's mesh.
+    pub panels: usize,
+}
+
+/// Where gap discharges occur as the web leaves a grounded roller.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct GapBreakdown {
+    /// Web thickness t [m].
+    pub thickness: Meters,
+    /// Web relative permittivity εr [1].
+    pub eps_r: f64,
+    /// The gap at which the breakdown density is lowest (where a web at the
+    /// limit breaks down first) [m].
+    pub lowest_at: Meters,
+    /// The smallest gap at which the span's own density breaks the gap
+    /// down, when it does [m].
+    pub first_gap: Option<Meters>,
 }
 
 /// Context of a finding, as data.
@@ -186,6 +224,26 @@ pub enum FindingNote {
         /// Index into `line.zones`.
         zone: usize,
     },
+    /// An isolated conductor's capacitance, potential and spark energy
+    /// come from the conductors' solve.
+    Solved(SolvedConductor),
+    /// The analytic estimate of an isolated roller's capacitance, shown
+    /// beside the solved one for comparison.
+    RollerAnalytic(RollerCapacitance),
+    /// The subject is bonded to earth: at 0 V, no shock and no spark.
+    Earthed,
+    /// A person of `conductors:`: body voltage and spark energy are the
+    /// person's floating potential and ½CV² from the solve.
+    Person,
+    /// An insulating roller's chargeable surface A = 2πrL.
+    InsulatingArea {
+        /// Radius r [m].
+        radius: Meters,
+        /// Length L [m].
+        length: Meters,
+    },
+    /// The gap-discharge limit and where breakdown happens.
+    Gap(GapBreakdown),
     /// The profile's own note on the rule.
     Rule(Arc<str>),
 }
@@ -205,6 +263,20 @@ pub enum Assumption {
     NearZone,
     /// The web potential near electronics from 9 samples.
     WebPotential,
+    /// Isolated conductors' capacitance, potential and spark energy from
+    /// the boundary-element solve.
+    ConductorsSolved,
+    /// No conductors' solve: analytic roller capacitance; spark energies of
+    /// isolated conductors, `conductors:` entries and people not assessed.
+    ConductorsNotSolved,
+    /// No conductors' solve: gap discharges at roller separation not
+    /// checked.
+    GapNotChecked,
+    /// The gap voltage of a web leaving a grounded roller is that of a
+    /// charged sheet over a grounded plane.
+    GapVoltage,
+    /// An insulating roller's chargeable surface is its whole surface.
+    InsulatingArea,
 }
 
 /// One rule applied to one subject.

@@ -49,14 +49,64 @@
 //!   Verdict fail if $x \ge$ the allowed potential (margin = x ÷ allowed).
 //!   One finding per point, for its worst span (largest margin); a point
 //!   farther than $d_\text{far}$ from every span gets none.
-//! - **isolated_conductor** — rollers with `earthing: isolated` (insulating
-//!   rollers are not conductors and are skipped), inside or within
-//!   [`NEAR_ZONE`] = 0.5 m of a matching zone's box (the roller's bounding
-//!   box against the zone's). The capacitance of a cylinder of radius r and
-//!   length L over a grounded plane, its axis at height h,
+//! - **isolated_conductor** — the capacitance to ground C of isolated
+//!   conductors (10 pF earthing rule): with `rollers:`, rollers with
+//!   `earthing: isolated` (insulating rollers are not conductors); with
+//!   `conductors:`, the isolated plates, boxes and cylinders of the line's
+//!   `conductors:` list (people have their own rules below). Subjects inside
+//!   or within [`NEAR_ZONE`] = 0.5 m of a matching zone's box (the subject's
+//!   bounding box against the zone's; a roller's is its side-view circle
+//!   times the web width + [`ROLLER_OVERHANG`]). **With the conductors'
+//!   solve** (`Scene::conductors()` is `Some`, results passed to
+//!   [`assess_with_conductors`]) C is `Bem::capacitance_to_ground` (the
+//!   boundary-element capacitance to ground with every other conductor
+//!   held at 0 V, lumped `capacitance_to_ground` included), and a roller's
+//!   finding also shows the analytic estimate below for comparison.
+//!   **Without it** a roller's C is the analytic estimate of a cylinder of
+//!   radius r and length L over a grounded plane, its axis at height h,
 //!   $$ C = \frac{2π ε_0 L}{\operatorname{arcosh}(h/r)}, \qquad L = w + 0.2\ \text{m}, $$
 //!   with h above the ground plane; without one, h = the axis height above
-//!   z = 0, or 1 m (at least 2r) where that is not above r.
+//!   z = 0, or 1 m (at least 2r) where that is not above r; other
+//!   conductors get no finding. The finding's note says which basis was
+//!   used.
+//! - **conductor_spark** — (needs the conductors' solve) the energy a spark
+//!   from an isolated roller (`rollers:`) or an isolated plate, box,
+//!   cylinder or person (`conductors:`) to earth can release,
+//!   $x = W = \tfrac12 C V^2$, V its floating potential with the web's
+//!   charge and C its capacitance to ground, both from the solve. With
+//!   `fail: zone_mie` the failure limit is the lowest MIE of the matching
+//!   zones the conductor is in or within [`NEAR_ZONE`] of.
+//! - **people** — a `conductors:` entry of kind person is a subject of the
+//!   `body_voltage` and `spark_energy` rules on `points: operator` that are
+//!   not zone-bound (the operator-shock profile): x = |V| and x = ½CV² with
+//!   the person's floating potential V and capacitance C (body cylinder +
+//!   lumped feet-to-floor, `PERSON_FEET_CAPACITANCE` = 100 pF unless given)
+//!   from the solve. A grounded person gets a pass with value 0 (held at
+//!   0 V: no shock). A person in or near a zone is compared with the zone's
+//!   MIE by `conductor_spark`, so the zone-bound operator rules keep to
+//!   `points` (a probe in the air, screened by the conductors when solved).
+//!   Without the solve, people get no finding.
+//! - **insulating_surface** — rollers with `earthing: insulating` inside or
+//!   within [`NEAR_ZONE`] of a matching zone: the chargeable insulating
+//!   surface $x = A = 2π r L$ [m², a plain number since `units` has no
+//!   area], r the radius and L the roller's length (the whole surface
+//!   counts: any part may face the charged web or be rubbed). The shipped
+//!   limits are IEC TS 60079-32-1 7.4.2 (zone 0: 50 / 25 / 4 cm², zone 1:
+//!   100 / 100 / 20 cm² for IIA / IIB / IIC; recalled from memory), none in
+//!   zone 2, where that clause sets no area limit.
+//! - **gap_discharge** — (checked with the conductors' solve in the scene,
+//!   though it uses none of its results) for each span that leaves a roller
+//!   with `earthing: grounded`: $x = |σ_c(s_0)| \cdot \max_y |f(y)|$ at the
+//!   span's start $s_0$, against the lowest density that breaks down the
+//!   gap g opening between web and roller,
+//!   $$ σ_B = \min_{5\,µ\text{m} \le g \le 10\,\text{mm}} \frac{ε_0 V_B(g)}{g + t/ε_r}, $$
+//!   $V_B$ Paschen's law at 1 atm (`physics::gap_breakdown_sigma`, see
+//!   [`gap`]); the gap voltage is that of a charged sheet over a grounded
+//!   plane, valid while g ≪ the web width. At or above the limit gap
+//!   discharges must occur (fail); the note gives the gap at which
+//!   breakdown first happens. εr is the web's `relative_permittivity`,
+//!   which every line gives (the validator requires it), so no default is
+//!   needed.
 //! - **propagating_brush** — $x = U_b = t \cdot E_{b,\text{web}}$ (thickness
 //!   × dielectric strength) for spans in a matching zone, one finding per
 //!   span. A propagating brush discharge also needs a bipolar double layer
@@ -72,6 +122,9 @@
 //! | **E**, V | field and potential at a point (relative to ground) | V/m, V |
 //! | C, W | capacitance, stored energy | F, J |
 //! | r, L, h | roller radius, length, axis height | m |
+//! | A | chargeable surface of an insulating roller | m² |
+//! | g, V_B, σ_B | gap web–roller, Paschen breakdown voltage, breakdown density | m, V, C/m² |
+//! | εr | web relative permittivity | 1 |
 //! | w, t | web width, thickness | m |
 //! | E_b,web | dielectric strength of the web | V/m |
 //! | d | distance from an electronics item to a span | m |
@@ -84,6 +137,12 @@
 //!   or any EM text: image line charge) — derived.
 //! - IEC 61000-4-2: 150 pF body model.
 //! - TRBS 2153 8.3.5: earth conductors above 10 pF.
+//! - IEC TS 60079-32-1:2013 7.4.2 (CLC/TR 50404 Table 1): area limits of
+//!   chargeable insulating surfaces — from memory, verify against the
+//!   current edition.
+//! - Paschen's law with the constants of `physics.rs` (E. M. Bazelyan and
+//!   Yu. P. Raizer, *Spark Discharge*); the conductors' capacitances and
+//!   potentials from the boundary-element solve (`field::bem`).
 //! - TRGS 727; IEC TS 60079-32-1: conditions for propagating brush discharges.
 //! - ANSI/ESD S20.20-2021, IEC 61340-5-1: separation of insulators from
 //!   ESD-sensitive items.
@@ -91,12 +150,13 @@
 
 pub mod eliminators;
 mod finding;
+pub mod gap;
 pub mod profile;
 mod rules;
 
 pub use finding::{
-    Assessment, Assumption, Finding, FindingNote, HeightBasis, RollerCapacitance, Subject,
-    SubjectKind, Verdict, VerdictCounts,
+    Assessment, Assumption, Finding, FindingNote, GapBreakdown, HeightBasis, RollerCapacitance,
+    SolvedConductor, Subject, SubjectKind, Verdict, VerdictCounts,
 };
 pub use profile::{
     Applies, Check, Confidence, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
@@ -104,7 +164,7 @@ pub use profile::{
 };
 
 use crate::charge::ChargeProfile;
-use crate::field::{FieldAt, FieldError, FieldMap, PointField};
+use crate::field::{ConductorResult, FieldAt, FieldError, FieldMap, PointField};
 use crate::model::{Line, Roller, Span};
 use crate::units::{EPS0, Farads, Joules, Meters, Volts};
 
@@ -181,17 +241,34 @@ pub fn roller_capacitance(roller: &Roller, line: &Line) -> RollerCapacitance {
     }
 }
 
-/// Applies every rule of every profile to the line.
-///
-/// `points` holds the field at `line.points`, in order, computed with
-/// contributions (if its length differs, the field is recomputed here from
-/// `model`). Pass the profiles through [`with_air_limit`] so that the
-/// physical limit of air is always applied.
+/// Applies every rule of every profile to the line, without a conductors'
+/// solve: [`assess_with_conductors`] with `None`.
 pub fn assess(
     line: &Line,
     charge: &ChargeProfile,
     model: &dyn FieldAt,
     points: &FieldMap,
+    profiles: &[ThresholdProfile],
+) -> Result<Assessment, FieldError> {
+    assess_with_conductors(line, charge, model, points, None, profiles)
+}
+
+/// Applies every rule of every profile to the line.
+///
+/// `points` holds the field at `line.points`, in order, computed with
+/// contributions (if its length differs, the field is recomputed here from
+/// `model`). `conductors` holds `WebField::conductor_results()` of the same
+/// charged scene when the scene has a conductors' solve
+/// (`Scene::conductors()` is `Some`); with `None` the checks that need it
+/// fall back or give no finding and the assessment says so in its
+/// assumptions. Pass the profiles through [`with_air_limit`] so that the
+/// physical limit of air is always applied.
+pub fn assess_with_conductors(
+    line: &Line,
+    charge: &ChargeProfile,
+    model: &dyn FieldAt,
+    points: &FieldMap,
+    conductors: Option<&[ConductorResult]>,
     profiles: &[ThresholdProfile],
 ) -> Result<Assessment, FieldError> {
     let recomputed;
@@ -205,7 +282,7 @@ pub fn assess(
             .collect::<Result<Vec<_>, _>>()?;
         &recomputed
     };
-    let out = rules::apply_all(line, charge, model, fields, profiles, true)?;
+    let out = rules::apply_all(line, charge, model, fields, conductors, profiles, true)?;
     let (mut findings, assumptions) = (out.findings, out.assumptions);
     findings.extend(eliminators::eliminator_findings(line, charge));
     findings.sort_by(|a, b| {
@@ -235,9 +312,12 @@ pub struct Score {
     pub worst_margin: f64,
 }
 
-/// The [`Score`] of a line, exactly as [`assess`] would give it, without
-/// building the findings (the same rules run; only what is kept differs).
-/// `points` must hold the field at `line.points`, in order.
+/// The [`Score`] of a line, exactly as [`assess`] (without a conductors'
+/// solve) would give it, without building the findings (the same rules
+/// run; only what is kept differs). `points` must hold the field at
+/// `line.points`, in order. The checks that need the conductors' solve
+/// (solved capacitances, spark energies of isolated conductors and people,
+/// gap discharges) do not enter the score.
 pub fn score(
     line: &Line,
     charge: &ChargeProfile,
@@ -245,7 +325,7 @@ pub fn score(
     points: &FieldMap,
     profiles: &[ThresholdProfile],
 ) -> Result<Score, FieldError> {
-    let out = rules::apply_all(line, charge, model, &points.points, profiles, false)?;
+    let out = rules::apply_all(line, charge, model, &points.points, None, profiles, false)?;
     let (fails, worst) = eliminators::eliminator_score(line, charge);
     Ok(Score {
         fails: out.fails + fails,

@@ -1,16 +1,20 @@
 //! Applies the rules of the threshold profiles to their subjects (the
 //! checks and their formulas are documented in the parent module). Returns
-//! findings with typed subjects and notes, and the assumptions used.
+//! findings with typed subjects and notes, and the assumptions used. The
+//! checks of conductors (isolated rollers and `conductors:` entries, people,
+//! insulating rollers, gap discharges) are in `rules/conductors.rs`.
+
+mod conductors;
 
 use super::finding::{Assumption, Finding, FindingNote, Subject};
 use super::{
-    Check, DEFAULT_BODY_CAPACITANCE, NEAR_ZONE, ROLLER_OVERHANG, Rule, Subjects, ThresholdProfile,
-    Verdict, WEB_OFFSET, roller_capacitance, span_peak_sigma, stored_energy, verdict_for,
+    Check, DEFAULT_BODY_CAPACITANCE, Rule, Subjects, ThresholdProfile, Verdict, WEB_OFFSET,
+    span_peak_sigma, stored_energy, verdict_for,
 };
 use crate::charge::ChargeProfile;
-use crate::field::{FieldAt, FieldError, PointField, SpanContribution};
+use crate::field::{ConductorResult, FieldAt, FieldError, PointField, SpanContribution};
 use crate::model::geometry::{distance_to_span, span_frame};
-use crate::model::{Earthing, Line, Point, Span};
+use crate::model::{Line, Point, Span};
 
 /// Smallest step between web-potential samples [m].
 const SAMPLE_STEP: f64 = 0.01;
@@ -29,11 +33,17 @@ pub(super) struct Outcome {
 /// built; without, only the failures are counted and the worst margin kept
 /// (the planner's objective, evaluated millions of times): the rules are the
 /// same code either way, only what is kept differs.
+///
+/// `solved` holds the conductors' results (`WebField::conductor_results`,
+/// conducting rollers first in line order, then `line.conductors`) when
+/// the scene has a conductors' solve; `None` keeps the checks that do not
+/// need it and states what was left out.
 pub(super) fn apply_all(
     line: &Line,
     charge: &ChargeProfile,
     model: &dyn FieldAt,
     fields: &[PointField],
+    solved: Option<&[ConductorResult]>,
     profiles: &[ThresholdProfile],
     keep: bool,
 ) -> Result<Outcome, FieldError> {
@@ -42,6 +52,7 @@ pub(super) fn apply_all(
         charge,
         model,
         fields,
+        solved: solved.map(|r| conductors::Solved::new(line, r)),
         keep,
         out: Outcome {
             findings: Vec::new(),
@@ -64,6 +75,8 @@ struct Run<'a> {
     charge: &'a ChargeProfile,
     model: &'a dyn FieldAt,
     fields: &'a [PointField],
+    /// The conductors' solve, when the scene has one.
+    solved: Option<conductors::Solved<'a>>,
     /// Build every finding, or only count.
     keep: bool,
     out: Outcome,
@@ -183,12 +196,17 @@ impl<'a> Run<'a> {
     fn apply(&mut self, profile: &ThresholdProfile, rule: &Rule) -> Result<(), FieldError> {
         match rule.check {
             Check::WebCharge => self.web_charge(profile, rule),
-            Check::FieldAtPoints | Check::BodyVoltage | Check::SparkEnergy => {
-                self.point_values(profile, rule)
+            Check::FieldAtPoints => self.point_values(profile, rule),
+            Check::BodyVoltage | Check::SparkEnergy => {
+                self.point_values(profile, rule);
+                self.people(profile, rule);
             }
             Check::ElectronicsSeparation => self.separation(profile, rule)?,
             Check::IsolatedConductor => self.isolated(profile, rule),
             Check::PropagatingBrush => self.propagating_brush(profile, rule),
+            Check::ConductorSpark => self.conductor_spark(profile, rule),
+            Check::InsulatingSurface => self.insulating(profile, rule),
+            Check::GapDischarge => self.gap_discharge(profile, rule),
         }
         Ok(())
     }
@@ -374,63 +392,6 @@ impl<'a> Run<'a> {
             (Some(v), _) => Ok(v),
             (None, Some(e)) => Err(e),
             (None, None) => Ok(0.0),
-        }
-    }
-
-    fn isolated(&mut self, profile: &ThresholdProfile, rule: &Rule) {
-        let half_len = (self.line.web.width + ROLLER_OVERHANG) / 2.0;
-        for (i, roller) in self.line.rollers.iter().enumerate() {
-            if roller.earthing != Earthing::Isolated {
-                continue;
-            }
-            let mut near_zones = None;
-            if rule.applies.in_zone {
-                self.assume(Assumption::NearZone);
-                let bb = (
-                    [
-                        roller.center[0] - roller.radius,
-                        -half_len,
-                        roller.center[1] - roller.radius,
-                    ],
-                    [
-                        roller.center[0] + roller.radius,
-                        half_len,
-                        roller.center[1] + roller.radius,
-                    ],
-                );
-                let near: Vec<(usize, f64)> = self
-                    .line
-                    .zones
-                    .iter()
-                    .enumerate()
-                    .filter(|(_, z)| rule.applies.zones.matches(z))
-                    .map(|(k, z)| (k, box_distance(bb, (z.min, z.max))))
-                    .filter(|(_, d)| *d <= NEAR_ZONE)
-                    .collect();
-                if near.is_empty() {
-                    continue;
-                }
-                near_zones = Some(near);
-            }
-            self.assume(Assumption::RollerCapacitance);
-            let c = roller_capacitance(roller, self.line);
-            self.push(
-                profile,
-                rule,
-                Found {
-                    subject: Subject::Roller(i),
-                    value: c.capacitance,
-                    warn: rule.warn,
-                    fail: rule.fail,
-                    notes: || {
-                        let mut notes: Vec<FindingNote> =
-                            near_zones.map(FindingNote::NearZones).into_iter().collect();
-                        notes.push(FindingNote::Roller(c));
-                        notes
-                    },
-                    contributions: Vec::new,
-                },
-            );
         }
     }
 

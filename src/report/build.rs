@@ -457,12 +457,28 @@ fn recommendations(line: &Line, findings: &[FindingRow]) -> Vec<String> {
                 "{urgency}: on span {} the web layer could carry a propagating brush discharge ({}): it needs a bipolar double layer, so keep the web from being charged to opposite polarities on its two faces (no strong charging process such as high-speed separation from charged rollers or spraying in the zone), or use a web whose breakdown voltage is below 4 kV; neutralising the net charge alone does not remove this condition.",
                 f.subject, f.note
             )),
+            SubjectKind::Span if f.rule == "gap-discharge" => push(format!(
+                "{urgency}: where span {} leaves its grounded roller the web carries more charge than the opening gap holds: gap discharges must occur there (they cap the charge the web carries off the roller) — neutralise the web before it reaches the roller, or keep a flammable atmosphere away from the separation line ({}).",
+                f.subject, f.note
+            )),
             SubjectKind::Span => push(format!(
                 "{urgency}: reduce the charge on span {} ({}) — neutralise it with a static eliminator on the free span upstream, after the last charging point, where a meter would read the web's field; re-measure after fitting.",
                 f.subject, f.check
             )),
+            SubjectKind::Roller if f.rule.starts_with("insulating-roller") => push(format!(
+                "{urgency}: replace insulating roller {} by a conductive, earthed one, or keep its chargeable surface below the area limit of the zone — {}.",
+                f.subject, f.note
+            )),
             SubjectKind::Roller => push(format!(
                 "{urgency}: bond roller {} to earth (resistance to earth below 1e6 Ω, TRBS 2153 8.3.3) — {}.",
+                f.subject, f.note
+            )),
+            SubjectKind::Conductor if f.subject.ends_with("(person)") => push(format!(
+                "{urgency}: earth {} (conductive footwear and flooring, below 1e8 Ω to earth, TRBS 2153 8.3.3; NFPA 77) and neutralise the spans that charge the body — {}.",
+                f.subject, f.note
+            )),
+            SubjectKind::Conductor => push(format!(
+                "{urgency}: bond {} to earth (resistance to earth below 1e6 Ω, TRBS 2153 8.3.3) — {}.",
                 f.subject, f.note
             )),
             SubjectKind::Point => {

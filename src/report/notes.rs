@@ -145,6 +145,11 @@ pub fn subject_label(line: &Line, s: &crate::assess::Subject) -> String {
             (Some(a), Some(b)) => format!("{} and {}", a.id, b.id),
             _ => String::new(),
         },
+        Subject::Conductor(i) => line
+            .conductors
+            .get(i)
+            .map(|c| format!("{} ({})", c.id, c.kind.text()))
+            .unwrap_or_default(),
     }
 }
 
@@ -154,7 +159,7 @@ fn zone_label(line: &Line, z: usize) -> String {
 
 /// One note of a finding, in words.
 pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
-    use crate::assess::{FindingNote, HeightBasis};
+    use crate::assess::FindingNote;
     use crate::units::format_si;
     let len = |v: f64| format_quantity(v, Dim::Length);
     match n {
@@ -201,22 +206,76 @@ pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
             })
             .collect::<Vec<_>>()
             .join(", "),
-        FindingNote::Roller(c) => {
-            let how = match c.basis {
-                HeightBasis::AboveGroundPlane => "above the ground plane",
-                HeightBasis::TouchesGroundPlane => {
-                    "assumed: the roller reaches the ground plane, so its height above it was replaced by"
-                }
-                HeightBasis::AboveZero => "above z = 0 (no ground plane given)",
-                HeightBasis::NoGround => {
-                    "assumed: no ground plane and the axis is not above z = 0, so the height is"
-                }
+        FindingNote::Roller(c) => format!(
+            "analytic estimate (no conductors' solve): {}",
+            roller_capacitance_words(c)
+        ),
+        FindingNote::RollerAnalytic(c) => format!(
+            "the analytic estimate would give {}: {}",
+            format_quantity(c.capacitance, Dim::Capacitance),
+            roller_capacitance_words(c)
+        ),
+        FindingNote::Solved(sc) => {
+            let lumped = match sc.lumped {
+                Some(l) => format!(
+                    " (the solved body {} + lumped {} to ground{})",
+                    format_quantity(sc.capacitance - l, Dim::Capacitance),
+                    format_quantity(l, Dim::Capacitance),
+                    if sc.lumped_assumed {
+                        ", the assumed feet-to-floor default"
+                    } else {
+                        ", as given"
+                    }
+                ),
+                None => String::new(),
             };
             format!(
-                "r = {}, L = {}, h = {} {how}; C = 2πε0·L/arcosh(h/r)",
-                len(c.radius),
-                len(c.length),
-                len(c.height)
+                "from the conductors' boundary-element solve ({} panels): floating potential V = {}, C = {}{lumped}, ½CV² = {}",
+                sc.panels,
+                format_quantity(sc.potential, Dim::Voltage),
+                format_quantity(sc.capacitance, Dim::Capacitance),
+                format_quantity(
+                    0.5 * sc.capacitance * sc.potential * sc.potential,
+                    Dim::Energy
+                )
+            )
+        }
+        FindingNote::Earthed => {
+            "earthed (grounded): held at 0 V, so no shock and no spark (value 0)".to_string()
+        }
+        FindingNote::Person => {
+            "a person of `conductors:`: potential and capacitance of the body from the solve (body cylinder + feet to floor), not a point in the air".to_string()
+        }
+        FindingNote::InsulatingArea { radius, length } => {
+            let area = 2.0 * std::f64::consts::PI * radius * length;
+            format!(
+                "A = 2πrL = 2π × {} × {} = {} cm² ({} m²), the whole roller surface taken as chargeable",
+                len(*radius),
+                len(*length),
+                format_quantity(area * 1e4, Dim::Number),
+                format_quantity(area, Dim::Number)
+            )
+        }
+        FindingNote::Gap(g) => {
+            use crate::assess::gap::{GAP_MAX, GAP_MIN};
+            let first = match g.first_gap {
+                Some(x) => format!(
+                    "at this density the gap first breaks down at g = {}: gap discharges must occur as the web leaves the roller",
+                    len(x)
+                ),
+                None => format!(
+                    "no gap from {} to {} breaks down at this density",
+                    len(GAP_MIN),
+                    len(GAP_MAX)
+                ),
+            };
+            format!(
+                "limit = the lowest σ_B = ε0·V_B(g)/(g + t/εr) over g = {} to {}, reached at g = {} (t = {}, εr = {}; Paschen's law, air at 1 atm); {first}",
+                len(GAP_MIN),
+                len(GAP_MAX),
+                len(g.lowest_at),
+                len(g.thickness),
+                g.eps_r
             )
         }
         FindingNote::BreakdownVoltage {
@@ -259,6 +318,28 @@ pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
     }
 }
 
+/// An analytic roller capacitance estimate in words.
+fn roller_capacitance_words(c: &crate::assess::RollerCapacitance) -> String {
+    use crate::assess::HeightBasis;
+    let len = |v: f64| format_quantity(v, Dim::Length);
+    let how = match c.basis {
+        HeightBasis::AboveGroundPlane => "above the ground plane",
+        HeightBasis::TouchesGroundPlane => {
+            "assumed: the roller reaches the ground plane, so its height above it was replaced by"
+        }
+        HeightBasis::AboveZero => "above z = 0 (no ground plane given)",
+        HeightBasis::NoGround => {
+            "assumed: no ground plane and the axis is not above z = 0, so the height is"
+        }
+    };
+    format!(
+        "r = {}, L = {}, h = {} {how}; C = 2πε0·L/arcosh(h/r)",
+        len(c.radius),
+        len(c.length),
+        len(c.height)
+    )
+}
+
 /// A finding's notes in words, joined with `; `.
 pub fn finding_notes(line: &Line, f: &crate::assess::Finding) -> String {
     f.notes
@@ -285,7 +366,22 @@ pub fn assumption(a: crate::assess::Assumption) -> &'static str {
             "an isolated roller's capacitance is that of a cylinder over a grounded plane, C = 2πε0·L/arcosh(h/r), L = web width + 0.2 m; without a ground plane h is the axis height above z = 0 (1 m where that is not above the radius)"
         }
         Assumption::NearZone => {
-            "an isolated roller counts as near a zone when its bounding box is within 0.5 m of the zone's box"
+            "a roller or conductor counts as near a zone when its bounding box is within 0.5 m of the zone's box"
+        }
+        Assumption::ConductorsSolved => {
+            "isolated conductors' capacitance to ground, floating potential and spark energy ½CV² come from the conductors' boundary-element solve with the web's charge; a person's capacitance is the body cylinder's plus the lumped feet-to-floor capacitance (100 pF unless given)"
+        }
+        Assumption::ConductorsNotSolved => {
+            "conductors are not solved (run with --conductors): isolated rollers' capacitance is the analytic estimate, and the spark energy of isolated conductors, the 10 pF rule for `conductors:` entries and the shock rules for people of `conductors:` are not assessed"
+        }
+        Assumption::GapNotChecked => {
+            "conductors are not solved (run with --conductors): gap discharges where the web leaves a grounded roller are not checked"
+        }
+        Assumption::GapVoltage => {
+            "the gap opening where the web leaves a grounded roller is a charged sheet over a grounded plane (g ≪ web width, uniform field, air at 1 atm), V_g = σ(g + t/εr)/ε0, broken down by Paschen's law for gaps of 5 µm to 10 mm; σ is the largest |σ| across the web at the start of the span"
+        }
+        Assumption::InsulatingArea => {
+            "an insulating roller's whole surface 2πrL counts as its chargeable area"
         }
         Assumption::WebPotential => {
             "the web potential near an electronics item is the largest |V| at 9 places on each span around its point nearest to the item, 10 µm off the web"

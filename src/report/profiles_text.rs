@@ -41,7 +41,13 @@ pub fn profile_text(p: &ThresholdProfile) -> String {
                 r.id.to_string(),
                 r.what.to_string(),
                 limit(r.warn, r.dim),
-                limit(r.fail, r.dim),
+                if r.fail_is_zone_mie {
+                    "zone MIE".to_string()
+                } else if r.fail_is_paschen {
+                    "Paschen".to_string()
+                } else {
+                    limit(r.fail, r.dim)
+                },
                 r.confidence.text().to_string(),
             ]
         })

@@ -21,15 +21,23 @@ pub enum Check {
     SparkEnergy,
     /// Web potential near electronics against the separation rule [V].
     ElectronicsSeparation,
-    /// Capacitance of an isolated conductive roller [F].
+    /// Capacitance of an isolated conductive roller or conductor [F].
     IsolatedConductor,
     /// Breakdown voltage of the web layer (propagating brush) [V].
     PropagatingBrush,
+    /// Spark energy ½CV² of an isolated roller or conductor, from the
+    /// conductors' solve [J].
+    ConductorSpark,
+    /// Chargeable surface 2πrL of an insulating roller [m², as a number].
+    InsulatingSurface,
+    /// Density where the web leaves a grounded roller against the density
+    /// that breaks the opening gap down (Paschen's law) [C/m²].
+    GapDischarge,
 }
 
 impl Check {
     /// Every check, in the order of the documentation.
-    pub const ALL: [Check; 7] = [
+    pub const ALL: [Check; 10] = [
         Check::WebCharge,
         Check::FieldAtPoints,
         Check::BodyVoltage,
@@ -37,6 +45,9 @@ impl Check {
         Check::ElectronicsSeparation,
         Check::IsolatedConductor,
         Check::PropagatingBrush,
+        Check::ConductorSpark,
+        Check::InsulatingSurface,
+        Check::GapDischarge,
     ];
 
     /// The keyword used in the YAML: `web_charge`, ….
@@ -49,19 +60,25 @@ impl Check {
             Check::ElectronicsSeparation => "electronics_separation",
             Check::IsolatedConductor => "isolated_conductor",
             Check::PropagatingBrush => "propagating_brush",
+            Check::ConductorSpark => "conductor_spark",
+            Check::InsulatingSurface => "insulating_surface",
+            Check::GapDischarge => "gap_discharge",
         }
     }
 
     /// The dimension of the checked value and of the limits.
     pub fn dim(self) -> Dim {
         match self {
-            Check::WebCharge => Dim::SurfaceChargeDensity,
+            Check::WebCharge | Check::GapDischarge => Dim::SurfaceChargeDensity,
             Check::FieldAtPoints => Dim::Field,
             Check::BodyVoltage | Check::ElectronicsSeparation | Check::PropagatingBrush => {
                 Dim::Voltage
             }
-            Check::SparkEnergy => Dim::Energy,
+            Check::SparkEnergy | Check::ConductorSpark => Dim::Energy,
             Check::IsolatedConductor => Dim::Capacitance,
+            // An area in m²: `units` has no area dimension, so the value and
+            // the limits are plain numbers in m² (the notes give cm²).
+            Check::InsulatingSurface => Dim::Number,
         }
     }
 }
@@ -132,6 +149,9 @@ pub enum Subjects {
     Points(Option<PointKind>),
     /// Rollers.
     Rollers,
+    /// Entries of the line's `conductors:` list (plates, boxes, cylinders,
+    /// people).
+    Conductors,
 }
 
 /// Which hazardous zones a rule concerns; an empty list means any.
@@ -157,7 +177,8 @@ pub struct Applies {
     /// What kind of subject.
     pub subjects: Subjects,
     /// Only subjects in a matching zone: spans touching its box, points
-    /// inside it, rollers inside or near it (see `assess::NEAR_ZONE`).
+    /// inside it, rollers and conductors inside or near it (see
+    /// `assess::NEAR_ZONE`).
     pub in_zone: bool,
     /// The zones that count when `in_zone` is set.
     pub zones: ZoneFilter,
@@ -186,11 +207,17 @@ pub struct Rule {
     pub applies: Applies,
     /// Warning limit, SI [unit of `dim`].
     pub warn: Option<f64>,
-    /// Failure limit, SI [unit of `dim`]; `None` when `fail_is_zone_mie`.
+    /// Failure limit, SI [unit of `dim`]; `None` when `fail_is_zone_mie` or
+    /// `fail_is_paschen`.
     pub fail: Option<f64>,
     /// `fail: zone_mie`: the failure limit is the minimum ignition energy of
-    /// the zone the operator stands in (spark_energy only).
+    /// the zone the operator stands in (spark_energy), or of the zones the
+    /// conductor is in or near (conductor_spark).
     pub fail_is_zone_mie: bool,
+    /// `fail: paschen`: the failure limit is the lowest density at which
+    /// the gap opening between the web and a grounded roller breaks down by
+    /// Paschen's law (gap_discharge only).
+    pub fail_is_paschen: bool,
     /// electronics_separation: the near limit (e.g. 125 V within 25 mm).
     pub near: Option<Separation>,
     /// electronics_separation: the far limit (e.g. 2000 V within 300 mm).

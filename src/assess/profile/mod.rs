@@ -20,13 +20,25 @@
 //! | `body_voltage` | operator points | `warn`/`fail`, voltage (V) |
 //! | `spark_energy` | operator points | `warn`/`fail` energy (J); `fail: zone_mie` |
 //! | `electronics_separation` | electronics points | `near`/`far`: `{distance, voltage}` (m, V) |
-//! | `isolated_conductor` | rollers | `warn`/`fail`, capacitance (F) |
+//! | `isolated_conductor` | rollers, conductors | `warn`/`fail`, capacitance (F) |
 //! | `propagating_brush` | spans | `warn`/`fail`, voltage (V) |
+//! | `conductor_spark` | rollers, conductors | `warn`/`fail` energy (J); `fail: zone_mie` |
+//! | `insulating_surface` | rollers | `warn`/`fail`, area in m² as a plain number |
+//! | `gap_discharge` | spans | `fail: paschen` only (computed) |
+//!
+//! Subjects: `spans: all | in_zone`, `points: KIND` (with `in_zone: true`
+//! to keep only points inside a matching zone), `rollers: all |
+//! in_or_near_zone`, `conductors: all | in_or_near_zone` (the entries of
+//! the line's `conductors:` list). `zone:` and `gas_group:` narrow the
+//! zones of zone-bound subjects. The operator rules (`body_voltage`,
+//! `spark_energy` on `points: operator`) also apply to the people of
+//! `conductors:` when the rule is not zone-bound.
 //!
 //! Refused: an unknown check or key, a limit of the wrong dimension, a limit
 //! that is not positive, `warn` above `fail`, a rule without limits, a missing
 //! `source` or `confidence`, duplicate rule ids, subjects that do not suit the
-//! check (e.g. `body_voltage` on meters).
+//! check (e.g. `body_voltage` on meters), `zone_mie` or `paschen` on a check
+//! that does not compute that limit.
 //!
 //! ## Reference
 //! The profile format is this program's own; the limits it carries cite their

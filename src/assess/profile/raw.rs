@@ -53,6 +53,7 @@ pub(super) struct RawApplies {
     pub(super) spans: Option<Scalar>,
     pub(super) points: Option<Scalar>,
     pub(super) rollers: Option<Scalar>,
+    pub(super) conductors: Option<Scalar>,
     pub(super) in_zone: Option<Scalar>,
     pub(super) zone: Option<RawList>,
     pub(super) gas_group: Option<RawList>,

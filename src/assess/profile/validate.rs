@@ -203,9 +203,9 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
         .map(|n| n.as_str().trim().to_string())
         .filter(|n| !n.is_empty());
     let applies = validate_applies(ctx, r.applies.as_ref(), check, &format!("{p}.applies"));
-    let (warn, fail, zone_mie, near, far) = match check {
+    let (warn, fail, computed, near, far) = match check {
         Some(c) => validate_limits(ctx, r, c, p, applies.as_ref()),
-        None => (None, None, false, None, None),
+        None => (None, None, None, None, None),
     };
     if ctx.issues.len() > before {
         return None;
@@ -219,7 +219,8 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
         applies,
         warn,
         fail,
-        fail_is_zone_mie: zone_mie,
+        fail_is_zone_mie: computed == Some(Computed::ZoneMie),
+        fail_is_paschen: computed == Some(Computed::Paschen),
         near,
         far,
         dim: check.dim(),
@@ -229,10 +230,19 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
     })
 }
 
+/// A failure limit the assessment computes instead of reading it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Computed {
+    /// `fail: zone_mie`.
+    ZoneMie,
+    /// `fail: paschen`.
+    Paschen,
+}
+
 type Limits = (
     Option<f64>,
     Option<f64>,
-    bool,
+    Option<Computed>,
     Option<Separation>,
     Option<Separation>,
 );
@@ -278,7 +288,7 @@ fn validate_limits(
                 );
             }
         }
-        return (None, None, false, near, far);
+        return (None, None, None, near, far);
     }
     for (key, v) in [("near", r.near.is_some()), ("far", r.far.is_some())] {
         if v {
@@ -292,26 +302,65 @@ fn validate_limits(
         .warn
         .as_ref()
         .and_then(|w| ctx.limit(w, dim, &format!("{p}.warn")));
-    let mut zone_mie = false;
+    let mut computed = None;
     let fail = match &r.fail {
         Some(f) if f.as_str().trim() == "zone_mie" => {
-            if check != Check::SparkEnergy {
-                ctx.err(
-                    format!("{p}.fail"),
-                    "`zone_mie` is a limit of spark_energy only: give a quantity",
-                );
-            } else if !applies.is_some_and(|a| a.in_zone) {
-                ctx.err(
+            let zoned = applies.is_some_and(|a| a.in_zone);
+            match check {
+                Check::SparkEnergy if !zoned => ctx.err(
                     format!("{p}.fail"),
                     "`fail: zone_mie` needs `applies: {points: operator, in_zone: true, ...}` (the MIE is that of the zone the operator stands in)",
+                ),
+                Check::ConductorSpark if !zoned => ctx.err(
+                    format!("{p}.fail"),
+                    "`fail: zone_mie` needs `applies: {rollers: in_or_near_zone, ...}` or `{conductors: in_or_near_zone, ...}` (the MIE is that of the zones the conductor is in or near)",
+                ),
+                Check::SparkEnergy | Check::ConductorSpark => {}
+                _ => ctx.err(
+                    format!("{p}.fail"),
+                    "`zone_mie` is a limit of spark_energy and conductor_spark only: give a quantity",
+                ),
+            }
+            computed = Some(Computed::ZoneMie);
+            None
+        }
+        Some(f) if f.as_str().trim() == "paschen" => {
+            if check != Check::GapDischarge {
+                ctx.err(
+                    format!("{p}.fail"),
+                    "`paschen` is a limit of gap_discharge only: give a quantity",
                 );
             }
-            zone_mie = true;
+            computed = Some(Computed::Paschen);
+            None
+        }
+        Some(f) if check == Check::GapDischarge => {
+            ctx.err(
+                format!("{p}.fail"),
+                format!(
+                    "gap_discharge computes its limit from Paschen's law: write `fail: paschen`, got \"{}\"",
+                    f.as_str().trim()
+                ),
+            );
             None
         }
         Some(f) => ctx.limit(f, dim, &format!("{p}.fail")),
         None => None,
     };
+    if check == Check::GapDischarge {
+        if r.warn.is_some() {
+            ctx.err(
+                format!("{p}.warn"),
+                "gap_discharge takes only `fail: paschen` (the limit is computed from the web and Paschen's law)",
+            );
+        }
+        if r.fail.is_none() {
+            ctx.err(
+                format!("{p}.fail"),
+                "missing: gap_discharge needs `fail: paschen`",
+            );
+        }
+    }
     if r.warn.is_none() && r.fail.is_none() {
         ctx.err(
             p,
@@ -333,7 +382,7 @@ fn validate_limits(
             ),
         );
     }
-    (warn, fail, zone_mie, None, None)
+    (warn, fail, computed, None, None)
 }
 
 fn separation(ctx: &mut Ctx, s: Option<&RawSeparation>, p: &str) -> Option<Separation> {
@@ -379,18 +428,23 @@ fn validate_applies(
     let Some(a) = a else {
         ctx.err(
             p,
-            "missing: expected {spans: all | in_zone, ...}, {points: KIND, in_zone: true|false, ...} or {rollers: all | in_or_near_zone, ...}",
+            "missing: expected {spans: all | in_zone, ...}, {points: KIND, in_zone: true|false, ...}, {rollers: all | in_or_near_zone, ...} or {conductors: all | in_or_near_zone, ...}",
         );
         return None;
     };
-    let given = [a.spans.is_some(), a.points.is_some(), a.rollers.is_some()]
-        .iter()
-        .filter(|b| **b)
-        .count();
+    let given = [
+        a.spans.is_some(),
+        a.points.is_some(),
+        a.rollers.is_some(),
+        a.conductors.is_some(),
+    ]
+    .iter()
+    .filter(|b| **b)
+    .count();
     if given != 1 {
         ctx.err(
             p,
-            "expected exactly one of `spans:`, `points:` or `rollers:`",
+            "expected exactly one of `spans:`, `points:`, `rollers:` or `conductors:`",
         );
         return None;
     }
@@ -403,6 +457,11 @@ fn validate_applies(
         (
             Subjects::Rollers,
             all_or_zoned(ctx, a, s, p, "rollers", "in_or_near_zone")?,
+        )
+    } else if let Some(s) = &a.conductors {
+        (
+            Subjects::Conductors,
+            all_or_zoned(ctx, a, s, p, "conductors", "in_or_near_zone")?,
         )
     } else {
         let kind = match a.points.as_ref().map(word).as_deref() {
@@ -465,14 +524,16 @@ fn validate_applies(
     if !in_zone && (a.zone.is_some() || a.gas_group.is_some()) {
         ctx.err(
             p,
-            "`zone:` and `gas_group:` only restrict zone-bound subjects: use `spans: in_zone`, `in_zone: true` or `rollers: in_or_near_zone`",
+            "`zone:` and `gas_group:` only restrict zone-bound subjects: use `spans: in_zone`, `in_zone: true`, `rollers: in_or_near_zone` or `conductors: in_or_near_zone`",
         );
     }
     if let Some(c) = check {
         let fits = matches!(
             (c, subjects),
-            (Check::WebCharge | Check::PropagatingBrush, Subjects::Spans)
-                | (Check::FieldAtPoints, Subjects::Points(_))
+            (
+                Check::WebCharge | Check::PropagatingBrush | Check::GapDischarge,
+                Subjects::Spans
+            ) | (Check::FieldAtPoints, Subjects::Points(_))
                 | (
                     Check::BodyVoltage | Check::SparkEnergy,
                     Subjects::Points(Some(PointKind::Operator))
@@ -481,15 +542,24 @@ fn validate_applies(
                     Check::ElectronicsSeparation,
                     Subjects::Points(Some(PointKind::Electronics))
                 )
-                | (Check::IsolatedConductor, Subjects::Rollers)
+                | (
+                    Check::IsolatedConductor | Check::ConductorSpark,
+                    Subjects::Rollers | Subjects::Conductors
+                )
+                | (Check::InsulatingSurface, Subjects::Rollers)
         );
         if !fits {
             let expected = match c {
-                Check::WebCharge | Check::PropagatingBrush => "`spans: all | in_zone`",
+                Check::WebCharge | Check::PropagatingBrush | Check::GapDischarge => {
+                    "`spans: all | in_zone`"
+                }
                 Check::FieldAtPoints => "`points: operator | electronics | meter | probe | any`",
                 Check::BodyVoltage | Check::SparkEnergy => "`points: operator`",
                 Check::ElectronicsSeparation => "`points: electronics`",
-                Check::IsolatedConductor => "`rollers: all | in_or_near_zone`",
+                Check::IsolatedConductor | Check::ConductorSpark => {
+                    "`rollers: all | in_or_near_zone` or `conductors: all | in_or_near_zone`"
+                }
+                Check::InsulatingSurface => "`rollers: all | in_or_near_zone`",
             };
             ctx.err(p, format!("{} applies to {expected}", c.text()));
             return None;
@@ -579,6 +649,70 @@ mod tests {
             [
                 "rules[0].applies.in_zone: `in_zone:` belongs to points: write `rollers: in_or_near_zone`"
             ]
+        );
+    }
+
+    /// A one-rule profile with `check`, `applies` and `limits` (YAML lines).
+    fn one_rule(check: &str, applies: &str, limits: &str) -> String {
+        format!(
+            "name: t\ntitle: T\ndescription: d\nrules:\n  - id: r\n    check: {check}\n    what: w\n    applies: {applies}\n{limits}    source: s\n    confidence: derived\n"
+        )
+    }
+
+    #[test]
+    fn computed_limits_belong_to_their_checks() {
+        let p = parse_profile(
+            &one_rule("gap_discharge", "{spans: all}", "    fail: paschen\n"),
+            "test",
+        )
+        .unwrap();
+        assert!(p.rules[0].fail_is_paschen && p.rules[0].fail.is_none());
+        assert_eq!(
+            problems(&one_rule(
+                "web_charge",
+                "{spans: all}",
+                "    fail: paschen\n"
+            )),
+            ["rules[0].fail: `paschen` is a limit of gap_discharge only: give a quantity"]
+        );
+        assert_eq!(
+            problems(&one_rule(
+                "gap_discharge",
+                "{spans: all}",
+                "    fail: 20 uC/m^2\n"
+            )),
+            [
+                "rules[0].fail: gap_discharge computes its limit from Paschen's law: write `fail: paschen`, got \"20 uC/m^2\""
+            ]
+        );
+        let p = parse_profile(
+            &one_rule(
+                "conductor_spark",
+                "{conductors: in_or_near_zone, zone: [1]}",
+                "    fail: zone_mie\n",
+            ),
+            "test",
+        )
+        .unwrap();
+        assert!(p.rules[0].fail_is_zone_mie);
+        assert_eq!(p.rules[0].applies.subjects, Subjects::Conductors);
+        assert_eq!(
+            problems(&one_rule(
+                "conductor_spark",
+                "{conductors: all}",
+                "    fail: zone_mie\n"
+            )),
+            [
+                "rules[0].fail: `fail: zone_mie` needs `applies: {rollers: in_or_near_zone, ...}` or `{conductors: in_or_near_zone, ...}` (the MIE is that of the zones the conductor is in or near)"
+            ]
+        );
+        assert_eq!(
+            problems(&one_rule(
+                "insulating_surface",
+                "{conductors: all}",
+                "    fail: 0.01\n"
+            )),
+            ["rules[0].applies: insulating_surface applies to `rollers: all | in_or_near_zone`"]
         );
     }
 
