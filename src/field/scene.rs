@@ -209,11 +209,21 @@ impl Scene {
 /// The boundary-element solve of the line's conductors (grounded and
 /// isolated rollers; `conductors:`), or `None` when it has none. A person
 /// stands on the floor: the solve needs a gap to the grounded plane, so the
-/// body's cylinder is taken to start 5 mm above it (the feet's coupling is
-/// the person's lumped capacitance). With a default (not `given`) panel
+/// body's cylinder is taken to start [`PERSON_SOLE_GAP`] above it (the
+/// feet's coupling is the person's lumped capacitance; a gap of a few mm
+/// would count it twice, its base alone then adding ε0·πr²/gap ≈ 125 pF at
+/// 5 mm for a 0.3 m wide body). With a default (not `given`) panel
 /// size, a mesh over the panel limit is retried with the size that fits
 /// (panel count ∝ 1/h², plus 5 %), at most eight times; the size used is
 /// [`Bem::settings`]' panel size.
+/// Height of a person's body cylinder above the floor in the solve [m]:
+/// 50 mm (the soles; an assumption of this program). The base's coupling to
+/// the floor is then ε0·πr²/gap ≈ 12.5 pF for a 0.3 m wide body, so the
+/// body's own capacitance stays near the ≈ 50–70 pF of a free standing
+/// body and the lumped feet-to-floor capacitance (default 100 pF) brings it
+/// to the 150–170 pF of the usual body models (NFPA 77: people 100–300 pF).
+pub const PERSON_SOLE_GAP: Meters = 0.05;
+
 fn conductor_solve(line: &Line, panel: f64, given: bool) -> Result<Option<Bem>, FieldError> {
     use crate::model::{
         ConductorEarthing, ConductorKind, ConductorShape, Earthing as RollerEarthing,
@@ -254,8 +264,8 @@ fn conductor_solve(line: &Line, panel: f64, given: bool) -> Result<Option<Bem>, 
         if c.kind == ConductorKind::Person
             && let Shape::Cylinder { center, length, .. } = &mut s
         {
-            center[2] += 2.5e-3;
-            *length -= 5e-3;
+            center[2] += 0.5 * PERSON_SOLE_GAP;
+            *length -= PERSON_SOLE_GAP;
         }
         specs.push(ConductorSpec {
             id: c.id.clone(),

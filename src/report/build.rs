@@ -284,11 +284,30 @@ pub fn slug(title: &str) -> String {
 /// What the model does not cover (stated in every report).
 pub const LIMITATIONS: &[&str] = &[
     "The charge on the web is what the line description states; nothing here measures it. Charging at contacts and nips is not predicted, only entered.",
-    "Grounded rollers, frames and machine parts other than the ground plane are not modelled as conductors: near them the real field is lower and the real potential of the web much lower than computed here, so potentials far from the ground plane are upper estimates.",
+    "Grounded rollers, frames and machine parts other than the ground plane are not modelled as conductors (conductors off): near them the real field is lower and the real potential of the web much lower than computed here, so potentials far from the ground plane are upper estimates.",
     "The wrap arcs are not integrated; the web is a thin sheet whose own permittivity is neglected.",
     "Brush-discharge incendivity depends on charge transfer, which no published surface charge limit captures; the web-charge limits are common practice and must be read as screening values.",
     "Operators are points insulated from earth; their real body voltage depends on footwear, flooring and movement.",
 ];
+
+/// The limitations of a run whose scene solved the line's conductors.
+pub const LIMITATIONS_WITH_CONDUCTORS: &[&str] = &[
+    "The charge on the web is what the line description states; nothing here measures it. Charging at contacts and nips is not predicted, only entered.",
+    "Only the conductors in the line description screen the field: frames, cabinets, guards and people that are not described are not there, and near them the real field and potential are lower than computed.",
+    "Conductors are solved on flat panels of constant charge density: about 1 % from a mesh of half the panel size on the demo line, less accurate within a panel size of a conductor's surface and near its edges.",
+    "The web is a thin sheet whose own permittivity is neglected; its charge on a wrap arc is taken as bound by its image in a grounded roller, and as added to the net charge of an isolated roller.",
+    "Brush-discharge incendivity depends on charge transfer, which no published surface charge limit captures; the web-charge limits are common practice and must be read as screening values.",
+    "Operator points are probes in the air and take the potential there; people described as conductors are upright cylinders with a lumped feet-to-floor capacitance. A real body voltage depends on footwear, flooring and movement.",
+];
+
+/// The limitations that hold for a run with these solver settings.
+pub fn limitations(solver: crate::field::SolverSettings) -> &'static [&'static str] {
+    if solver.conductor_panel().is_some() {
+        LIMITATIONS_WITH_CONDUCTORS
+    } else {
+        LIMITATIONS
+    }
+}
 
 /// Builds the report. `now` is the UTC time of the run (given, so tests can fix it).
 #[allow(clippy::too_many_arguments)]
@@ -413,7 +432,7 @@ pub fn build_report(
         recommendations: recommendations(line, &findings),
         findings,
         contributions,
-        limitations: LIMITATIONS.iter().map(|s| s.to_string()).collect(),
+        limitations: limitations(solver).iter().map(|s| s.to_string()).collect(),
         references,
         warnings: line
             .warnings
