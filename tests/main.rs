@@ -9,13 +9,15 @@
 //! - `geometry`: web path tangents and arc lengths through the public API;
 //! - `validation`: bad input refused with a located message;
 //! - `cli`: the binary end to end;
-//! - `pipeline`: one scene per command, the demo unchanged by reshaping.
+//! - `pipeline`: one scene per command, the demo unchanged by reshaping;
+//! - `conductor_views`: conductors in the planner, the meter warnings and the side view.
 
 mod analytic;
 mod assess;
 mod assess_conductors;
 mod bem;
 mod cli;
+mod conductor_views;
 mod conductors;
 mod eliminators;
 mod geometry;

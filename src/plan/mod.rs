@@ -35,6 +35,11 @@
 //! | σ_i, s_i | density and arc length of charge entry i | C/m², m |
 //! | G_e(p) | field / potential per unit density of piece e | V/m, V per C/m² |
 //!
+//! Candidates keep [`CONDUCTOR_CLEARANCE`] bar distances from every grounded
+//! conductor (`candidates`): grid positions that do not are refused and
+//! listed with the reason ([`Plan::refused`]); a given list with such a
+//! position is refused as a whole ([`PlanError::CandidateNearConductor`]).
+//!
 //! Search: every combination for N ≤ 3 (the proven optimum over the
 //! candidate set); for larger N a greedy start (add the best bar one at a
 //! time) with local improvement (swap one bar for another while it helps),
@@ -55,7 +60,10 @@ mod influence;
 mod search;
 
 pub use apply::{apply_to_yaml, planning_line};
-pub use candidates::{Candidate, apply, candidates};
+pub use candidates::{
+    CONDUCTOR_CLEARANCE, Candidate, GroundedConductor, Refusal, Refused, apply, candidates,
+    candidates_and_refusals, refusal,
+};
 pub use search::{MAX_EXHAUSTIVE, binomial, combinations};
 
 use influence::{Fast, Influence};
@@ -134,6 +142,10 @@ pub struct Plan {
     pub exhaustive: bool,
     /// What the search found.
     pub outcome: PlanOutcome,
+    /// Grid positions refused for their clearance from grounded conductors
+    /// (empty for a given candidate list, which is refused as a whole
+    /// instead: [`PlanError::CandidateNearConductor`]).
+    pub refused: Vec<Refused>,
 }
 
 impl Plan {
@@ -201,9 +213,71 @@ pub enum PlanError {
     /// Nothing to place bars on: no candidate was given and the placement
     /// rules leave no position on the spans searched.
     #[error(
-        "no candidate position for a bar: every span is too short or too close to its rollers for a bar at this distance: lower the bar distance or the candidate spacing, or give a candidate list"
+        "no candidate position for a bar: every span is too short or too close to its rollers or to grounded conductors for a bar at this distance: lower the bar distance or the candidate spacing, or give a candidate list"
     )]
     NoCandidatePositions,
+    /// A candidate of a given list comes closer to a grounded conductor
+    /// than [`CONDUCTOR_CLEARANCE`] bar distances.
+    #[error(transparent)]
+    CandidateNearConductor(Box<CandidateTooClose>),
+}
+
+/// A candidate of a given list that comes closer to a grounded conductor
+/// than [`CONDUCTOR_CLEARANCE`] bar distances, with what the message names.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+#[error(
+    "candidate {number} of the list ({span} at {along}, {side}, {bar} from the web) is {distance} from grounded {kind} {id}, closer than {clearance} ({CONDUCTOR_CLEARANCE} bar distances, the clearance kept from rollers the web touches): move the bar away from {id} or remove it from the list"
+)]
+pub struct CandidateTooClose {
+    /// 1-based position in the list.
+    pub number: usize,
+    /// Span label.
+    pub span: String,
+    /// Distance along the span, formatted.
+    pub along: String,
+    /// `above` or `below`.
+    pub side: &'static str,
+    /// Bar to web, formatted.
+    pub bar: String,
+    /// Distance to the conductor, formatted.
+    pub distance: String,
+    /// `roller`, `plate`, `box`, `cylinder` or `person`.
+    pub kind: &'static str,
+    /// The conductor's id.
+    pub id: String,
+    /// The clearance, formatted.
+    pub clearance: String,
+}
+
+/// The given candidate list, refused as a whole at its first candidate too
+/// close to a grounded conductor.
+fn check_list(line: &Line, list: &[Candidate]) -> Result<(), PlanError> {
+    use crate::units::{Dim, format_quantity};
+    for (i, c) in list.iter().enumerate() {
+        let Some(Refusal::NearConductor {
+            conductor,
+            distance,
+            clearance,
+        }) = refusal(line, c)
+        else {
+            continue;
+        };
+        let len = |v: f64| format_quantity(v, Dim::Length);
+        return Err(PlanError::CandidateNearConductor(Box::new(
+            CandidateTooClose {
+                number: i + 1,
+                span: line.path.spans[c.span].label(),
+                along: len(c.along),
+                side: c.side.text(),
+                bar: len(c.distance),
+                distance: len(distance),
+                kind: conductor.kind(line),
+                id: conductor.id(line).to_string(),
+                clearance: len(clearance),
+            },
+        )));
+    }
+    Ok(())
 }
 
 /// The full assessment of a line variant (readings, passive onset and
@@ -226,10 +300,13 @@ pub fn plan(
 ) -> Result<Plan, PlanError> {
     let planning = planning_line(line, scene)?;
     let line = &planning;
-    let cands = st
-        .candidates
-        .clone()
-        .unwrap_or_else(|| candidates(line, st));
+    let (cands, refused) = match &st.candidates {
+        Some(list) => {
+            check_list(line, list)?;
+            (list.clone(), Vec::new())
+        }
+        None => candidates_and_refusals(line, st),
+    };
     if cands.is_empty() {
         return Err(PlanError::NoCandidatePositions);
     }
@@ -343,5 +420,6 @@ pub fn plan(
         evaluated,
         exhaustive,
         outcome,
+        refused,
     })
 }

@@ -31,12 +31,22 @@
 //! σ = 2ε0·E (isolated sheet) and σ = ε0·E (all field on one side, Gauss's
 //! law) are shown beside the result.
 //!
+//! Conductors: when the scene holds them, G_km includes the charge that
+//! segment k induces on them, so the fit already accounts for their
+//! screening. Each field reading also reports the screening factor
+//! k_m = n̂_m·E_k(r_m) / n̂_m·(E_k − E_k,ind)(r_m) for a unit density on its
+//! own segment (E_k,ind the field of the induced charge): the reading is
+//! k_m times what the web's charge alone would give. Without conductors no
+//! factor is given and the near-roller warning says only that the roller
+//! suppresses the reading.
+//!
 //! | symbol | meaning | unit |
 //! | --- | --- | --- |
 //! | r_m | reading m as a field (a voltage reading ÷ its calibrated distance) | V/m |
 //! | A_k, x_j | starting density of segment k; the unknown ones | C/m² |
 //! | G_km | normal field at meter m per unit A_k | V/m per C/m² |
 //! | u_m | reading uncertainty | V/m |
+//! | k_m | screening factor of meter m | 1 |
 //! | ε0 | vacuum permittivity | F/m |
 //!
 //! Assumptions: the meter reads the undisturbed field at its sensing point
@@ -106,6 +116,14 @@ pub struct ReadingResult {
     pub residual: f64,
     /// The residual's uncertainty scale u (same unit).
     pub uncertainty: f64,
+    /// With conductors in the scene: the meter's normal field for a unit
+    /// density on its own charge segment with the charge induced on the
+    /// conductors, divided by the same without it (the web's own part) [1].
+    /// Below 1 the conductors suppress the reading by that factor (at or
+    /// below 0 their field outweighs the web's own: the meter reads zero or
+    /// the opposite sign); the conversion to σ already includes it. `None` without conductors, for a
+    /// density reading, or where the web's own part vanishes.
+    pub screening: Option<f64>,
     /// Problems and flags.
     pub warnings: Vec<ReadingNote>,
 }
@@ -115,7 +133,12 @@ pub struct ReadingResult {
 pub enum ReadingNote {
     /// The meter is within [`ROLLER_CLEARANCE`] meter distances of a roller
     /// the web touches, which suppresses the reading.
-    NearRoller,
+    NearRoller {
+        /// With conductors in the scene: the meter's [`ReadingResult::screening`]
+        /// factor (below 1: the reading is suppressed by that factor);
+        /// `None` without conductors.
+        suppression: Option<f64>,
+    },
     /// The implied field [V/m] is at or above what air can hold.
     AboveAirBreakdown {
         /// The implied field [V/m].
@@ -451,6 +474,21 @@ fn eliminator_states(
         .collect()
 }
 
+/// Name of the contribution that [`WebField::at`] gives for the charge
+/// induced on the conductors.
+const INDUCED: &str = "conductors";
+
+/// The screening factor at a meter: the normal field with the induced
+/// charge, n̂·E, over the web's own part, n̂·(E − E_induced) [1]; `None`
+/// without an induced contribution or when the web's own part is zero.
+fn screening_factor(f: &crate::field::PointField, n: [f64; 3]) -> Option<f64> {
+    let normal = |e: [f64; 3]| e[0] * n[0] + e[1] * n[1] + e[2] * n[2];
+    let induced = f.contributions.iter().find(|c| c.name == INDUCED)?;
+    let total = normal(f.e);
+    let web = total - normal(induced.e);
+    (web.abs() > 0.0 && total.is_finite()).then(|| total / web)
+}
+
 /// Converts the line's readings; without readings the model's charge is
 /// returned (with the passive devices' activity decided by the solver) and
 /// an empty table.
@@ -586,10 +624,17 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
         let mut warnings = Vec::new();
         let near = |node: usize| matches!(line.path.nodes[node].kind, NodeKind::Roller { .. });
         let clearance = ROLLER_CLEARANCE * r.distance;
+        let at = meter_geometry(span, r.along, r.across, r.distance, r.side);
+        let screening = match (field, scene.conductors()) {
+            (Some(_), Some(_)) => screening_factor(&models[k].at(at.0, true)?, at.1),
+            _ => None,
+        };
         if (r.along < clearance && near(span.from_node))
             || (span.length - r.along < clearance && near(span.to_node))
         {
-            warnings.push(ReadingNote::NearRoller);
+            warnings.push(ReadingNote::NearRoller {
+                suppression: screening,
+            });
         }
         if let Some(e) = field
             && e.abs() >= AIR_BREAKDOWN_FIELD
@@ -616,7 +661,7 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
             position: r.along,
             s,
             distance: r.distance,
-            at: meter_geometry(span, r.along, r.across, r.distance, r.side).0,
+            at: at.0,
             value: r.value,
             reading,
             field,
@@ -628,6 +673,7 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
             sigma_naive_one_sided: field.map(|e| EPS0 * e),
             residual,
             uncertainty,
+            screening,
             warnings,
         });
     }

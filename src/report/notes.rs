@@ -11,9 +11,12 @@ use crate::units::{Dim, format_quantity};
 /// A reading's warning in words.
 pub fn reading_note(n: &ReadingNote) -> String {
     match n {
-        ReadingNote::NearRoller => format!(
+        ReadingNote::NearRoller { suppression: None } => format!(
             "the meter is within {ROLLER_CLEARANCE} meter distances of a roller the web touches: the grounded roller suppresses the reading — take readings mid-span"
         ),
+        ReadingNote::NearRoller {
+            suppression: Some(k),
+        } => near_roller_screened(*k),
         ReadingNote::AboveAirBreakdown { field } => format!(
             "the reading implies {}, at or above the 3 MV/m that air can hold: check the unit and the meter",
             format_quantity(*field, Dim::Field)
@@ -43,6 +46,58 @@ pub fn reading_note(n: &ReadingNote) -> String {
             )
         }
     }
+}
+
+/// The near-roller warning when the scene has conductors: by how much
+/// their induced charge suppresses the reading (`k` = with ÷ without).
+fn near_roller_screened(k: f64) -> String {
+    format!(
+        "the meter is within {ROLLER_CLEARANCE} meter distances of a roller the web touches: the charge induced on the conductors makes it read {} the field of the web's charge alone ({}) — σ above includes this screening, but a reading mid-span depends less on the geometry",
+        screening_factor(k),
+        screening_change(k)
+    )
+}
+
+/// A screening factor as a multiplier: `0.62×`.
+pub fn screening_factor(k: f64) -> String {
+    format!("{k:.2}×")
+}
+
+/// A screening factor as a change: `suppressed by 38 %`, `raised by 5 %`,
+/// or, at or below zero, the induced charge outweighing the web's own field.
+fn screening_change(k: f64) -> String {
+    let pct = (1.0 - k) * 100.0;
+    if k <= 0.0 {
+        "the induced charge outweighs the web's own field: the meter reads zero or the opposite sign".to_string()
+    } else if pct >= 0.0 {
+        format!("suppressed by {pct:.0} %")
+    } else {
+        format!("raised by {:.0} %", -pct)
+    }
+}
+
+/// A candidate bar position the planner refused, in words:
+/// `powered S2 at 500 mm, above, 40 mm from the web: 35 mm from grounded
+/// plate F1, closer than the 120 mm clearance (3 bar distances)`.
+pub fn candidate_refusal(line: &Line, r: &crate::plan::Refused) -> String {
+    use crate::plan::{CONDUCTOR_CLEARANCE, Refusal};
+    let why = match r.reason {
+        Refusal::NearConductor {
+            conductor,
+            distance,
+            clearance,
+        } => format!(
+            "{} from grounded {} {}, closer than the {} clearance ({CONDUCTOR_CLEARANCE} bar distances, as kept from rollers the web touches)",
+            format_quantity(distance, Dim::Length),
+            conductor.kind(line),
+            conductor.id(line),
+            format_quantity(clearance, Dim::Length)
+        ),
+    };
+    format!(
+        "{}: {why}",
+        super::plan_words::candidate_text(&r.candidate, line)
+    )
 }
 
 /// What opened a charge segment, in words.

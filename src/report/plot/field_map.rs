@@ -1,36 +1,56 @@
 //! The field-strength chart: |E| on a logarithmic colour scale over the x–z plane, with
-//! the web path, rollers, zones, points and the limit contour drawn over it.
+//! the web path, rollers, conductors, zones, points and the limit contour drawn over it.
 //!
 //! Pipeline stage: report writers (PNG plots). Draws only. Grid values belong to the
-//! nodes; each cell is filled from midpoint to midpoint between nodes.
+//! nodes; each cell is filled from midpoint to midpoint between nodes. Cells whose node
+//! the caller marks as inside a conductor are filled in [`INSIDE`] instead of by |E| (the
+//! field inside a conductor is zero) and left out of the colour scale.
 
 use anyhow::{Result, ensure};
 use plotters::prelude::*;
 
 use super::colour::{NODATA, colour_bar, field_colour, log_range, log_ticks};
+use super::conductors::{draw_conductor_labels, draw_conductors, with_conductors};
 use super::contour::{contour, draw_contour};
 use super::frame::{bar_height, empty_note, fmt_num, layout, non_empty, panel_box, render};
-use super::legend::{Sym, legend, scene_legend};
+use super::legend::{Sym, after_rollers, conductor_legend, legend, scene_legend};
 use super::scene::{
     draw_ground, draw_markers, draw_points, draw_roller_labels, draw_rollers, draw_zone_labels,
     draw_zones,
 };
 use super::web::draw_web;
 use super::xz::{padded, side_bounds, slightly_padded, xz_chart, xz_mesh};
-use super::{FieldGrid, MAX_MAGNITUDE, SideView, coord_ok};
+use super::{ConductorLayer, FieldGrid, MAX_MAGNITUDE, SideView, coord_ok};
+
+/// Fill of the cells inside a conductor.
+const INSIDE: RGBColor = RGBColor(96, 104, 116);
 
 /// Field-strength map |E| on a logarithmic colour scale (kV/m) with the web path, rollers,
-/// zones, points and the limit contour drawn over it. Returns PNG bytes.
+/// conductors (outlines; cells marked inside one are filled as conductor), zones, points
+/// and the limit contour drawn over it. Returns PNG bytes.
 ///
-/// Fails when `e_mag.len() != xs.len() * zs.len()` or when `xs` / `zs` are not finite and
-/// strictly increasing.
-pub fn field_map_png(v: &SideView, g: &FieldGrid, width: u32, height: u32) -> Result<Vec<u8>> {
+/// Fails when `e_mag.len() != xs.len() * zs.len()`, when `c.inside` is neither empty nor
+/// as long as `e_mag`, or when `xs` / `zs` are not finite and strictly increasing.
+pub fn field_map_png(
+    v: &SideView,
+    g: &FieldGrid,
+    c: &ConductorLayer,
+    width: u32,
+    height: u32,
+) -> Result<Vec<u8>> {
     let (nx, nz) = (g.xs.len(), g.zs.len());
     ensure!(
         nx.checked_mul(nz) == Some(g.e_mag.len()),
         "field grid: e_mag has {} values, expected xs.len() × zs.len() = {nx} × {nz}",
         g.e_mag.len()
     );
+    ensure!(
+        c.inside.is_empty() || c.inside.len() == g.e_mag.len(),
+        "conductor layer: inside has {} values, expected none or one per field value ({})",
+        c.inside.len(),
+        g.e_mag.len()
+    );
+    let inside = |k: usize| c.inside.get(k).copied().unwrap_or(false);
     ensure!(
         increasing(&g.xs),
         "field grid: xs must be finite and strictly increasing"
@@ -53,7 +73,7 @@ pub fn field_map_png(v: &SideView, g: &FieldGrid, width: u32, height: u32) -> Re
         )?;
         let ex = cell_edges(&g.xs);
         let ez = cell_edges(&g.zs);
-        let mut b = side_bounds(v);
+        let mut b = with_conductors(side_bounds(v), &c.conductors);
         let bounds = if let (Some(x), Some(z)) = (ex.as_ref(), ez.as_ref()) {
             for (&xa, &za) in [x[0], x[x.len() - 1]]
                 .iter()
@@ -74,7 +94,12 @@ pub fn field_map_png(v: &SideView, g: &FieldGrid, width: u32, height: u32) -> Re
         let mut chart = xz_chart(&main, bounds, v.ground.is_some_and(coord_ok))?;
         xz_mesh(&mut chart)?;
 
-        let (llo, lhi) = log_range(&g.e_mag);
+        let outside: Vec<f64> = (0..g.e_mag.len())
+            .filter(|&k| !inside(k))
+            .map(|k| g.e_mag[k])
+            .collect();
+        let (llo, lhi) = log_range(&outside);
+        let mut any_inside = false;
         let t_of = |e: f64| ((e.max(1e-300).log10() - llo) / (lhi - llo)).clamp(0.0, 1.0);
         let mut any_nan = false;
         if let (Some(x), Some(z)) = (ex.as_ref(), ez.as_ref()) {
@@ -85,7 +110,16 @@ pub fn field_map_png(v: &SideView, g: &FieldGrid, width: u32, height: u32) -> Re
             ))?;
             for iz in 0..nz {
                 for ix in 0..nx {
-                    let e = g.e_mag.get(iz * nx + ix).copied().unwrap_or(f64::NAN);
+                    let k = iz * nx + ix;
+                    if inside(k) {
+                        any_inside = true;
+                        area.draw(&Rectangle::new(
+                            [(x[ix], z[iz]), (x[ix + 1], z[iz + 1])],
+                            INSIDE.filled(),
+                        ))?;
+                        continue;
+                    }
+                    let e = g.e_mag.get(k).copied().unwrap_or(f64::NAN);
                     if !e.is_finite() {
                         any_nan = true;
                         continue;
@@ -100,6 +134,7 @@ pub fn field_map_png(v: &SideView, g: &FieldGrid, width: u32, height: u32) -> Re
         }
         draw_ground(root, &chart, v.ground, false)?;
         draw_zones(&chart, &v.zones, false)?;
+        draw_conductors(root, &chart, &c.conductors, false)?;
         draw_rollers(root, &chart, &v.rollers)?;
         draw_web(root, &chart, v, None)?;
         let limit = g
@@ -116,6 +151,7 @@ pub fn field_map_png(v: &SideView, g: &FieldGrid, width: u32, height: u32) -> Re
         draw_points(root, &chart, &v.points)?;
         draw_zone_labels(root, &chart, &v.zones)?;
         draw_roller_labels(root, &chart, &v.rollers)?;
+        draw_conductor_labels(root, &chart, &c.conductors)?;
         if !g.e_mag.iter().any(|e| e.is_finite()) {
             empty_note(root, &chart, "no field values to show")?;
         }
@@ -141,6 +177,15 @@ pub fn field_map_png(v: &SideView, g: &FieldGrid, width: u32, height: u32) -> Re
             items.push((Sym::Contour, text));
         }
         items.extend(scene_legend(v, (Sym::Tape, "web path"), false));
+        let note = if c.in_field { "" } else { " (not solved)" };
+        let mut rows = conductor_legend(&c.conductors, false, note);
+        if any_inside {
+            rows.push((
+                Sym::Swatch(INSIDE),
+                "inside a conductor (|E| = 0)".to_string(),
+            ));
+        }
+        after_rollers(&mut items, rows);
         if any_nan {
             items.push((Sym::Swatch(NODATA), "not computed".to_string()));
         }
@@ -176,7 +221,14 @@ mod tests {
 
     #[test]
     fn field_map_is_a_drawn_png_with_contour() {
-        let png = field_map_png(&view(), &grid(80, 60), 1200, 700).unwrap();
+        let png = field_map_png(
+            &view(),
+            &grid(80, 60),
+            &ConductorLayer::default(),
+            1200,
+            700,
+        )
+        .unwrap();
         assert!(png.len() < 3_000_000, "size {} bytes", png.len());
         let (w, h, rgb) = decode(&png);
         assert_eq!((w, h), (1200, 700));

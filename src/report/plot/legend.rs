@@ -11,11 +11,12 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::colour::{CONTOUR, GROUND_INK, INK, MARKER, MEASURED, MUTED, UNDERLAY, sigma_colour};
+use super::conductors::{is_grounded, style as conductor_style};
 use super::frame::{Area, fit, tag, text};
 use super::scene::{
     Earthing, diamond, earthing, earthing_name, kind_colour, point_kinds, roller_style, zone_colour,
 };
-use super::{PlotPoint, PlotRoller, PlotZone, SideView, coord_ok};
+use super::{PlotConductor, PlotPoint, PlotRoller, PlotZone, SideView, coord_ok};
 
 #[derive(Debug, Clone, Copy)]
 pub(super) enum Sym {
@@ -31,6 +32,8 @@ pub(super) enum Sym {
     Line(RGBColor, u32),
     Dashed(RGBColor),
     Measured,
+    /// A conductor beside the web: grounded or not, filled (side view) or edge only.
+    Conductor(bool, bool),
 }
 
 /// Rows for what an x–z chart shows of the line: the web path (with the given symbol and
@@ -50,6 +53,38 @@ pub(super) fn scene_legend(v: &SideView, web: (Sym, &str), filled: bool) -> Vec<
         items.push((Sym::Ground, "earthed floor".to_string()));
     }
     items
+}
+
+/// Rows for the conductors beside the web, by earthing; `filled` as drawn, `note` appended
+/// to each label (the field map says when the field leaves them out).
+pub(super) fn conductor_legend(
+    conductors: &[PlotConductor],
+    filled: bool,
+    note: &str,
+) -> Vec<(Sym, String)> {
+    let kinds: BTreeSet<bool> = conductors.iter().map(is_grounded).collect();
+    kinds
+        .into_iter()
+        .rev()
+        .map(|g| {
+            let name = if g {
+                "conductor, earthed"
+            } else {
+                "conductor, isolated"
+            };
+            (Sym::Conductor(g, filled), format!("{name}{note}"))
+        })
+        .collect()
+}
+
+/// `rows` inserted after the roller rows of `items` (or at the end without rollers), so
+/// that the equipment stays together near the top of a legend that may be cut short.
+pub(super) fn after_rollers(items: &mut Vec<(Sym, String)>, rows: Vec<(Sym, String)>) {
+    let at = items
+        .iter()
+        .rposition(|(s, _)| matches!(s, Sym::Roller(_)))
+        .map_or(items.len(), |i| i + 1);
+    items.splice(at..at, rows);
 }
 
 fn roller_legend(rollers: &[PlotRoller]) -> Vec<(Sym, String)> {
@@ -226,6 +261,23 @@ fn draw_symbol(root: &Area<'_>, sym: Sym, (x, yc): (i32, i32)) -> Result<()> {
                 4,
                 c.stroke_width(2),
             ))?;
+        }
+        Sym::Conductor(grounded, filled) => {
+            let st = conductor_style(grounded);
+            let r = [(x + 2, yc - 8), (x + 28, yc + 8)];
+            if filled {
+                root.draw(&Rectangle::new(r, st.fill.0.mix(st.fill.1).filled()))?;
+                if st.hatch {
+                    for k in [-6, 2, 10, 18] {
+                        let (a, b) = ((x + 2 + k).max(x + 2), (x + 2 + k + 16).min(x + 28));
+                        root.draw(&PathElement::new(
+                            vec![(a, yc - 8 + (a - x - 2 - k)), (b, yc - 8 + (b - x - 2 - k))],
+                            st.edge.stroke_width(1),
+                        ))?;
+                    }
+                }
+            }
+            root.draw(&Rectangle::new(r, st.edge.stroke_width(st.width)))?;
         }
         Sym::Measured => {
             let st = INK.stroke_width(2);

@@ -14,6 +14,7 @@
 //! | `encode` | PNG encoding of the drawn RGB buffer |
 //! | `xz` | extent and equal-scale chart of the x–z views |
 //! | `scene` | floor, zones, rollers, devices and points on an x–z chart |
+//! | `conductors` | conductors beside the web (plates, boxes, cylinders, people) on an x–z chart |
 //! | `web` | the web path, sampled and coloured by charge density |
 //! | `stroke` | anti-aliased thick polylines in pixel space |
 //! | `colour` | palette, colour scales and colour bar |
@@ -31,6 +32,9 @@
 //! ## Assumptions
 //! - The side view and field map are drawn to equal scale (1 m in x = 1 m in z).
 //! - Field-grid values belong to the nodes; each cell spans from midpoint to midpoint.
+//! - Conductors are drawn as given: outlines already projected on the x–z plane (the caller
+//!   projects the 3-D shapes); the field map fills the grid cells the caller marks as inside
+//!   a conductor instead of colouring them by |E|.
 //! - Non-finite values (and magnitudes above [`MAX_MAGNITUDE`] in the plotted unit)
 //!   are left out of the picture, never fatal.
 //!
@@ -41,6 +45,7 @@
 
 mod charge;
 mod colour;
+mod conductors;
 mod contour;
 mod encode;
 mod field_map;
@@ -150,6 +155,32 @@ pub struct PlotMarker {
     pub label: String,
 }
 
+/// A conductor beside the web (plate, box, cylinder, person) seen from the side: its outline
+/// projected on the x–z plane.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PlotConductor {
+    /// Identifier printed beside the outline.
+    pub id: String,
+    /// Outline `[x, z]` [m], a convex polygon in order (closed by the drawing); two points
+    /// are a plate seen edge-on, drawn as a thick line.
+    pub outline: Vec<[f64; 2]>,
+    /// Earthing state: `"grounded"` or `"isolated"`; anything else is drawn as isolated.
+    pub earthing: String,
+}
+
+/// The conductors beside the web, as the side view and the field map draw them.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ConductorLayer {
+    /// Outlines of the conductors.
+    pub conductors: Vec<PlotConductor>,
+    /// Field-map nodes inside a conductor, laid out like [`FieldGrid::e_mag`]; drawn in the
+    /// conductor colour instead of by |E|. Empty: none marked.
+    pub inside: Vec<bool>,
+    /// Whether the field includes the charge induced on the conductors (the field map's
+    /// legend says when it does not).
+    pub in_field: bool,
+}
+
 /// Everything drawn in the side view of the line (x along the line, z up).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct SideView {
@@ -224,8 +255,15 @@ mod tests {
     fn empty_inputs_still_give_valid_pngs() {
         let v = SideView::default();
         for png in [
-            side_view_png(&v, 640, 480).unwrap(),
-            field_map_png(&v, &FieldGrid::default(), 640, 480).unwrap(),
+            side_view_png(&v, &ConductorLayer::default(), 640, 480).unwrap(),
+            field_map_png(
+                &v,
+                &FieldGrid::default(),
+                &ConductorLayer::default(),
+                640,
+                480,
+            )
+            .unwrap(),
             charge_png(&ChargeCurve::default(), 640, 480).unwrap(),
         ] {
             let (w, h, rgb) = decode(&png);
@@ -299,7 +337,7 @@ mod tests {
             label: "m".into(),
         });
         v.ground = Some(nan);
-        decode(&side_view_png(&v, 800, 500).unwrap());
+        decode(&side_view_png(&v, &bad_layer(), 800, 500).unwrap());
 
         let mut g = grid(20, 10);
         g.e_mag.iter_mut().step_by(3).for_each(|e| *e = nan);
@@ -309,10 +347,19 @@ mod tests {
         g.e_mag[5] = 1e300;
         g.y = nan;
         g.limit = Some((nan, "x".into()));
-        decode(&field_map_png(&v, &g, 800, 500).unwrap());
+        decode(&field_map_png(&v, &g, &bad_layer(), 800, 500).unwrap());
         g.e_mag.iter_mut().for_each(|e| *e = nan);
         g.limit = Some((1e5, "x".into()));
-        decode(&field_map_png(&SideView::default(), &g, 800, 500).unwrap());
+        decode(
+            &field_map_png(
+                &SideView::default(),
+                &g,
+                &ConductorLayer::default(),
+                800,
+                500,
+            )
+            .unwrap(),
+        );
 
         let mut c = curve();
         c.sigma_c[3] = nan;
@@ -337,20 +384,47 @@ mod tests {
         decode(&charge_png(&one, 800, 500).unwrap());
     }
 
+    /// Conductors with non-finite, huge, empty and degenerate outlines.
+    fn bad_layer() -> ConductorLayer {
+        let nan = f64::NAN;
+        let c = |id: &str, outline: Vec<[f64; 2]>, e: &str| PlotConductor {
+            id: id.into(),
+            outline,
+            earthing: e.into(),
+        };
+        ConductorLayer {
+            conductors: vec![
+                c("nan", vec![[nan, 0.0], [1.0, 1.0], [0.5, 2.0]], "grounded"),
+                c("huge", vec![[-1e300, 0.0], [1e300, 1.0]], "isolated"),
+                c("empty", Vec::new(), "grounded"),
+                c("dot", vec![[0.5, 0.5]], "?"),
+                c("same", vec![[0.5, 0.5], [0.5, 0.5], [0.5, 0.5]], "grounded"),
+            ],
+            inside: Vec::new(),
+            in_field: true,
+        }
+    }
+
     #[test]
     fn bad_sizes_and_inconsistent_data_are_errors() {
         let v = view();
-        assert!(side_view_png(&v, 0, 700).is_err());
-        assert!(side_view_png(&v, 1200, MAX_PIXELS + 1).is_err());
+        assert!(side_view_png(&v, &ConductorLayer::default(), 0, 700).is_err());
+        assert!(side_view_png(&v, &ConductorLayer::default(), 1200, MAX_PIXELS + 1).is_err());
         let mut g = grid(10, 8);
         g.e_mag.pop();
-        assert!(field_map_png(&v, &g, 800, 500).is_err());
+        assert!(field_map_png(&v, &g, &ConductorLayer::default(), 800, 500).is_err());
         let mut g = grid(10, 8);
         g.xs.swap(2, 3);
-        assert!(field_map_png(&v, &g, 800, 500).is_err());
+        assert!(field_map_png(&v, &g, &ConductorLayer::default(), 800, 500).is_err());
         let mut g = grid(10, 8);
         g.zs[0] = f64::NAN;
-        assert!(field_map_png(&v, &g, 800, 500).is_err());
+        assert!(field_map_png(&v, &g, &ConductorLayer::default(), 800, 500).is_err());
+        let g = grid(10, 8);
+        let short = ConductorLayer {
+            inside: vec![false; 79],
+            ..ConductorLayer::default()
+        };
+        assert!(field_map_png(&v, &g, &short, 800, 500).is_err());
         let mut c = curve();
         c.sigma_c.pop();
         assert!(charge_png(&c, 800, 500).is_err());
