@@ -51,11 +51,16 @@ pub fn plan_json(plan: &Plan, line: &Line) -> String {
         })
         .collect();
     format!(
-        "{{\n  \"summary\": {},\n  \"exhaustive\": {},\n  \"evaluated\": {},\n  \"candidates\": {},\n  \"before\": {{{}}},\n  \"plans\": [\n{}\n  ]\n}}\n",
+        "{{\n  \"summary\": {},\n  \"exhaustive\": {},\n  \"evaluated\": {},\n  \"candidates\": {},\n  \"refused\": [{}],\n  \"before\": {{{}}},\n  \"plans\": [\n{}\n  ]\n}}\n",
         string(&super::plan_words::plan_summary(plan, line)),
         plan.exhaustive,
         plan.evaluated,
         plan.candidates.len(),
+        plan.refused
+            .iter()
+            .map(|r| string(&super::notes::candidate_refusal(line, r)))
+            .collect::<Vec<_>>()
+            .join(", "),
         counts(plan.before.counts()),
         plans.join(",\n")
     )

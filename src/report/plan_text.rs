@@ -42,6 +42,18 @@ pub fn plan_text(plan: &Plan, line: &Line) -> String {
         &["plan", "bars", "fail", "warn", "pass", "worst margin"],
         &rows,
     ));
+    if !plan.refused.is_empty() {
+        s.push_str(&format!(
+            "\n{} candidate position(s) left out for their clearance from grounded conductors:\n",
+            plan.refused.len()
+        ));
+        for r in &plan.refused {
+            s.push_str(&format!(
+                "  - {}\n",
+                super::notes::candidate_refusal(line, r)
+            ));
+        }
+    }
     if let Some(best) = plan.options.first() {
         s.push_str("\nbest plan, findings that warn or fail before → after:\n");
         let mut rows = Vec::new();
