@@ -176,6 +176,9 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
     let mut w = FieldWriter::new(field_format(a.format), a.contributions)
         .with_assumptions(crate::field::assumptions(&scene.settings()));
     let mut out = std::io::BufWriter::new(std::io::stdout().lock());
+    // The points the conductors' accuracy estimate is checked at (the listed
+    // ones; a streamed point file is not kept).
+    let mut checked: Vec<[f64; 3]> = Vec::new();
 
     if let Some(path) = &a.points {
         // First pass: every row parses and is a point the model can evaluate.
@@ -226,11 +229,15 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
         let res = evaluate(&model, &reqs, a.contributions)?;
         emit(&mut out, &w.header(&spans))?;
         emit(&mut out, &w.rows(&reqs, &res))?;
+        checked = reqs.iter().map(|q| q.at).collect();
     }
     emit(&mut out, &w.footer())?;
     let conductors = model.conductor_results()?;
     if a.format == OutputFormat::Table && !conductors.is_empty() {
         emit(&mut out, &field_out::conductors_table(&conductors))?;
+        if let Some(acc) = model.conductor_accuracy(&checked)? {
+            emit(&mut out, &field_out::accuracy_text(&acc))?;
+        }
     }
     out.flush().or_else(quiet_pipe)?;
     Ok(Outcome::Pass)
@@ -330,6 +337,9 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
         chrono::Utc::now(),
     );
     report.plan = plan_section;
+    report.conductors = model.conductor_results()?;
+    let places: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
+    report.conductor_accuracy = model.conductor_accuracy(&places)?;
     let files = folder::render_all(&report)?;
     let dir = folder::write_folder(job.out, &report.meta.report_id, files.into_iter().map(Ok))?;
     Ok(AssessRun {

@@ -156,3 +156,121 @@ fn assess_with_conductors_screens_the_operator() {
     let (open, screened) = (body_voltage(false), body_voltage(true));
     assert!(screened < 0.9 * open, "{screened} V vs {open} V");
 }
+
+/// Three rollers, the middle one isolated with the web wrapped over it.
+fn isolated_middle() -> Line {
+    parse_line(
+        "web: {width: 1.0 m, thickness: 50 um, relative_permittivity: 3, relaxation_time: 1e30 s, speed: 1 m/s}\n\
+         rollers:\n  - {id: A, center: [0 m, 1 m], diameter: 100 mm, earthing: grounded}\n  - {id: B, center: [0.8 m, 1.3 m], diameter: 200 mm, earthing: isolated}\n  - {id: C, center: [1.6 m, 1 m], diameter: 100 mm, earthing: grounded}\n\
+         path:\n  - {roller: A, wrap: cw}\n  - {roller: B, wrap: cw}\n  - {roller: C, wrap: cw}\n\
+         charge:\n  - at: start\n    sigma: 4 uC/m^2\n",
+    )
+    .unwrap()
+}
+
+/// The web's charge on an isolated roller's wrap is the roller's net charge
+/// (Gauss's law: the metal under the film stays neutral, so the wrap's
+/// charge appears on the roller): σ × arc length × width for a uniform web
+/// without relaxation, exactly.
+#[test]
+fn an_isolated_rollers_net_charge_is_its_wrap_charge() {
+    let line = isolated_middle();
+    let b = line.rollers.iter().position(|r| r.id == "B").unwrap();
+    let arc = line.path.arcs.iter().find(|a| a.roller == b).unwrap();
+    let expected = 4e-6 * (arc.s_end - arc.s_start) * 1.0;
+    assert!(expected > 0.0);
+    let scene = Scene::new(&line, settings(true)).unwrap();
+    let res = scene
+        .web(&charge_profile(&line))
+        .conductor_results()
+        .unwrap();
+    let rb = res.iter().find(|c| c.id == "B").unwrap();
+    assert!(!rb.grounded);
+    assert!(
+        (rb.charge - expected).abs() <= 1e-9 * expected,
+        "{} vs {expected}",
+        rb.charge
+    );
+    // Its floating potential is positive (the web's sign) and its spark
+    // energy is ½CV² (W = ½CV², physics).
+    let (c, v) = (rb.capacitance.unwrap(), rb.potential);
+    assert!(v > 0.0);
+    let w = rb.spark_energy.unwrap();
+    assert!((w - 0.5 * c * v * v).abs() <= 1e-12 * w);
+}
+
+/// The accuracy estimate: present with conductors, the change between the
+/// meshes small on this simple line, and absent without conductors.
+#[test]
+fn the_solve_reports_its_accuracy_estimate() {
+    let line = two_rollers(5.0);
+    let charge = charge_profile(&line);
+    let pts = [[0.5, 0.0, 1.5], [0.5, 0.2, 0.7]];
+    let scene = Scene::new(&line, settings(true)).unwrap();
+    let acc = scene
+        .web(&charge)
+        .conductor_accuracy(&pts)
+        .unwrap()
+        .unwrap();
+    assert_eq!(acc.points, 2);
+    assert!(acc.coarse_panels < acc.panels);
+    assert!((acc.coarse_panel_size - 2.0 * acc.panel_size).abs() < 1e-12);
+    // Constant-density panels of 50 and 100 mm on 100 mm rollers: the
+    // results differ by a few per cent at most (measured: well below 5 %).
+    assert!(
+        acc.potential_relative > 0.0 && acc.potential_relative < 0.05,
+        "{acc:?}"
+    );
+    assert!(
+        acc.field_relative > 0.0 && acc.field_relative < 0.05,
+        "{acc:?}"
+    );
+    let free = Scene::new(&line, settings(false)).unwrap();
+    assert!(
+        free.web(&charge)
+            .conductor_accuracy(&pts)
+            .unwrap()
+            .is_none()
+    );
+}
+
+/// Conductors are in by default on the command line; `--conductors off`
+/// gives the free-space model and says so; a panel size out of range is
+/// refused with the range.
+#[test]
+fn conductors_are_the_default_and_off_switches_them_off() {
+    use crate::util::{temp_yaml, websigma};
+    let text = "web: {width: 1.0 m, thickness: 50 um, relative_permittivity: 3, relaxation_time: 1e30 s, speed: 1 m/s}\n\
+         rollers:\n  - {id: A, center: [0 m, 1 m], diameter: 100 mm, earthing: grounded}\n  - {id: B, center: [1 m, 1 m], diameter: 100 mm, earthing: grounded}\n\
+         path:\n  - {roller: A, wrap: cw}\n  - {roller: B, wrap: cw}\n\
+         charge:\n  - at: start\n    sigma: 5 uC/m^2\n";
+    let (_d, path) = temp_yaml(text);
+    let run = |extra: &[&str]| {
+        let out = websigma()
+            .arg("field")
+            .arg(&path)
+            .args(["--at", "0.5,0,1.5"])
+            .args(extra)
+            .output()
+            .unwrap();
+        (
+            out.status.code(),
+            String::from_utf8_lossy(&out.stdout).to_string(),
+            String::from_utf8_lossy(&out.stderr).to_string(),
+        )
+    };
+    let (code, stdout, _) = run(&[]);
+    assert_eq!(code, Some(0));
+    assert!(
+        stdout.contains("carry the charge the web induces"),
+        "{stdout}"
+    );
+    assert!(stdout.contains("accuracy estimate"), "{stdout}");
+    let (code, stdout, _) = run(&["--conductors", "off"]);
+    assert_eq!(code, Some(0));
+    assert!(stdout.contains("conductors off"), "{stdout}");
+    assert!(!stdout.contains("accuracy estimate"), "{stdout}");
+    let (code, _, stderr) = run(&["--conductors", "0.1 mm"]);
+    assert_eq!(code, Some(2));
+    assert!(stderr.contains("between 1 mm and 1 m"), "{stderr}");
+}

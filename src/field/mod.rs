@@ -41,7 +41,7 @@ pub mod kernels;
 pub mod panels;
 pub mod scene;
 
-pub use scene::{ConductorResult, Scene, WebField};
+pub use scene::{ConductorAccuracy, ConductorResult, Scene, WebField};
 
 use crate::units::{Meters, Volts, VoltsPerMeter};
 use integrate::KernelError;

@@ -174,7 +174,7 @@ impl Scene {
                     .collect()
             })
             .collect();
-        let wrap_charges = self
+        let wrap_charges: Vec<f64> = self
             .wraps
             .iter()
             .map(|arcs| arcs.iter().map(|&(a, b)| wrap_charge(charge, a, b)).sum())
@@ -183,9 +183,16 @@ impl Scene {
             scene: self,
             patches,
             induced: Ok(None),
+            charges: Vec::new(),
         };
         if let Some(bem) = &self.bem {
-            web.induced = web.induce(bem, wrap_charges).map(Some);
+            web.charges = bem
+                .given_charges()
+                .iter()
+                .zip(wrap_charges.iter().chain(std::iter::repeat(&0.0)))
+                .map(|(q, w): (&f64, &f64)| q + w)
+                .collect();
+            web.induced = web.induce(bem, &web.charges).map(Some);
         }
         web
     }
@@ -377,6 +384,35 @@ pub struct WebField<'s> {
     /// The charge this web induces on the conductors (none without them),
     /// or why it could not be solved.
     induced: Result<Option<Induced>, FieldError>,
+    /// Net charge of each isolated conductor: given plus wrap charge [C].
+    charges: Vec<f64>,
+}
+
+/// How much the conductors' results change when the panels are twice as
+/// large: the accuracy estimate of a solve (see [`WebField::conductor_accuracy`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ConductorAccuracy {
+    /// Panel size of the solve [m] and its panel count.
+    pub panel_size: Meters,
+    /// Panels of the solve.
+    pub panels: usize,
+    /// Panel size of the coarse comparison solve [m].
+    pub coarse_panel_size: Meters,
+    /// Panels of the coarse solve.
+    pub coarse_panels: usize,
+    /// Largest |ΔV| over the check points [V] …
+    pub potential_change: f64,
+    /// … relative to the largest total |V| there [1].
+    pub potential_relative: f64,
+    /// Largest |Δ**E**| over the check points [V/m] …
+    pub field_change: f64,
+    /// … relative to the largest total |**E**| there [1].
+    pub field_relative: f64,
+    /// Largest |ΔC|/C of the isolated conductors' capacitances to ground [1]
+    /// (0 without isolated conductors).
+    pub capacitance_relative: f64,
+    /// Check points used.
+    pub points: usize,
 }
 
 impl WebField<'_> {
@@ -418,7 +454,14 @@ impl WebField<'_> {
     /// the roller's net charge (`wrap_charges`, per isolated conductor), which
     /// raises its floating potential by Q/C (Gauss's law; the conductor's
     /// charge redistributes as on any conductor).
-    fn induce(&self, bem: &Bem, wrap_charges: Vec<f64>) -> Result<Induced, FieldError> {
+    fn induce(&self, bem: &Bem, charges: &[f64]) -> Result<Induced, FieldError> {
+        let ext = self.external(bem)?;
+        bem.solve_with_charges(&ext, charges)
+            .map_err(|e| FieldError::Conductors(e.to_string()))
+    }
+
+    /// The web's potential at every collocation point of `bem`.
+    fn external(&self, bem: &Bem) -> Result<Vec<f64>, FieldError> {
         let points = bem.collocation_points();
         let ext: Vec<f64> = points
             .par_iter()
@@ -430,14 +473,74 @@ impl WebField<'_> {
                 Err(e) => Err(e),
             })
             .collect::<Result<_, _>>()?;
-        let charges: Vec<f64> = bem
-            .given_charges()
-            .iter()
-            .zip(wrap_charges.iter().chain(std::iter::repeat(&0.0)))
-            .map(|(q, w)| q + w)
-            .collect();
-        bem.solve_with_charges(&ext, &charges)
-            .map_err(|e| FieldError::Conductors(e.to_string()))
+        Ok(ext)
+    }
+
+    /// The accuracy estimate of the conductors' solve for this charge: the
+    /// same solve on panels twice as large (a quarter of the panels; the
+    /// cylinders keep their minimum facets), compared at `checks` [m] (the
+    /// places of interest) and in the isolated conductors' capacitances.
+    /// With constant-density panels the error falls roughly like the panel
+    /// size squared, so the change between the meshes, about 3× the finer
+    /// mesh's error, bounds it with margin (L. Richardson's extrapolation
+    /// argument; the unit cube in tests/bem.rs measures it). `None` without
+    /// conductors or without check points.
+    pub fn conductor_accuracy(
+        &self,
+        checks: &[[Meters; 3]],
+    ) -> Result<Option<ConductorAccuracy>, FieldError> {
+        let induced = self.induced.as_ref().map_err(Clone::clone)?;
+        let (Some(fine), Some(bem)) = (induced, &self.scene.bem) else {
+            return Ok(None);
+        };
+        if checks.is_empty() {
+            return Ok(None);
+        }
+        let err = |e: super::bem::BemError| FieldError::Conductors(e.to_string());
+        let h = bem.settings().panel_size();
+        let coarse = bem.with_panel_size(2.0 * h).map_err(err)?;
+        let ext = self.external(&coarse)?;
+        let coarse_sol = coarse
+            .solve_with_charges(&ext, &self.charges)
+            .map_err(err)?;
+        let rows = checks
+            .par_iter()
+            .map(|&x| {
+                let total = self.at(x, false)?;
+                let (e, v) = fine.at(bem, x);
+                let (ec, vc) = coarse_sol.at(&coarse, x);
+                let de = [e[0] - ec[0], e[1] - ec[1], e[2] - ec[2]];
+                Ok((
+                    total.v.abs(),
+                    total.e_magnitude(),
+                    (v - vc).abs(),
+                    (de[0] * de[0] + de[1] * de[1] + de[2] * de[2]).sqrt(),
+                ))
+            })
+            .collect::<Result<Vec<_>, FieldError>>()?;
+        let max = |f: &dyn Fn(&(f64, f64, f64, f64)) -> f64| rows.iter().map(f).fold(0.0, f64::max);
+        let (v_scale, e_scale) = (max(&|r| r.0), max(&|r| r.1));
+        let (dv, de) = (max(&|r| r.2), max(&|r| r.3));
+        let ratio = |d: f64, s: f64| if s > 0.0 { d / s } else { 0.0 };
+        let capacitance_relative = (0..bem.conductors().len())
+            .filter_map(|k| {
+                let c = bem.capacitance_to_ground(k)?;
+                let cc = coarse.capacitance_to_ground(k)?;
+                Some(ratio((c - cc).abs(), c))
+            })
+            .fold(0.0, f64::max);
+        Ok(Some(ConductorAccuracy {
+            panel_size: h,
+            panels: bem.panels().len(),
+            coarse_panel_size: 2.0 * h,
+            coarse_panels: coarse.panels().len(),
+            potential_change: dv,
+            potential_relative: ratio(dv, v_scale),
+            field_change: de,
+            field_relative: ratio(de, e_scale),
+            capacitance_relative,
+            points: checks.len(),
+        }))
     }
 
     /// Per conductor: the charge, potential, capacitance and spark energy

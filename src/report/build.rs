@@ -130,6 +130,11 @@ pub struct Report {
     pub eliminators: Vec<crate::readings::EliminatorState>,
     /// The eliminator plan, when one was asked for and the line fails.
     pub plan: Option<PlanSection>,
+    /// What the web's charge does to each conductor (empty without the
+    /// conductors' solve).
+    pub conductors: Vec<crate::field::ConductorResult>,
+    /// The conductors' accuracy estimate at the places of interest.
+    pub conductor_accuracy: Option<crate::field::ConductorAccuracy>,
 }
 
 /// A finding as the report shows it: the assessment's numbers with its
@@ -454,6 +459,8 @@ pub fn build_report(
             .unwrap_or_default(),
         eliminators: readings.eliminators.clone(),
         plan: None,
+        conductors: Vec::new(),
+        conductor_accuracy: None,
     }
 }
 

@@ -129,6 +129,56 @@ fn eliminator_table(r: &Report) -> Block {
     )
 }
 
+/// The conductors' results and the accuracy estimate of their solve.
+fn conductor_blocks(r: &Report) -> Vec<Block> {
+    let opt = |v: Option<f64>, d: Dim| v.map(|x| q(x, d)).unwrap_or_else(|| "—".into());
+    let rows = r
+        .conductors
+        .iter()
+        .map(|c| {
+            vec![
+                c.id.clone(),
+                if c.grounded { "grounded" } else { "isolated" }.to_string(),
+                q(c.charge, Dim::Charge),
+                q(c.potential, Dim::Voltage),
+                opt(c.capacitance, Dim::Capacitance),
+                opt(c.spark_energy, Dim::Energy),
+                c.panels.to_string(),
+            ]
+        })
+        .collect();
+    let mut blocks = vec![
+        Block::Para("The charge the web induces on each conductor (boundary-element solve on flat panels of constant density; the grounded plane by images). A grounded conductor's charge is the induced charge; an isolated conductor floats at the potential shown, its net charge fixed (an isolated roller's includes the charge the web carries on its wraps), with its capacitance to ground (the other isolated conductors floating; a person's lumped feet-to-floor capacitance included) and the energy ½CV² a spark to ground can release.".into()),
+        table(
+            &["conductor", "earthing", "charge", "potential", "C to ground", "½CV²", "panels"],
+            rows,
+        ),
+    ];
+    if let Some(a) = &r.conductor_accuracy {
+        blocks.push(Block::Para(format!(
+            "Accuracy estimate: solved again on {} panels of {} (against {} of {}), the potential at the {} places of interest changes by at most {} ({:.2} % of the largest |V| there) and the field by {} ({:.2} % of the largest |E|){}. For constant-density panels the error of the finer solve is about a third of that change.",
+            a.coarse_panels,
+            len_text(a.coarse_panel_size),
+            a.panels,
+            len_text(a.panel_size),
+            a.points,
+            q(a.potential_change, Dim::Voltage),
+            100.0 * a.potential_relative,
+            q(a.field_change, Dim::Field),
+            100.0 * a.field_relative,
+            if a.capacitance_relative > 0.0 {
+                format!(
+                    "; the capacitances to ground by at most {:.2} %",
+                    100.0 * a.capacitance_relative
+                )
+            } else {
+                String::new()
+            }
+        )));
+    }
+    blocks
+}
+
 fn reading_table(r: &Report) -> Block {
     let sd = |x: f64| format_quantity(x, Dim::SurfaceChargeDensity);
     let ratio = |n: Option<f64>, g: f64| match n {
@@ -515,6 +565,9 @@ pub fn layout(r: &Report) -> Vec<Section> {
             ),
         ],
     ));
+    if !r.conductors.is_empty() {
+        out.push(sec("Conductors", conductor_blocks(r)));
+    }
 
     let finding_rows = r
         .findings

@@ -159,3 +159,28 @@ pub fn conductors_table(rows: &[crate::field::ConductorResult]) -> String {
     ));
     s
 }
+
+/// One paragraph on the conductors' accuracy estimate.
+pub fn accuracy_text(a: &crate::field::ConductorAccuracy) -> String {
+    use crate::units::{Dim, format_quantity};
+    let mut s = format!(
+        "accuracy estimate (the same solve on {} panels of {} against {} of {}): at these {} point(s) the potential changes by at most {} ({:.2} % of the largest |V|) and the field by {} ({:.2} % of the largest |E|)",
+        a.coarse_panels,
+        format_quantity(a.coarse_panel_size, Dim::Length),
+        a.panels,
+        format_quantity(a.panel_size, Dim::Length),
+        a.points,
+        format_quantity(a.potential_change, Dim::Voltage),
+        100.0 * a.potential_relative,
+        format_quantity(a.field_change, Dim::Field),
+        100.0 * a.field_relative,
+    );
+    if a.capacitance_relative > 0.0 {
+        s.push_str(&format!(
+            "; capacitances to ground by at most {:.2} %",
+            100.0 * a.capacitance_relative
+        ));
+    }
+    s.push_str(": the error of the finer solve is smaller (about a third of the change for constant-density panels)\n");
+    s
+}

@@ -163,7 +163,46 @@ pub fn results_json(r: &Report) -> String {
         .map(|x| format!("    {}", reading_object(x)))
         .collect();
     s.push_str(&items.join(",\n"));
-    s.push_str("\n  ]\n}\n");
+    s.push_str("\n  ]");
+    // Only with the conductors' solve (a free-space run has no such key).
+    if !r.conductors.is_empty() {
+        let opt = |v: Option<f64>| v.map(num).unwrap_or_else(|| "null".into());
+        let items: Vec<String> = r
+            .conductors
+            .iter()
+            .map(|c| {
+                format!(
+                    "    {{\"id\": {}, \"grounded\": {}, \"charge\": {}, \"potential\": {}, \"capacitance_to_ground\": {}, \"spark_energy\": {}, \"panels\": {}}}",
+                    string(&c.id),
+                    c.grounded,
+                    num(c.charge),
+                    num(c.potential),
+                    opt(c.capacitance),
+                    opt(c.spark_energy),
+                    c.panels
+                )
+            })
+            .collect();
+        s.push_str(",\n  \"conductors\": [\n");
+        s.push_str(&items.join(",\n"));
+        s.push_str("\n  ]");
+        if let Some(a) = &r.conductor_accuracy {
+            s.push_str(&format!(
+                ",\n  \"conductor_accuracy\": {{\"panel_size\": {}, \"panels\": {}, \"coarse_panel_size\": {}, \"coarse_panels\": {}, \"potential_change\": {}, \"potential_relative\": {}, \"field_change\": {}, \"field_relative\": {}, \"capacitance_relative\": {}, \"points\": {}}}",
+                num(a.panel_size),
+                a.panels,
+                num(a.coarse_panel_size),
+                a.coarse_panels,
+                num(a.potential_change),
+                num(a.potential_relative),
+                num(a.field_change),
+                num(a.field_relative),
+                num(a.capacitance_relative),
+                a.points
+            ));
+        }
+    }
+    s.push_str("\n}\n");
     s
 }
 
