@@ -510,17 +510,16 @@ impl WebField<'_> {
                 let (e, v) = fine.at(bem, x);
                 let (ec, vc) = coarse_sol.at(&coarse, x);
                 let de = [e[0] - ec[0], e[1] - ec[1], e[2] - ec[2]];
-                Ok((
+                Ok([
                     total.v.abs(),
                     total.e_magnitude(),
                     (v - vc).abs(),
                     (de[0] * de[0] + de[1] * de[1] + de[2] * de[2]).sqrt(),
-                ))
+                ])
             })
             .collect::<Result<Vec<_>, FieldError>>()?;
-        let max = |f: &dyn Fn(&(f64, f64, f64, f64)) -> f64| rows.iter().map(f).fold(0.0, f64::max);
-        let (v_scale, e_scale) = (max(&|r| r.0), max(&|r| r.1));
-        let (dv, de) = (max(&|r| r.2), max(&|r| r.3));
+        let max = |k: usize| rows.iter().map(|r| r[k]).fold(0.0, f64::max);
+        let (v_scale, e_scale, dv, de) = (max(0), max(1), max(2), max(3));
         let ratio = |d: f64, s: f64| if s > 0.0 { d / s } else { 0.0 };
         let capacitance_relative = (0..bem.conductors().len())
             .filter_map(|k| {
