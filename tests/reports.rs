@@ -64,6 +64,10 @@ struct Pipeline {
 }
 
 fn pipeline(line: &websigma::model::Line) -> Pipeline {
+    pipeline_with(line, SolverSettings::default())
+}
+
+fn pipeline_with(line: &websigma::model::Line, solver: SolverSettings) -> Pipeline {
     let profiles = with_air_limit(
         line.assess
             .iter()
@@ -73,7 +77,7 @@ fn pipeline(line: &websigma::model::Line) -> Pipeline {
     let websigma::pipeline::Analysis { scene, evaluation } = websigma::pipeline::analyse(
         line,
         &profiles,
-        &websigma::pipeline::Settings::new(SolverSettings::default()),
+        &websigma::pipeline::Settings::new(solver),
     )
     .unwrap();
     let websigma::pipeline::Evaluation {
@@ -371,7 +375,8 @@ fn assess_exit_codes() {
 
 /// The sample pictures in `reports/sample/` shown by the README are the
 /// demo's, byte for byte. Regenerate them with
-/// `WEBSIGMA_UPDATE_SAMPLE=1 cargo test sample_pictures`.
+/// `WEBSIGMA_UPDATE_SAMPLE=1 cargo test sample_pictures`. The demo's
+/// settings: conductors solved on the default panels.
 #[test]
 fn sample_pictures_are_current() {
     let line = parse_line(websigma::DEMO_LINE).unwrap();
@@ -382,7 +387,7 @@ fn sample_pictures_are_current() {
         scene,
         assessment: a,
         ..
-    } = pipeline(&line);
+    } = pipeline_with(&line, SolverSettings::default().with_default_conductors());
     let model = scene.web(&charge);
     // The demo's own resolution, so the sample is exactly what `demo` writes.
     let plots = websigma::report::pictures::make_plots(
