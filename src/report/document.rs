@@ -317,6 +317,10 @@ pub fn layout(r: &Report) -> Vec<Section> {
                 ),
                 None =>
                     "with potentials relative to zero at infinity (no ground plane given)".into(),
+            } + if r.conductors.is_empty() {
+                ""
+            } else {
+                ", plus the field of the charge the web induces on the line's conductors (a boundary-element solve: see Conductors)"
             }
         )),
         Block::Para(format!(
