@@ -136,8 +136,15 @@ fn line_charge(line: &Line, scene: &Scene) -> Result<ReadingsResult> {
 }
 
 fn check(a: &CheckArgs) -> Result<Outcome> {
-    let (line, _, r) = load_with_charge(&a.line, solver_with(1e-9, &a.conductors)?)?;
-    let s = summary::check_text(&line, &r.charge, &a.line.display().to_string());
+    let (line, scene, r) = load_with_charge(&a.line, solver_with(1e-9, &a.conductors)?)?;
+    let conductors = scene.web(&r.charge).conductor_results()?;
+    let s = summary::check_text(
+        &line,
+        &r.charge,
+        &a.line.display().to_string(),
+        crate::field::assumptions(&scene.settings()),
+        &conductors,
+    );
     print(&s)?;
     Ok(Outcome::Pass)
 }

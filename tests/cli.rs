@@ -65,7 +65,11 @@ fn check_prints_spans_and_exits_zero() {
         .stdout(predicate::str::contains("S2    A → B"))
         .stdout(predicate::str::contains("valid:"))
         .stdout(predicate::str::contains(
-            "only the straight spans are integrated",
+            "the straight spans are integrated; the charge on a wrap arc is bound",
+        ))
+        // The grounded rollers' induced charge (conductors by default).
+        .stdout(predicate::str::contains(
+            "conductors (charge induced by the web",
         ));
 }
 

@@ -74,12 +74,9 @@ fn pipeline_with(line: &websigma::model::Line, solver: SolverSettings) -> Pipeli
             .map(|n| websigma::assess::profile::load_profile(n).unwrap())
             .collect(),
     );
-    let websigma::pipeline::Analysis { scene, evaluation } = websigma::pipeline::analyse(
-        line,
-        &profiles,
-        &websigma::pipeline::Settings::new(solver),
-    )
-    .unwrap();
+    let websigma::pipeline::Analysis { scene, evaluation } =
+        websigma::pipeline::analyse(line, &profiles, &websigma::pipeline::Settings::new(solver))
+            .unwrap();
     let websigma::pipeline::Evaluation {
         readings,
         charge,

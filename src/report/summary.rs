@@ -5,7 +5,6 @@
 //! nothing.
 
 use crate::charge::ChargeProfile;
-use crate::field::ASSUMPTIONS;
 use crate::model::{ChargeMode, Line};
 use crate::readings::ReadingsResult;
 use crate::report::{span_rows, text};
@@ -116,11 +115,6 @@ pub fn summary(line: &Line, charge: &ChargeProfile) -> String {
     s
 }
 
-/// The modelling assumptions of the field stage, as a list.
-pub fn assumptions_text() -> String {
-    assumptions_list(ASSUMPTIONS)
-}
-
 /// A list of assumptions under the heading `assumptions:`.
 pub fn assumptions_list(list: &[&str]) -> String {
     let mut s = String::from("assumptions:\n");
@@ -140,13 +134,22 @@ pub fn overview(line: &Line, charge: &ChargeProfile) -> String {
 
 /// What `check` prints: the overview, the points checked, the assumptions
 /// and the verdict on the file `file`.
-pub fn check_text(line: &Line, charge: &ChargeProfile, file: &str) -> String {
+pub fn check_text(
+    line: &Line,
+    charge: &ChargeProfile,
+    file: &str,
+    assumptions: &[&str],
+    conductors: &[crate::field::ConductorResult],
+) -> String {
     let mut s = overview(line, charge);
     s.push_str(&format!(
         "\npoints of interest: {} checked\n",
         line.points.len()
     ));
-    s.push_str(&assumptions_text());
+    s.push_str(&assumptions_list(assumptions));
+    if !conductors.is_empty() {
+        s.push_str(&super::field_out::conductors_table(conductors));
+    }
     s.push_str(&format!(
         "\nvalid: {} ({} warning{})\n",
         file,
