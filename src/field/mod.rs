@@ -36,6 +36,7 @@
 //! (D. J. Griffiths, *Introduction to Electrodynamics*, 4th ed., §2.1 and §3.2).
 
 pub mod bem;
+pub mod far;
 pub mod integrate;
 pub mod kernels;
 pub mod panels;

@@ -465,12 +465,9 @@ impl WebField<'_> {
         let points = bem.collocation_points();
         let ext: Vec<f64> = points
             .par_iter()
-            .map(|&x| match self.web_at(x, false) {
-                Ok(f) => Ok(f.v),
-                Err(FieldError::OnWeb { .. }) => {
-                    self.web_at([x[0], x[1], x[2] + 5e-6], false).map(|f| f.v)
-                }
-                Err(e) => Err(e),
+            .map(|&x| match self.web_potential(x) {
+                Err(FieldError::OnWeb { .. }) => self.web_potential([x[0], x[1], x[2] + 5e-6]),
+                r => r,
             })
             .collect::<Result<_, _>>()?;
         Ok(ext)
@@ -563,6 +560,49 @@ impl WebField<'_> {
                 panels: c.panels.len(),
             })
             .collect())
+    }
+
+    /// Potential [V] of the web's own charge (and its images) at `at`, for
+    /// the conductors' right-hand side: patches far from the point by the
+    /// fixed Gauss rule of [`super::far`] (within 1e-8 of the adaptive
+    /// rule's error scale), the others by the adaptive rule.
+    fn web_potential(&self, at: [Meters; 3]) -> Result<f64, FieldError> {
+        let mut v = 0.0;
+        let tol = self.scene.settings.rel_tol();
+        for (g, patches) in self.scene.spans.iter().zip(&self.patches) {
+            let one = |x: [f64; 3]| -> Result<f64, FieldError> {
+                let frame = span_frame(&g.span, self.scene.width, x);
+                if frame.distance < MIN_POINT_DISTANCE {
+                    return Err(FieldError::OnWeb {
+                        at: x,
+                        span: g.label.clone(),
+                        distance: frame.distance,
+                    });
+                }
+                let mut sum = 0.0;
+                for (offset, patch) in patches {
+                    let p = [frame.u - offset, frame.y, frame.h];
+                    sum += match super::far::far_potential(patch, p) {
+                        Some(far) => far,
+                        None => {
+                            patch_field(patch, p, tol)
+                                .map_err(|source| FieldError::NotConverged {
+                                    at: x,
+                                    span: g.label.clone(),
+                                    source,
+                                })?
+                                .v
+                        }
+                    };
+                }
+                Ok(sum)
+            };
+            v += one(at)?;
+            if let Some(zg) = self.scene.ground {
+                v -= one([at[0], at[1], 2.0 * zg - at[2]])?;
+            }
+        }
+        Ok(v)
     }
 
     /// Field and potential of the web's own charge (and its images).
