@@ -16,6 +16,7 @@ mod analytic;
 mod assess;
 mod assess_conductors;
 mod bem;
+mod bem_published;
 mod cli;
 mod conductor_views;
 mod conductors;

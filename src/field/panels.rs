@@ -28,6 +28,27 @@
 //!   radial extent r_a(f₂ − f₁) and the mean tangential width w(f₁ + f₂)/2
 //!   (w the facet width), centred mid-ring: the same area as the trapezoid
 //!   (so the end face's area is exact) and the same radial band.
+//! - **Sphere** (radius a): latitude bands of equal polar-angle width
+//!   Δ = π/N_b (N_b = ⌈πa/h⌉ for panel size h, at least [`MIN_BANDS`] and
+//!   half the settings' minimum facets, so the rings by the equator have
+//!   about that many panels). Each pole is one square cap panel tangent at
+//!   the pole, of the area 2πa²(1 − cos(Δ/2)) of the cap θ < Δ/2; between
+//!   the caps, N_b − 1 bands θ₁ < θ < θ₂ = θ₁ + Δ, each cut into
+//!   N_φ = ⌈2N_b sin θ_c⌉ equal azimuthal cells (θ_c the mid-angle), so the
+//!   cells are about square. Each cell becomes the rectangle tangent to the
+//!   sphere at (θ̄, φ_c), φ_c the mid-azimuth and θ̄ the cell's mean polar
+//!   angle over its area, θ̄ = [sin θ − θ cos θ]₁² / (cos θ₁ − cos θ₂), with
+//!   sides along the meridian (e_θ, length aΔ) and the parallel (e_φ),
+//!   the latter chosen so the area equals the cell's, a²(cos θ₁ − cos θ₂)Δφ:
+//!   every panel has its cell's exact area, so the total is exactly 4πa²
+//!   (to rounding), and every side is at most aΔ ≤ h. The collocation points
+//!   lie on the sphere; a panel's other points lie outside it, a point at
+//!   distance ρ from the centre by √(a² + ρ²) − a ≈ ρ²/(2a): at most about
+//!   aΔ²/4 at a corner and aΔ²/12 on average over a square panel (0.8 % and
+//!   0.3 % of a for N_b = 10). The cells' shape is not kept: by the poles
+//!   the cells are trapezoids (the first ring's parallels differ by a factor
+//!   sin(3Δ/2)/sin(Δ/2) ≈ 3) and become rectangles of the same area and
+//!   meridional extent. A sphere has no edges: grading does not apply.
 //!
 //! ## Edge grading
 //! The charge density of a conductor is singular at its edges (∝ d^(−1/3) at
@@ -46,6 +67,9 @@
 //! | w | facet width, 2r_f sin(π/N) = 2πr/N | m |
 //! | g | grading, 0 = uniform | 1 |
 //! | n | panels along one edge | 1 |
+//! | a | sphere radius | m |
+//! | N_b, Δ | latitude bands on a sphere, their polar-angle width π/N_b | 1, rad |
+//! | θ, φ | polar angle from +z, azimuth from +x about the sphere's centre | rad |
 
 use std::f64::consts::PI;
 
@@ -64,6 +88,9 @@ const GL3_WEIGHTS: [f64; 3] = [5.0 / 9.0, 8.0 / 9.0, 5.0 / 9.0];
 
 /// Fewest facets around a cylinder.
 pub const MIN_FACETS: usize = 12;
+/// Fewest latitude bands on a sphere (the rings by its equator then have
+/// about twice as many panels).
+pub const MIN_BANDS: usize = 6;
 /// Shortest accepted length of any conductor dimension [m] (the closed-form
 /// kernels are accurate from about 1e-6 m, see [`super::kernels`]).
 pub const MIN_SIZE: f64 = 1e-5;
@@ -102,6 +129,13 @@ pub enum Shape {
         min: [f64; 3],
         /// Highest corner [m].
         max: [f64; 3],
+    },
+    /// A sphere.
+    Sphere {
+        /// Centre [m].
+        center: [f64; 3],
+        /// Radius [m].
+        radius: f64,
     },
 }
 
@@ -286,6 +320,7 @@ pub fn mesh(shape: &Shape, p: &MeshParams) -> Result<Vec<Panel>, ShapeError> {
             radius,
             length,
         } => cylinder(*center, *axis, *radius, *length, p),
+        Shape::Sphere { center, radius } => sphere(*center, *radius, p),
     }
 }
 
@@ -436,6 +471,58 @@ fn cylinder(
                     half_v: 0.25 * (r[0] + r[1]) * width,
                 });
             }
+        }
+    }
+    Ok(out)
+}
+
+/// Latitude–longitude panels of a sphere (see the module header).
+fn sphere(center: [f64; 3], radius: f64, p: &MeshParams) -> Result<Vec<Panel>, ShapeError> {
+    check_point("sphere centre", center)?;
+    check_size("sphere radius", radius)?;
+    let a = radius;
+    // Bounded by the size checks (πa/h ≤ π·1e3/1e-5); the cast saturates anyway.
+    let nb = ((PI * a / p.panel_size).ceil() as usize)
+        .max(p.min_facets.div_ceil(2))
+        .max(MIN_BANDS);
+    let dt = PI / nb as f64;
+    let mut out = Vec::new();
+    // Polar caps θ < Δ/2 (and mirrored): squares of the cap's area, tangent at the pole.
+    let cap = 2.0 * PI * a * a * (1.0 - (0.5 * dt).cos());
+    for pole in [1.0, -1.0] {
+        let half = 0.5 * cap.sqrt();
+        out.push(Panel {
+            center: add(center, [0.0, 0.0, pole * a]),
+            eu: [1.0, 0.0, 0.0],
+            ev: [0.0, pole, 0.0],
+            en: [0.0, 0.0, pole],
+            half_u: half,
+            half_v: half,
+        });
+    }
+    for i in 0..nb - 1 {
+        let t1 = (i as f64 + 0.5) * dt;
+        let t2 = t1 + dt;
+        let tc = 0.5 * (t1 + t2);
+        let (c1, c2) = (t1.cos(), t2.cos());
+        let band = c1 - c2;
+        let mean_theta = ((t2.sin() - t2 * c2) - (t1.sin() - t1 * c1)) / band;
+        let (st, ct) = mean_theta.sin_cos();
+        let nphi = ((2.0 * nb as f64 * tc.sin()).ceil() as usize).max(3);
+        let dphi = 2.0 * PI / nphi as f64;
+        let half_u = 0.5 * a * dt;
+        let half_v = a * a * band * dphi / (4.0 * half_u);
+        for j in 0..nphi {
+            let (sp, cp) = ((j as f64 + 0.5) * dphi).sin_cos();
+            let en = [st * cp, st * sp, ct];
+            out.push(Panel {
+                center: add(center, scale(en, a)),
+                eu: [ct * cp, ct * sp, -st],
+                ev: [-sp, cp, 0.0],
+                en,
+                half_u,
+                half_v,
+            });
         }
     }
     Ok(out)
@@ -594,6 +681,105 @@ mod tests {
             let e = mesh(&s, &p).unwrap_err().0;
             assert!(
                 e.contains("expected") || e.contains("give") || e.contains("finite"),
+                "{e}"
+            );
+        }
+    }
+}
+
+#[cfg(test)]
+mod sphere_tests {
+    use super::*;
+
+    fn sphere_panels(center: [f64; 3], a: f64, h: f64) -> Vec<Panel> {
+        let p = MeshParams {
+            panel_size: h,
+            grading: 0.5,
+            min_facets: MIN_FACETS,
+        };
+        mesh(&Shape::Sphere { center, radius: a }, &p).unwrap()
+    }
+
+    #[test]
+    fn sphere_area_is_exact_and_panels_are_tangent_and_small() {
+        let (c, a) = ([0.3, -1.0, 2.0], 0.25);
+        for h in [0.2, 0.05, 0.013] {
+            let pan = sphere_panels(c, a, h);
+            let area: f64 = pan.iter().map(Panel::area).sum();
+            let want = 4.0 * PI * a * a;
+            assert!((area - want).abs() < 1e-13 * want, "{h}: {area} vs {want}");
+            let nb = ((PI * a / h).ceil() as usize).max(MIN_BANDS);
+            for q in &pan {
+                // Centre on the sphere, outward unit normal, orthonormal frame.
+                let r = sub(q.center, c);
+                assert!((norm(r) - a).abs() < 1e-14, "{:?}", q.center);
+                let radial = scale(r, 1.0 / a);
+                assert!(norm(sub(radial, q.en)) < 1e-14);
+                for (x, y) in [(q.eu, q.ev), (q.eu, q.en), (q.ev, q.en)] {
+                    assert!(dot(x, y).abs() < 1e-14);
+                }
+                for v in [q.eu, q.ev, q.en] {
+                    assert!((norm(v) - 1.0).abs() < 1e-14);
+                }
+                assert!(norm(sub(cross(q.eu, q.ev), q.en)) < 1e-14);
+                // Every side at most aΔ = πa/N_b ≤ h.
+                let side = PI * a / nb as f64;
+                assert!(side <= h + 1e-15);
+                assert!(2.0 * q.half_u <= side * (1.0 + 1e-12), "{q:?}");
+                assert!(2.0 * q.half_v <= side * (1.0 + 1e-12), "{q:?}");
+            }
+        }
+    }
+
+    #[test]
+    fn sphere_panel_centres_are_mean_angles() {
+        // ∫ cos θ dA over the upper hemisphere is πa² (its shadow on the equator plane).
+        // With an odd N_b the equator is a band boundary, and the panel sum
+        // Σ A_j cos θ̄_j over the upper panels differs from it only because cos is
+        // curved over each band: cos θ̄ exceeds the band's mean of cos θ by about
+        // cos θ̄·Var(θ)/2 = cos θ̄·Δ²/24, so the relative difference is Δ²/24 + O(Δ⁴).
+        // Centres at the bands' mid-angles would give 3Δ²/24 instead (the mean angle
+        // lies cot θ·Δ²/12 towards the equator): the check tells the two apart.
+        let a = 1.0;
+        for nb in [9_usize, 17, 33] {
+            let s: f64 = sphere_panels([0.0; 3], a, PI * a / (nb as f64 - 0.5))
+                .iter()
+                .filter(|q| q.en[2] > 0.0)
+                .map(|q| q.area() * q.en[2])
+                .sum();
+            let rel = (s - PI * a * a) / (PI * a * a);
+            let want = (PI / nb as f64).powi(2) / 24.0;
+            assert!(
+                (rel - want).abs() < 0.02 * want,
+                "N_b = {nb}: {rel:e} vs {want:e}"
+            );
+        }
+    }
+
+    #[test]
+    fn degenerate_spheres_are_refused() {
+        let p = MeshParams {
+            panel_size: 0.1,
+            grading: 0.0,
+            min_facets: MIN_FACETS,
+        };
+        for s in [
+            Shape::Sphere {
+                center: [0.0; 3],
+                radius: 0.0,
+            },
+            Shape::Sphere {
+                center: [0.0; 3],
+                radius: f64::INFINITY,
+            },
+            Shape::Sphere {
+                center: [f64::NAN, 0.0, 0.0],
+                radius: 1.0,
+            },
+        ] {
+            let e = mesh(&s, &p).unwrap_err().0;
+            assert!(
+                e.contains("sphere") && (e.contains("expected") || e.contains("finite")),
                 "{e}"
             );
         }
