@@ -573,6 +573,29 @@ impl Bem {
             .collect()
     }
 
+    /// Each panel's field and potential factors at `x` [m], its image in
+    /// the grounded plane included ([E_x, E_y, E_z, V] per unit q̃, as in
+    /// [`Induced::at`]): for a point evaluated with many charges (the
+    /// planner's pieces), so that each is a dot product.
+    pub fn point_factors(&self, x: [Meters; 3]) -> Vec<[f64; 4]> {
+        let mirrored = self.ground.map(|zg| [x[0], x[1], 2.0 * zg - x[2]]);
+        self.panels
+            .iter()
+            .map(|p| {
+                let f = p.factors(x);
+                let mut out = [f.e[0], f.e[1], f.e[2], f.v];
+                if let Some(xm) = mirrored {
+                    let g = p.factors(xm);
+                    out[0] -= g.e[0];
+                    out[1] -= g.e[1];
+                    out[2] += g.e[2];
+                    out[3] -= g.v;
+                }
+                out
+            })
+            .collect()
+    }
+
     /// The linear response to `external` alone: every isolated conductor's
     /// net charge 0 (superpose [`Bem::solve`] of a zero potential for the given charges).
     pub fn solve_response(&self, external: &[Volts]) -> Result<Induced, BemError> {
@@ -773,6 +796,20 @@ impl Induced {
                 e[1] -= q * g.e[1];
                 e[2] += q * g.e[2];
             }
+        }
+        (e, v)
+    }
+
+    /// As [`Induced::at`] from the point's panel factors precomputed by
+    /// [`Bem::point_factors`]: the same sums, without the closed forms.
+    pub fn at_factors(&self, factors: &[[f64; 4]]) -> ([VoltsPerMeter; 3], Volts) {
+        let mut e = [0.0; 3];
+        let mut v = 0.0;
+        for (f, &q) in factors.iter().zip(&self.q) {
+            v += q * f[3];
+            e[0] += q * f[0];
+            e[1] += q * f[1];
+            e[2] += q * f[2];
         }
         (e, v)
     }

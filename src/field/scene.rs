@@ -133,6 +133,22 @@ impl Scene {
         })
     }
 
+    /// The conductors' panel factors at each of `points` (see
+    /// [`Bem::point_factors`]), for evaluating many charges at the same
+    /// points with [`WebField::at_with`]; `None` without conductors or when
+    /// they would take more than [`Self::MAX_FACTOR_BYTES`].
+    pub fn panel_factors(&self, points: &[[Meters; 3]]) -> Option<Vec<Vec<[f64; 4]>>> {
+        let bem = self.bem.as_ref()?;
+        let bytes = points.len() * bem.panels().len() * 32;
+        if bytes > Self::MAX_FACTOR_BYTES {
+            return None;
+        }
+        Some(points.par_iter().map(|&x| bem.point_factors(x)).collect())
+    }
+
+    /// The most memory [`Self::panel_factors`] may take [B] (512 MB).
+    pub const MAX_FACTOR_BYTES: usize = 512 << 20;
+
     /// The conductors' solve, when conductors enter the field.
     pub fn conductors(&self) -> Option<&Bem> {
         self.bem.as_ref()
@@ -560,6 +576,29 @@ impl WebField<'_> {
                 panels: c.panels.len(),
             })
             .collect())
+    }
+
+    /// Field and potential at `at` with the conductors' panel factors
+    /// there precomputed ([`Scene::panel_factors`]); the same result as
+    /// [`WebField::at`] without contributions.
+    pub fn at_with(
+        &self,
+        at: [Meters; 3],
+        factors: Option<&[[f64; 4]]>,
+    ) -> Result<PointField, FieldError> {
+        let Some(factors) = factors else {
+            return self.at(at, false);
+        };
+        let mut f = self.web_at(at, false)?;
+        let induced = self.induced.as_ref().map_err(Clone::clone)?;
+        if let Some(induced) = induced {
+            let (e, v) = induced.at_factors(factors);
+            for (fk, ek) in f.e.iter_mut().zip(e) {
+                *fk += ek;
+            }
+            f.v += v;
+        }
+        Ok(f)
     }
 
     /// Potential [V] of the web's own charge (and its images) at `at`, for

@@ -144,13 +144,20 @@ impl Influence {
             .enumerate()
             .map(|(e, &a)| (a, starts.get(e + 1).copied().unwrap_or(total)))
             .collect();
+        // The conductors' panel factors at every point, once: each piece's
+        // induced field there is then a dot product.
+        let factors = scene.panel_factors(&points);
         let g: Vec<Vec<[f64; 4]>> = pieces
             .par_iter()
             .map(|&(a, b)| {
                 let m = scene.unit_piece(&base, a, b);
                 points
                     .iter()
-                    .map(|&p| m.at(p, false).map(|f| [f.e[0], f.e[1], f.e[2], f.v]))
+                    .enumerate()
+                    .map(|(k, &p)| {
+                        m.at_with(p, factors.as_ref().map(|f| f[k].as_slice()))
+                            .map(|f| [f.e[0], f.e[1], f.e[2], f.v])
+                    })
                     .collect::<Result<Vec<_>, _>>()
             })
             .collect::<Result<Vec<_>, _>>()?;
