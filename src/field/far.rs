@@ -71,7 +71,10 @@ const WEIGHTS: [f64; FAR_ORDER] = [
 pub fn far_potential(patch: &Patch, p: [f64; 3]) -> Option<f64> {
     let [y_lo, y_hi] = patch.y_range();
     let (l, w) = (patch.len, y_hi - y_lo);
-    if !(patch.len <= patch.decay_length) {
+    // A NaN length or decay length fails this test too.
+    if patch.len.partial_cmp(&patch.decay_length) != Some(std::cmp::Ordering::Less)
+        && patch.len != patch.decay_length
+    {
         return None;
     }
     let half_diag = 0.5 * (l * l + w * w).sqrt();
