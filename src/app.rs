@@ -240,11 +240,15 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
     }
     emit(&mut out, &w.footer())?;
     let conductors = model.conductor_results()?;
+    let accuracy = model.conductor_accuracy(&checked)?;
     if a.format == OutputFormat::Table && !conductors.is_empty() {
         emit(&mut out, &field_out::conductors_table(&conductors))?;
-        if let Some(acc) = model.conductor_accuracy(&checked)? {
-            emit(&mut out, &field_out::accuracy_text(&acc))?;
+        if let Some(acc) = &accuracy {
+            emit(&mut out, &field_out::accuracy_text(acc))?;
         }
+    }
+    if let Some(w) = accuracy.as_ref().and_then(field_out::accuracy_warning) {
+        eprintln!("warning: {w}");
     }
     out.flush().or_else(quiet_pipe)?;
     Ok(Outcome::Pass)

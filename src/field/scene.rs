@@ -431,6 +431,19 @@ pub struct ConductorAccuracy {
     pub points: usize,
 }
 
+impl ConductorAccuracy {
+    /// A change above this between the two meshes (relative, in V or |E|
+    /// at the check points) means the solve cannot vouch for its numbers
+    /// there to better than several per cent: 5 %, a choice of this program.
+    pub const DOUBTFUL: f64 = 0.05;
+
+    /// Whether the results at the check points are in doubt (see
+    /// [`Self::DOUBTFUL`]): the outputs then say so and ask for smaller panels.
+    pub fn doubtful(&self) -> bool {
+        self.potential_relative > Self::DOUBTFUL || self.field_relative > Self::DOUBTFUL
+    }
+}
+
 impl WebField<'_> {
     /// Field and potential at `at`; with `contributions`, also per span.
     pub fn at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError> {

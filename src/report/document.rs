@@ -176,6 +176,12 @@ fn conductor_blocks(r: &Report) -> Vec<Block> {
             }
         )));
     }
+    if r.conductor_accuracy.as_ref().is_some_and(|a| a.doubtful()) {
+        blocks.push(Block::Para(format!(
+            "⚠ The conductors' solve changes by more than {:.0} % between the two meshes at the places of interest: its numbers are not reliable there. Rerun with a smaller panel size (`--conductors`).",
+            100.0 * crate::field::ConductorAccuracy::DOUBTFUL
+        )));
+    }
     blocks
 }
 

@@ -184,3 +184,18 @@ pub fn accuracy_text(a: &crate::field::ConductorAccuracy) -> String {
     s.push_str(": the error of the finer solve is smaller (about a third of the change for constant-density panels)\n");
     s
 }
+
+/// The warning for a solve that cannot vouch for its numbers at the points
+/// (stderr), or `None`.
+pub fn accuracy_warning(a: &crate::field::ConductorAccuracy) -> Option<String> {
+    use crate::units::{Dim, format_quantity};
+    a.doubtful().then(|| {
+        format!(
+            "the conductors' solve changes by more than {:.0} % at these points between panels of {} and {}: its numbers are not reliable there; rerun with --conductors and a panel size below {}",
+            100.0 * crate::field::ConductorAccuracy::DOUBTFUL,
+            format_quantity(a.panel_size, Dim::Length),
+            format_quantity(a.coarse_panel_size, Dim::Length),
+            format_quantity(0.5 * a.panel_size, Dim::Length)
+        )
+    })
+}
