@@ -330,3 +330,36 @@ fn a_solve_that_cannot_vouch_for_its_numbers_says_so() {
     let far = stderr_at("1,0,1.5");
     assert!(!far.contains("not reliable"), "{far}");
 }
+
+/// `readings --format json` carries each meter's screening factor with the
+/// conductors' solve (a mid-span meter between grounded rollers: within a
+/// few per cent of 1) and no such key without it.
+#[test]
+fn readings_json_gives_the_screening_factor() {
+    use crate::util::{temp_yaml, websigma};
+    let text = "ground_plane: 0 m\n\
+         web: {width: 1.0 m, thickness: 50 um, relative_permittivity: 3, relaxation_time: 1e30 s, speed: 1 m/s}\n\
+         rollers:\n  - {id: A, center: [0 m, 1 m], diameter: 150 mm, earthing: grounded}\n  - {id: B, center: [2 m, 1 m], diameter: 150 mm, earthing: grounded}\n\
+         path:\n  - {roller: A, wrap: cw}\n  - {roller: B, wrap: cw}\n\
+         charge:\n  - at: start\n    sigma: 2 uC/m^2\n\
+         readings:\n  - {id: MID, span: S1, position: 50 %, distance: 25 mm, side: above, reading: 100 kV/m}\n";
+    let (_d, path) = temp_yaml(text);
+    let json = |extra: &[&str]| -> serde_json::Value {
+        let out = websigma()
+            .arg("readings")
+            .arg(&path)
+            .args(["--format", "json"])
+            .args(extra)
+            .output()
+            .unwrap();
+        assert_eq!(out.status.code(), Some(0));
+        serde_json::from_slice(&out.stdout).unwrap()
+    };
+    let k = json(&[])["readings"][0]["screening"].as_f64().unwrap();
+    assert!((k - 1.0).abs() < 0.05, "{k}");
+    assert!(
+        json(&["--conductors", "off"])["readings"][0]
+            .get("screening")
+            .is_none()
+    );
+}

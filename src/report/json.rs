@@ -215,7 +215,7 @@ pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
         .map(|w| string(&super::notes::reading_note(w)))
         .collect();
     format!(
-        "{{\"id\": {}, \"span\": {}, \"position\": {}, \"distance\": {}, \"reading\": {}, \"field\": {}, \"sigma\": {}, \"sigma_low\": {}, \"sigma_high\": {}, \"sigma_naive_isolated\": {}, \"sigma_naive_one_sided\": {}, \"sigma_model\": {}, \"residual\": {}, \"warnings\": [{}]}}",
+        "{{\"id\": {}, \"span\": {}, \"position\": {}, \"distance\": {}, \"reading\": {}, \"field\": {}, \"sigma\": {}, \"sigma_low\": {}, \"sigma_high\": {}, \"sigma_naive_isolated\": {}, \"sigma_naive_one_sided\": {}, \"sigma_model\": {}, \"residual\": {}{}, \"warnings\": [{}]}}",
         string(&x.id),
         string(&x.span),
         num(x.position),
@@ -229,6 +229,11 @@ pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
         opt(x.sigma_naive_one_sided),
         num(x.sigma_model),
         num(x.residual),
+        // Only with the conductors' solve: what the meter reads ÷ the
+        // field of the web's charge alone there.
+        x.screening
+            .map(|k| format!(", \"screening\": {}", num(k)))
+            .unwrap_or_default(),
         warnings.join(", ")
     )
 }
