@@ -32,10 +32,10 @@
 //!
 //! | dimension | SI | accepted units |
 //! | --- | --- | --- |
-//! | length | m | `m`, `cm`, `mm`, `um`/`µm`/`μm`, `in` (0.0254 m) |
-//! | speed | m/s | `m/s`, `mm/s`, `m/min`, `ft/min` (0.3048 m / 60 s) |
+//! | length | m | `m`, `cm`, `mm`, `um`/`µm`/`μm`, `in`/`inch`/`inches` (0.0254 m), `mil`/`mils` (0.001 in = 25.4 µm), `ft` (0.3048 m) |
+//! | speed | m/s | `m/s`, `mm/s`, `m/min`, `ft/min` or `fpm` (0.3048 m / 60 s), `ft/s` |
 //! | surface charge density | C/m² | `C/m^2`, `mC/m^2`, `uC/m^2`, `nC/m^2`, `pC/m^2`, `uC/cm^2`, `nC/cm^2`, `pC/cm^2` |
-//! | field strength | V/m | `V/m`, `kV/m`, `MV/m`, `V/mm`, `kV/mm`, `V/cm`, `kV/cm`, `V/in`, `kV/in` |
+//! | field strength | V/m | `V/m`, `kV/m`, `MV/m`, `V/mm`, `kV/mm`, `V/cm`, `kV/cm`, `V/in`, `kV/in`, `V/inch`, `kV/inch`, `V/mil`, `kV/mil` (dielectric strengths) |
 //! | voltage | V | `mV`, `V`, `kV`, `MV` |
 //! | capacitance | F | `pF`, `nF`, `uF`, `F` |
 //! | charge | C | `pC`, `nC`, `uC`, `mC`, `C` |
@@ -210,13 +210,15 @@ impl Dim {
     /// help texts: `"m, cm, mm, um, µm, in"`.
     pub fn accepted_units(self) -> &'static str {
         match self {
-            Dim::Length => "m, cm, mm, um, µm, in",
-            Dim::Speed => "m/s, mm/s, m/min, ft/min",
+            Dim::Length => "m, cm, mm, um, µm, in, inch, mil, ft",
+            Dim::Speed => "m/s, mm/s, m/min, ft/min, fpm, ft/s",
             Dim::SurfaceChargeDensity => {
                 "C/m^2, mC/m^2, uC/m^2, µC/m^2, nC/m^2, pC/m^2, uC/cm^2, nC/cm^2, pC/cm^2, \
                  with ^2 or ²"
             }
-            Dim::Field => "V/m, kV/m, MV/m, V/mm, kV/mm, V/cm, kV/cm, V/in, kV/in",
+            Dim::Field => {
+                "V/m, kV/m, MV/m, V/mm, kV/mm, V/cm, kV/cm, V/in, kV/in, V/inch, kV/inch, V/mil, kV/mil"
+            }
             Dim::Voltage => "mV, V, kV, MV",
             Dim::Capacitance => "pF, nF, uF, µF, F",
             Dim::Charge => "pC, nC, uC, µC, mC, C",
@@ -300,12 +302,19 @@ const LENGTH_UNITS: &[UnitDef] = &[
     u("mm", 1.0, 1e3),
     u("um", 1.0, 1e6),
     u("in", INCH, 1.0),
+    u("inch", INCH, 1.0),
+    u("inches", INCH, 1.0),
+    u("mil", INCH, 1e3),
+    u("mils", INCH, 1e3),
+    u("ft", FOOT, 1.0),
 ];
 const SPEED_UNITS: &[UnitDef] = &[
     u("m/s", 1.0, 1.0),
     u("mm/s", 1.0, 1e3),
     u("m/min", 1.0, 60.0),
     u("ft/min", FOOT, 60.0),
+    u("fpm", FOOT, 60.0),
+    u("ft/s", FOOT, 1.0),
 ];
 const SCD_UNITS: &[UnitDef] = &[
     u("C/m^2", 1.0, 1.0),
@@ -328,6 +337,10 @@ const FIELD_UNITS: &[UnitDef] = &[
     u("kV/cm", 1e5, 1.0),
     u("V/in", 1.0, INCH),
     u("kV/in", 1e3, INCH),
+    u("V/inch", 1.0, INCH),
+    u("kV/inch", 1e3, INCH),
+    u("V/mil", 1e3, INCH),
+    u("kV/mil", 1e6, INCH),
 ];
 const VOLTAGE_UNITS: &[UnitDef] = &[
     u("mV", 1.0, 1e3),
@@ -761,7 +774,7 @@ fn parse_impl(
 /// assert_eq!(
 ///     err.to_string(),
 ///     "expected a length such as \"120 mm\", got \"120 kV\", which is a voltage \
-///      (units: m, cm, mm, um, µm, in)"
+///      (units: m, cm, mm, um, µm, in, inch, mil, ft)"
 /// );
 /// ```
 pub fn parse_quantity(input: &str, dim: Dim) -> Result<f64, ParseQuantityError> {
@@ -998,6 +1011,37 @@ mod tests {
         );
         // 1000 ft/min = 1000 * 0.3048 m / 60 s = 5.08 m/s
         assert_relative_eq!(p("1000 ft/min", Dim::Speed), 5.08, max_relative = REL);
+        assert_relative_eq!(p("1000 fpm", Dim::Speed), 5.08, max_relative = REL);
+        assert_relative_eq!(p("10 ft/s", Dim::Speed), 3.048, max_relative = REL);
+    }
+
+    /// The units practitioners type (issue 10): the inch and the foot are
+    /// exact by definition, the mil is 0.001 in (NIST SP 811, appendix B).
+    #[test]
+    fn inch_mil_and_foot_units() {
+        assert_relative_eq!(p("1 inch", Dim::Length), 0.0254, max_relative = REL);
+        assert_relative_eq!(p("2 inches", Dim::Length), 0.0508, max_relative = REL);
+        // A 0.92 mil film is 23.368 µm.
+        assert_relative_eq!(p("0.92 mil", Dim::Length), 23.368e-6, max_relative = REL);
+        assert_relative_eq!(p("2 mils", Dim::Length), 50.8e-6, max_relative = REL);
+        assert_relative_eq!(p("4 ft", Dim::Length), 1.2192, max_relative = REL);
+        // "5 kV at 1 inch" as a field: 5000 V / 0.0254 m = 196.85 kV/m.
+        assert_relative_eq!(
+            p("5 kV/inch", Dim::Field),
+            196_850.393_700_787_4,
+            max_relative = REL
+        );
+        // A PET dielectric strength of 5000 V/mil is 196.85 kV/mm.
+        assert_relative_eq!(
+            p("5000 V/mil", Dim::Field),
+            1.968_503_937_007_874e8,
+            max_relative = REL
+        );
+        assert_relative_eq!(
+            p("5 kV/mil", Dim::Field),
+            1.968_503_937_007_874e8,
+            max_relative = REL
+        );
     }
 
     #[test]
@@ -1199,7 +1243,7 @@ mod tests {
         assert_eq!(
             msg("120", Dim::Length),
             "expected a length such as \"120 mm\", got \"120\" \
-             (a unit is missing; units: m, cm, mm, um, µm, in)"
+             (a unit is missing; units: m, cm, mm, um, µm, in, inch, mil, ft)"
         );
         assert_eq!(
             msg("95", Dim::Percent),
@@ -1212,12 +1256,12 @@ mod tests {
         assert_eq!(
             msg("120 kV", Dim::Length),
             "expected a length such as \"120 mm\", got \"120 kV\", which is a voltage \
-             (units: m, cm, mm, um, µm, in)"
+             (units: m, cm, mm, um, µm, in, inch, mil, ft)"
         );
         assert_eq!(
             msg("5 mm", Dim::Field),
             "expected a field strength such as \"48 kV/m\", got \"5 mm\", which is a length \
-             (units: V/m, kV/m, MV/m, V/mm, kV/mm, V/cm, kV/cm, V/in, kV/in)"
+             (units: V/m, kV/m, MV/m, V/mm, kV/mm, V/cm, kV/cm, V/in, kV/in, V/inch, kV/inch, V/mil, kV/mil)"
         );
         assert_eq!(
             parse_quantity("95 %", Dim::Time),
@@ -1234,7 +1278,7 @@ mod tests {
         assert_eq!(
             msg("3 furlong", Dim::Length),
             "expected a length such as \"120 mm\", got \"3 furlong\" \
-             (unknown unit \"furlong\"; units: m, cm, mm, um, µm, in)"
+             (unknown unit \"furlong\"; units: m, cm, mm, um, µm, in, inch, mil, ft)"
         );
         // Prefixes are case-sensitive: "MM" is not "mm", "kv" is not "kV".
         assert!(matches!(
