@@ -148,7 +148,7 @@ fn conductor_blocks(r: &Report) -> Vec<Block> {
         })
         .collect();
     let mut blocks = vec![
-        Block::Para("The charge the web induces on each conductor (boundary-element solve on flat panels of constant density; the grounded plane by images). A grounded conductor's charge is the induced charge; an isolated conductor floats at the potential shown, its net charge fixed (an isolated roller's includes the charge the web carries on its wraps), with its capacitance to ground (the other isolated conductors floating; a person's lumped feet-to-floor capacitance included) and the energy ½CV² a spark to ground can release.".into()),
+        Block::Para("The charge the web induces on each conductor (boundary-element solve on flat panels of constant density; the grounded plane by images). A grounded conductor's charge is the induced charge; an isolated conductor floats at the potential shown, its net charge fixed (an isolated roller's includes the charge the web carries on its wraps; where a lumped capacitance to ground is given, as for a person's feet, the charge shown is the one on the conductor's surface and the lumped capacitance holds the rest, C_l·V), with its capacitance to ground (the other isolated conductors floating; a person's lumped feet-to-floor capacitance included) and the energy ½CV² a spark to ground can release.".into()),
         table(
             &["conductor", "earthing", "charge", "potential", "C to ground", "½CV²", "panels"],
             rows,

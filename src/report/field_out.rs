@@ -144,7 +144,9 @@ pub fn conductors_table(rows: &[crate::field::ConductorResult]) -> String {
             ]
         })
         .collect();
-    let mut s = String::from("\nconductors (charge induced by the web, boundary-element solve):\n");
+    let mut s = String::from(
+        "\nconductors (charge induced by the web, boundary-element solve; charge on the surface: a lumped capacitance to ground, as for a person's feet, holds C_l·V more):\n",
+    );
     s.push_str(&super::text::table(
         &[
             "conductor",
