@@ -40,6 +40,7 @@
 //! | capacitance | F | `pF`, `nF`, `uF`, `F` |
 //! | charge | C | `pC`, `nC`, `uC`, `mC`, `C` |
 //! | resistivity | Ω·m | `ohm m`, `ohm cm`, `Ω·m`, `Ω·cm`, ... |
+//! | surface resistivity | Ω (per square) | `ohm/sq`, `ohm/square`, `Ω/sq`, `Ω/□` |
 //! | energy | J | `nJ`, `uJ`, `mJ`, `J` |
 //! | time | s | `ms`, `s`, `min`, `h` |
 //! | percentage | 1 | `%` (`"95 %"` is 0.95) |
@@ -125,6 +126,8 @@ pub enum Dim {
     Charge,
     /// A volume resistivity [Ω·m].
     Resistivity,
+    /// A surface resistivity [Ω] (ohms per square, Ω/□).
+    SurfaceResistivity,
     /// An energy [J].
     Energy,
     /// A time [s].
@@ -136,7 +139,7 @@ pub enum Dim {
 }
 
 /// All dimensions, in the order used to name a wrongly dimensioned unit.
-const ALL_DIMS: [Dim; 12] = [
+const ALL_DIMS: [Dim; 13] = [
     Dim::Length,
     Dim::Speed,
     Dim::SurfaceChargeDensity,
@@ -145,6 +148,7 @@ const ALL_DIMS: [Dim; 12] = [
     Dim::Capacitance,
     Dim::Charge,
     Dim::Resistivity,
+    Dim::SurfaceResistivity,
     Dim::Energy,
     Dim::Time,
     Dim::Percent,
@@ -163,6 +167,7 @@ impl Dim {
             Dim::Capacitance => "a capacitance",
             Dim::Charge => "a charge",
             Dim::Resistivity => "a resistivity",
+            Dim::SurfaceResistivity => "a surface resistivity",
             Dim::Energy => "an energy",
             Dim::Time => "a time",
             Dim::Percent => "a percentage",
@@ -181,6 +186,7 @@ impl Dim {
             Dim::Capacitance => "150 pF",
             Dim::Charge => "5 nC",
             Dim::Resistivity => "1e15 ohm m",
+            Dim::SurfaceResistivity => "1e12 ohm/sq",
             Dim::Energy => "0.24 mJ",
             Dim::Time => "400 s",
             Dim::Percent => "95 %",
@@ -200,6 +206,7 @@ impl Dim {
             Dim::Capacitance => "F",
             Dim::Charge => "C",
             Dim::Resistivity => "Ω·m",
+            Dim::SurfaceResistivity => "Ω/sq",
             Dim::Energy => "J",
             Dim::Time => "s",
             Dim::Percent | Dim::Number => "",
@@ -223,6 +230,7 @@ impl Dim {
             Dim::Capacitance => "pF, nF, uF, µF, F",
             Dim::Charge => "pC, nC, uC, µC, mC, C",
             Dim::Resistivity => "ohm m, ohm cm, Ω·m, Ω·cm",
+            Dim::SurfaceResistivity => "ohm/sq, ohm/square, Ω/sq, Ω/□",
             Dim::Energy => "nJ, uJ, µJ, mJ, J",
             Dim::Time => "ms, s, min, h",
             Dim::Percent => "%",
@@ -241,6 +249,7 @@ impl Dim {
             Dim::Capacitance => CAPACITANCE_UNITS,
             Dim::Charge => CHARGE_UNITS,
             Dim::Resistivity => RESISTIVITY_UNITS,
+            Dim::SurfaceResistivity => SURFACE_RESISTIVITY_UNITS,
             Dim::Energy => ENERGY_UNITS,
             Dim::Time => TIME_UNITS,
             Dim::Percent => PERCENT_UNITS,
@@ -267,6 +276,7 @@ impl Dim {
             Dim::Capacitance => &[(-12, "pF"), (-9, "nF"), (-6, "µF"), (0, "F")],
             Dim::Charge => &[(-12, "pC"), (-9, "nC"), (-6, "µC"), (-3, "mC"), (0, "C")],
             Dim::Resistivity => &[(0, "Ω·m")],
+            Dim::SurfaceResistivity => &[(0, "Ω/sq")],
             Dim::Energy => &[(-9, "nJ"), (-6, "µJ"), (-3, "mJ"), (0, "J")],
             Dim::Time => &[(-3, "ms"), (0, "s")],
             Dim::Percent => &[(0, "%")],
@@ -366,6 +376,14 @@ const RESISTIVITY_UNITS: &[UnitDef] = &[
     u("ohmm", 1.0, 1.0),
     u("ohm*cm", 1.0, 1e2),
     u("ohmcm", 1.0, 1e2),
+];
+/// Ohms per square: the resistance of any square of a sheet between
+/// opposite edges (IEC 61340-2-3), dimensionally Ω.
+const SURFACE_RESISTIVITY_UNITS: &[UnitDef] = &[
+    u("ohm/sq", 1.0, 1.0),
+    u("ohm/square", 1.0, 1.0),
+    u("ohm/\u{25a1}", 1.0, 1.0),
+    u("ohms/sq", 1.0, 1.0),
 ];
 const ENERGY_UNITS: &[UnitDef] = &[
     u("J", 1.0, 1.0),
@@ -1013,6 +1031,21 @@ mod tests {
         assert_relative_eq!(p("1000 ft/min", Dim::Speed), 5.08, max_relative = REL);
         assert_relative_eq!(p("1000 fpm", Dim::Speed), 5.08, max_relative = REL);
         assert_relative_eq!(p("10 ft/s", Dim::Speed), 3.048, max_relative = REL);
+    }
+
+    /// Surface resistivity in ohms per square (IEC 61340-2-3), however written.
+    #[test]
+    fn surface_resistivity_units() {
+        for t in [
+            "1e12 ohm/sq",
+            "1e12 Ω/sq",
+            "1e12 ohm/square",
+            "1e12 Ω/□",
+            "1e12 Ohms/sq",
+        ] {
+            assert_eq!(p(t, Dim::SurfaceResistivity), 1e12, "{t}");
+        }
+        assert_eq!(format_quantity(1e12, Dim::SurfaceResistivity), "1e12 Ω/sq");
     }
 
     /// The units practitioners type (issue 10): the inch and the foot are

@@ -44,6 +44,27 @@ fn relaxation_time_from_resistivity() {
     assert!((line.web.decay_length() - tau * 1.0).abs() < 1e-12 * tau);
 }
 
+/// A surface resistivity R_s [Ω/sq] gives ρ = R_s·t for a web conducting
+/// through its bulk (IEC 61340-2-3's relation for a homogeneous sheet), then
+/// τ = ε0·εr·ρ; given with ρ or τ as well, it is refused with the reason.
+#[test]
+fn relaxation_time_from_surface_resistivity() {
+    let text = SMALL_LINE.replace("relaxation_time: 100 s", "surface_resistivity: 1e16 ohm/sq");
+    let line = parse_line(&text).unwrap();
+    let t = line.web.thickness;
+    let rho = 1e16 * t;
+    assert!((line.web.volume_resistivity.unwrap() - rho).abs() < 1e-12 * rho);
+    assert_eq!(line.web.surface_resistivity, Some(1e16));
+    let tau = EPS0 * line.web.relative_permittivity * rho;
+    assert!((line.web.relaxation_time - tau).abs() < 1e-12 * tau);
+    let both = SMALL_LINE.replace(
+        "relaxation_time: 100 s",
+        "relaxation_time: 100 s\n  surface_resistivity: 1e16 ohm/sq",
+    );
+    let err = parse_line(&both).unwrap_err().to_string();
+    assert!(err.contains("not several"), "{err}");
+}
+
 #[test]
 fn across_profiles_are_parsed_and_checked() {
     let with = |p: &str| {

@@ -89,8 +89,11 @@ pub struct Web {
     pub thickness: Meters,
     /// Relative permittivity εr [1].
     pub relative_permittivity: f64,
-    /// Volume resistivity ρ [Ω·m], when given.
+    /// Volume resistivity ρ [Ω·m], when given (or derived from a surface
+    /// resistivity: ρ = R_s·t).
     pub volume_resistivity: Option<OhmMeters>,
+    /// Surface resistivity R_s [Ω per square], when given instead of ρ.
+    pub surface_resistivity: Option<f64>,
     /// Charge relaxation time τ [s]: given, or ε0·εr·ρ.
     pub relaxation_time: Seconds,
     /// Web speed v [m/s].

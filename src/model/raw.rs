@@ -261,6 +261,8 @@ pub struct RawWeb {
     pub relative_permittivity: Option<Scalar>,
     /// A resistivity.
     pub volume_resistivity: Option<Scalar>,
+    /// A surface resistivity (ohms per square).
+    pub surface_resistivity: Option<Scalar>,
     /// A time.
     pub relaxation_time: Option<Scalar>,
     /// A speed.

@@ -324,18 +324,40 @@ fn validate_web(ctx: &mut Ctx, raw: &RawLine) -> Option<Web> {
         .as_ref()
         .and_then(|r| ctx.qty(r, Dim::Resistivity, "web.volume_resistivity"));
     let rho = ctx.positive_opt(rho, Dim::Resistivity, "web.volume_resistivity");
+    let rs = w
+        .surface_resistivity
+        .as_ref()
+        .and_then(|r| ctx.qty(r, Dim::SurfaceResistivity, "web.surface_resistivity"));
+    let rs = ctx.positive_opt(rs, Dim::SurfaceResistivity, "web.surface_resistivity");
+    // A surface resistivity of a web whose conduction is through its bulk:
+    // ρ = R_s·t (IEC 61340-2-3's relation for a homogeneous sheet; stated
+    // in the output).
+    let rho = match (rho, rs, thickness) {
+        (None, Some(r), Some(t)) => Some(r * t),
+        (r, _, _) => r,
+    };
     let tau_given = w
         .relaxation_time
         .as_ref()
         .and_then(|r| ctx.qty(r, Dim::Time, "web.relaxation_time"));
     let tau_given = ctx.positive_opt(tau_given, Dim::Time, "web.relaxation_time");
-    let tau = match (&w.volume_resistivity, &w.relaxation_time) {
-        (Some(_), Some(_)) => {
-            ctx.err("web", "give either volume_resistivity or relaxation_time, not both (τ = ε0·εr·ρ links them)");
+    let given = [
+        w.volume_resistivity.is_some(),
+        w.surface_resistivity.is_some(),
+        w.relaxation_time.is_some(),
+    ];
+    let tau = match (
+        w.volume_resistivity
+            .as_ref()
+            .or(w.surface_resistivity.as_ref()),
+        &w.relaxation_time,
+    ) {
+        _ if given.iter().filter(|g| **g).count() > 1 => {
+            ctx.err("web", "give one of volume_resistivity, surface_resistivity or relaxation_time, not several (τ = ε0·εr·ρ and ρ = R_s·t link them)");
             None
         }
         (None, None) => {
-            ctx.err("web", "missing: expected volume_resistivity such as \"1e15 ohm m\" or relaxation_time such as \"400 s\"");
+            ctx.err("web", "missing: expected volume_resistivity such as \"1e15 ohm m\", surface_resistivity such as \"1e12 ohm/sq\" or relaxation_time such as \"400 s\"");
             None
         }
         (Some(_), None) => match (rho, er) {
@@ -343,6 +365,7 @@ fn validate_web(ctx: &mut Ctx, raw: &RawLine) -> Option<Web> {
             _ => None,
         },
         (None, Some(_)) => tau_given,
+        (Some(_), Some(_)) => None,
     };
     let breakdown = w
         .breakdown_strength
@@ -356,6 +379,7 @@ fn validate_web(ctx: &mut Ctx, raw: &RawLine) -> Option<Web> {
         thickness: thickness?,
         relative_permittivity: er?,
         volume_resistivity: rho,
+        surface_resistivity: rs,
         relaxation_time: tau?,
         speed: speed?,
         breakdown_strength: breakdown,

@@ -357,9 +357,19 @@ pub fn layout(r: &Report) -> Vec<Section> {
             format!("{}", w.relative_permittivity),
         ],
     ];
+    if let Some(rs) = w.surface_resistivity {
+        web_rows.push(vec![
+            "surface resistivity R_s".into(),
+            q(rs, Dim::SurfaceResistivity),
+        ]);
+    }
     if let Some(rho) = w.volume_resistivity {
         web_rows.push(vec![
-            "volume resistivity ρ".into(),
+            if w.surface_resistivity.is_some() {
+                "volume resistivity ρ = R_s·t (conduction through the bulk assumed)".into()
+            } else {
+                "volume resistivity ρ".into()
+            },
             q(rho, Dim::Resistivity),
         ]);
     }

@@ -28,10 +28,14 @@ pub fn summary(line: &Line, charge: &ChargeProfile) -> String {
     s.push_str(&format!(
         "charge relaxation: τ = {}{}, decay length v·τ = {}\n",
         format_quantity(w.relaxation_time, Dim::Time),
-        if w.volume_resistivity.is_some() {
-            " (ε0·εr·ρ)"
-        } else {
-            " (given)"
+        match (w.surface_resistivity, w.volume_resistivity) {
+            (Some(rs), Some(rho)) => format!(
+                " (ε0·εr·ρ, with ρ = R_s·t = {} from the surface resistivity {} and the thickness: conduction through the bulk assumed)",
+                format_quantity(rho, Dim::Resistivity),
+                format_quantity(rs, Dim::SurfaceResistivity)
+            ),
+            (None, Some(_)) => " (ε0·εr·ρ)".into(),
+            _ => " (given)".into(),
         },
         if lambda.is_finite() {
             format_quantity(lambda, Dim::Length)
