@@ -69,6 +69,10 @@
 //! Moment Methods*, 1968, ch. 1–2. Timing method: median of repeated
 //! wall-clock runs (no statistics beyond the median).
 
+#[path = "common/load.rs"]
+mod load;
+use load::{machine, machine_ticks, own_ticks};
+
 use faer::MatRef;
 use faer::linalg::solvers::PartialPivLu;
 use rayon::prelude::*;
@@ -411,49 +415,6 @@ fn part2() -> Result<(), Box<dyn Error>> {
         pts.len()
     );
     Ok(())
-}
-
-fn machine() -> String {
-    let cpu = std::fs::read_to_string("/proc/cpuinfo")
-        .ok()
-        .and_then(|s| {
-            s.lines()
-                .find(|l| l.starts_with("model name"))
-                .and_then(|l| l.split_once(':'))
-                .map(|(_, v)| v.trim().to_string())
-        })
-        .unwrap_or_else(|| "unknown CPU".into());
-    let n = std::thread::available_parallelism().map_or(0, usize::from);
-    format!(
-        "machine: {cpu}, nproc = {n}, rayon threads = {}",
-        rayon::current_num_threads()
-    )
-}
-
-/// Busy and total CPU time of the machine so far, from `/proc/stat` [clock ticks].
-fn machine_ticks() -> Option<(u64, u64)> {
-    let stat = std::fs::read_to_string("/proc/stat").ok()?;
-    let t: Vec<u64> = stat
-        .lines()
-        .next()?
-        .split_whitespace()
-        .skip(1)
-        .take(8)
-        .map(|x| x.parse().ok())
-        .collect::<Option<_>>()?;
-    // user nice system idle iowait irq softirq steal
-    let idle = t.get(3)? + t.get(4)?;
-    let total: u64 = t.iter().sum();
-    Some((total - idle, total))
-}
-
-/// CPU time used by this process so far, from `/proc/self/stat` [clock ticks].
-fn own_ticks() -> Option<u64> {
-    let stat = std::fs::read_to_string("/proc/self/stat").ok()?;
-    let (_, rest) = stat.rsplit_once(')')?;
-    let f: Vec<&str> = rest.split_whitespace().collect();
-    // Fields 14 and 15 of proc(5), utime and stime; `rest` starts at field 3.
-    Some(f.get(11)?.parse::<u64>().ok()? + f.get(12)?.parse::<u64>().ok()?)
 }
 
 fn main() -> Result<(), Box<dyn Error>> {
