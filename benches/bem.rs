@@ -71,7 +71,7 @@
 
 #[path = "common/load.rs"]
 mod load;
-use load::{machine, machine_ticks, own_ticks};
+use load::{Load, machine};
 
 use faer::MatRef;
 use faer::linalg::solvers::PartialPivLu;
@@ -419,7 +419,7 @@ fn part2() -> Result<(), Box<dyn Error>> {
 
 fn main() -> Result<(), Box<dyn Error>> {
     println!("{}\n", machine());
-    let start = machine_ticks().zip(own_ticks());
+    let load = Load::start();
     let doc = part1()?;
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("target");
     std::fs::create_dir_all(&dir)?;
@@ -429,15 +429,8 @@ fn main() -> Result<(), Box<dyn Error>> {
     )?;
     part2()?;
     // How much of the machine other processes used meanwhile (they slow the figures above).
-    if let (Some(((b0, t0), o0)), Some((b1, t1)), Some(o1)) = (start, machine_ticks(), own_ticks())
-    {
-        let n = std::thread::available_parallelism().map_or(1, usize::from) as f64;
-        let total = (t1 - t0).max(1) as f64;
-        let others = (b1 - b0).saturating_sub(o1 - o0) as f64;
-        println!(
-            "\nother processes used {:.2} of {n} cores on average during the run",
-            n * others / total
-        );
+    if let Some(line) = load.report() {
+        println!("\n{line}");
     }
     Ok(())
 }

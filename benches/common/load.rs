@@ -46,3 +46,27 @@ pub fn own_ticks() -> Option<u64> {
     // Fields 14 and 15 of proc(5), utime and stime; `rest` starts at field 3.
     Some(f.get(11)?.parse::<u64>().ok()? + f.get(12)?.parse::<u64>().ok()?)
 }
+
+/// The machine's and this process's CPU ticks when a bench started.
+pub struct Load(Option<((u64, u64), u64)>);
+
+impl Load {
+    /// Takes the ticks now.
+    pub fn start() -> Load {
+        Load(machine_ticks().zip(own_ticks()))
+    }
+
+    /// How much of the machine other processes used since [`Load::start`]
+    /// (they slow the figures), as a line to print; `None` without `/proc`.
+    pub fn report(&self) -> Option<String> {
+        let ((b0, t0), o0) = self.0?;
+        let ((b1, t1), o1) = (machine_ticks()?, own_ticks()?);
+        let n = std::thread::available_parallelism().map_or(1, usize::from) as f64;
+        let total = (t1 - t0).max(1) as f64;
+        let others = (b1 - b0).saturating_sub(o1 - o0) as f64;
+        Some(format!(
+            "other processes used {:.2} of {n} cores on average during the run",
+            n * others / total
+        ))
+    }
+}
