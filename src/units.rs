@@ -134,12 +134,14 @@ pub enum Dim {
     Time,
     /// A percentage, stored as a fraction [1] (`"95 %"` is 0.95).
     Percent,
+    /// An area [m²] (a chargeable insulating surface).
+    Area,
     /// A plain number without unit [1].
     Number,
 }
 
 /// All dimensions, in the order used to name a wrongly dimensioned unit.
-const ALL_DIMS: [Dim; 13] = [
+const ALL_DIMS: [Dim; 14] = [
     Dim::Length,
     Dim::Speed,
     Dim::SurfaceChargeDensity,
@@ -152,6 +154,7 @@ const ALL_DIMS: [Dim; 13] = [
     Dim::Energy,
     Dim::Time,
     Dim::Percent,
+    Dim::Area,
     Dim::Number,
 ];
 
@@ -171,6 +174,7 @@ impl Dim {
             Dim::Energy => "an energy",
             Dim::Time => "a time",
             Dim::Percent => "a percentage",
+            Dim::Area => "an area",
             Dim::Number => "a number",
         }
     }
@@ -190,6 +194,7 @@ impl Dim {
             Dim::Energy => "0.24 mJ",
             Dim::Time => "400 s",
             Dim::Percent => "95 %",
+            Dim::Area => "50 cm^2",
             Dim::Number => "2.2",
         }
     }
@@ -209,6 +214,7 @@ impl Dim {
             Dim::SurfaceResistivity => "Ω/sq",
             Dim::Energy => "J",
             Dim::Time => "s",
+            Dim::Area => "m²",
             Dim::Percent | Dim::Number => "",
         }
     }
@@ -234,6 +240,7 @@ impl Dim {
             Dim::Energy => "nJ, uJ, µJ, mJ, J",
             Dim::Time => "ms, s, min, h",
             Dim::Percent => "%",
+            Dim::Area => "m^2, cm^2, mm^2, in^2, with ^2 or ²",
             Dim::Number => "none",
         }
     }
@@ -253,6 +260,7 @@ impl Dim {
             Dim::Energy => ENERGY_UNITS,
             Dim::Time => TIME_UNITS,
             Dim::Percent => PERCENT_UNITS,
+            Dim::Area => AREA_UNITS,
             Dim::Number => &[],
         }
     }
@@ -280,6 +288,8 @@ impl Dim {
             Dim::Energy => &[(-9, "nJ"), (-6, "µJ"), (-3, "mJ"), (0, "J")],
             Dim::Time => &[(-3, "ms"), (0, "s")],
             Dim::Percent => &[(0, "%")],
+            // cm² is 1e-4 m²: 50 cm² shows as "50 cm²", 1.2 m² as "1.2 m²".
+            Dim::Area => &[(-6, "mm²"), (-4, "cm²"), (0, "m²")],
             Dim::Number => &[(0, "")],
         }
     }
@@ -336,6 +346,13 @@ const SCD_UNITS: &[UnitDef] = &[
     u("uC/cm^2", 1.0, 1e2),
     u("nC/cm^2", 1.0, 1e5),
     u("pC/cm^2", 1.0, 1e8),
+];
+const AREA_UNITS: &[UnitDef] = &[
+    u("m^2", 1.0, 1.0),
+    u("cm^2", 1.0, 1e4),
+    u("mm^2", 1.0, 1e6),
+    // The square inch, exact: (0.0254 m)² (NIST SP 811, appendix B).
+    u("in^2", INCH * INCH, 1.0),
 ];
 const FIELD_UNITS: &[UnitDef] = &[
     u("V/m", 1.0, 1.0),
@@ -851,6 +868,22 @@ pub fn parse_quantity_or(
 /// assert_eq!(format_quantity(2.2, Dim::Number), "2.2");
 /// ```
 pub fn format_quantity(value: f64, dim: Dim) -> String {
+    format_quantity_sig(value, dim, 4)
+}
+
+/// Format a value of `dim` like [`format_quantity`] with `sig` significant
+/// digits (1 to 17): the precision of summaries and tables, where the data
+/// support two or three digits (JSON and CSV keep full precision).
+///
+/// ```
+/// use websigma::units::{format_quantity_sig, Dim};
+///
+/// assert_eq!(format_quantity_sig(56_110.0, Dim::Voltage, 3), "56.1 kV");
+/// assert_eq!(format_quantity_sig(1.977e-6, Dim::SurfaceChargeDensity, 3), "1.98 µC/m²");
+/// assert_eq!(format_quantity_sig(0.005, Dim::Area, 3), "50 cm²");
+/// assert_eq!(format_quantity_sig(13.27e-3, Dim::Energy, 2), "13 mJ");
+/// ```
+pub fn format_quantity_sig(value: f64, dim: Dim, sig: usize) -> String {
     let shown = if dim == Dim::Percent {
         value * 100.0
     } else {
@@ -860,7 +893,7 @@ pub fn format_quantity(value: f64, dim: Dim) -> String {
         Dim::Percent => "%",
         _ => dim.si_unit(),
     };
-    format_with(shown, dim.display_units(), base)
+    format_with(shown, dim.display_units(), base, sig)
 }
 
 /// Format `value` (in `unit`) with 4 significant digits and an SI prefix from p to
@@ -878,6 +911,18 @@ pub fn format_quantity(value: f64, dim: Dim) -> String {
 /// assert_eq!(format_si(3.2e13, "Ω·m"), "3.2e13 Ω·m");
 /// ```
 pub fn format_si(value: f64, unit: &str) -> String {
+    format_si_sig(value, unit, 4)
+}
+
+/// [`format_si`] with `sig` significant digits (1 to 17).
+///
+/// ```
+/// use websigma::units::format_si_sig;
+///
+/// assert_eq!(format_si_sig(65_960.0, "V/m", 3), "66 kV/m");
+/// assert_eq!(format_si_sig(78_740.0, "V/m", 3), "78.7 kV/m");
+/// ```
+pub fn format_si_sig(value: f64, unit: &str, sig: usize) -> String {
     const PREFIXES: [(i32, &str); 8] = [
         (-12, "p"),
         (-9, "n"),
@@ -889,14 +934,14 @@ pub fn format_si(value: f64, unit: &str) -> String {
         (9, "G"),
     ];
     if unit.is_empty() || unit == "%" {
-        return format_with(value, &[(0, unit)], unit);
+        return format_with(value, &[(0, unit)], unit, sig);
     }
     let owned: Vec<(i32, String)> = PREFIXES
         .iter()
         .map(|&(k, p)| (k, format!("{p}{unit}")))
         .collect();
     let units: Vec<(i32, &str)> = owned.iter().map(|(k, s)| (*k, s.as_str())).collect();
-    format_with(value, &units, unit)
+    format_with(value, &units, unit, sig)
 }
 
 /// Join a number and a unit symbol with one space (none if the unit is empty).
@@ -910,7 +955,7 @@ fn with_unit(number: &str, unit: &str) -> String {
 
 /// Core of the formatters. `units` holds (decimal exponent, symbol) in
 /// ascending order of exponent; `base` is the symbol of exponent 0.
-fn format_with(value: f64, units: &[(i32, &str)], base: &str) -> String {
+fn format_with(value: f64, units: &[(i32, &str)], base: &str, sig: usize) -> String {
     if value.is_nan() {
         return with_unit("NaN", base);
     }
@@ -920,8 +965,8 @@ fn format_with(value: f64, units: &[(i32, &str)], base: &str) -> String {
     if value == 0.0 {
         return with_unit("0", base);
     }
-    // Round to 4 significant digits in decimal: "d.ddde±x", exact digits.
-    let sci = format!("{:.3e}", value.abs());
+    // Round to `sig` significant digits in decimal: "d.ddde±x", exact digits.
+    let sci = format!("{:.*e}", sig.clamp(1, 17) - 1, value.abs());
     let (mantissa, exponent) = sci.split_once('e').unwrap_or((sci.as_str(), "0"));
     let exponent: i32 = exponent.parse().unwrap_or(0);
     let digits: String = mantissa.chars().filter(char::is_ascii_digit).collect();

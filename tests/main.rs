@@ -21,6 +21,7 @@ mod cli;
 mod conductor_views;
 mod conductors;
 mod eliminators;
+mod findings_terms;
 mod geometry;
 mod pipeline;
 mod plan;

@@ -100,8 +100,37 @@ fn r8_demo_line_results_match_the_copy_stored_before_the_scene() {
         &std::fs::read_to_string(only_report(dir.path()).join("results.json")).unwrap(),
     )
     .unwrap();
-    let stored: serde_json::Value =
+    let mut stored: serde_json::Value =
         serde_json::from_str(include_str!("fixtures/baseline/demo_results.json")).unwrap();
-    // 1e-12 relative: the reshaping reorders no floating-point sum.
+    // The physics (points, spans, readings) must not move: 1e-12 relative,
+    // the reshaping reorders no floating-point sum. The findings depend on
+    // the rules, which issue #10 restated in their sources' terms (meter
+    // readings, new rules, new keys, a new order): for the rules and
+    // subjects in both, the value found must be the same; the verdict and
+    // findings as a whole are the rules' business, tested elsewhere.
+    let mut got = got;
+    let findings = |v: &mut serde_json::Value| {
+        for k in ["findings", "verdict", "worst_margin"] {
+            v.as_object_mut().unwrap().remove(k);
+        }
+    };
+    let key = |f: &serde_json::Value| format!("{}/{}/{}", f["profile"], f["rule"], f["subject"]);
+    let got_f = got["findings"].as_array().unwrap().clone();
+    let stored_f = stored["findings"].as_array().unwrap().clone();
+    let mut compared = 0;
+    for f in &stored_f {
+        // The separation rule now compares a meter reading, not the web
+        // potential: a different quantity under the same id.
+        if f["rule"] == "separation" {
+            continue;
+        }
+        if let Some(g) = got_f.iter().find(|g| key(g) == key(f)) {
+            same(&g["value"], &f["value"], &key(f), 1e-12);
+            compared += 1;
+        }
+    }
+    assert!(compared >= 20, "{compared} findings compared");
+    findings(&mut got);
+    findings(&mut stored);
     same(&got, &stored, "results", 1e-12);
 }

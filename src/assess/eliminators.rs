@@ -41,14 +41,32 @@ pub const PROFILE: &str = "eliminators";
 /// allocating.
 struct BuiltIn {
     rule: Arc<str>,
+    /// What the dimensionless value is (`5·I′/I_ion`).
+    ratio: &'static str,
+    /// The class of harm.
+    hazard: super::Hazard,
     check: Arc<str>,
     source: Arc<str>,
     confidence: Confidence,
 }
 
-fn built_in(rule: &str, check: &str, source: &str, confidence: Confidence) -> BuiltIn {
+fn built_in(
+    rule: &str,
+    ratio: &'static str,
+    check: &str,
+    source: &str,
+    confidence: Confidence,
+) -> BuiltIn {
     BuiltIn {
         rule: rule.into(),
+        ratio,
+        // A powered bar in a zone 0 or 1 is an ignition question; the
+        // others concern how well the bars work.
+        hazard: if rule == "zone-approval" {
+            super::Hazard::Ignition
+        } else {
+            super::Hazard::Equipment
+        },
         check: check.into(),
         source: source.into(),
         confidence,
@@ -59,6 +77,7 @@ static PROFILE_NAME: LazyLock<Arc<str>> = LazyLock::new(|| PROFILE.into());
 static CAPACITY: LazyLock<BuiltIn> = LazyLock::new(|| {
     built_in(
         "capacity",
+        "5·I′/I_ion",
         "ion output of a powered bar against five times the web current it must neutralise",
         "K. Robinson, PFFC \"Static Beat\": about 1000 µA per metre of bar; keep at least 5× the web current I′ = σ·v",
         Confidence::Confirmed,
@@ -67,6 +86,7 @@ static CAPACITY: LazyLock<BuiltIn> = LazyLock::new(|| {
 static FACING_ROLLER: LazyLock<BuiltIn> = LazyLock::new(|| {
     built_in(
         "facing-roller",
+        "3·d/clearance",
         "clearance of a bar from a conducting roller the web touches, against three bar distances",
         "K. Robinson, PFFC \"Static Beat\": place bars on a free span where a meter would read the web's field, not facing a grounded roller the web touches (the factor 3 is common practice)",
         Confidence::CommonPractice,
@@ -75,6 +95,7 @@ static FACING_ROLLER: LazyLock<BuiltIn> = LazyLock::new(|| {
 static OPPOSITE_BARS: LazyLock<BuiltIn> = LazyLock::new(|| {
     built_in(
         "opposite-bars",
+        "2·d/offset",
         "offset along the span of two bars on opposite sides, against twice their distance",
         "K. Robinson, PFFC \"Static Beat\": two-sided bars offset by more than twice the bar distance",
         Confidence::CommonPractice,
@@ -83,6 +104,7 @@ static OPPOSITE_BARS: LazyLock<BuiltIn> = LazyLock::new(|| {
 static ZONE_APPROVAL: LazyLock<BuiltIn> = LazyLock::new(|| {
     built_in(
         "zone-approval",
+        "1 inside a zone 0 or 1",
         "a powered bar inside a zone 0 or 1 must be of a type approved for that zone",
         "IEC 60079-0 (equipment for explosive atmospheres); the bar maker's approval — common practice",
         Confidence::CommonPractice,
@@ -103,8 +125,11 @@ fn finding(
         profile: PROFILE_NAME.clone(),
         rule: rule.rule.clone(),
         check: rule.check.clone(),
+        hazard: rule.hazard,
         subject,
         value,
+        meter: None,
+        ratio: Some(rule.ratio),
         dim: crate::units::Dim::Number,
         limit,
         warn,

@@ -3,7 +3,8 @@
 //! assumptions are made in `report::notes`, so the planner's inner loop
 //! builds no text at all.
 
-use super::Confidence;
+use super::meter::MeterEquivalent;
+use super::{Confidence, Hazard};
 use crate::field::SpanContribution;
 use crate::units::{Dim, Farads, Joules, Meters, Volts, VoltsPerMeter};
 use std::fmt;
@@ -244,6 +245,12 @@ pub enum FindingNote {
     },
     /// The gap-discharge limit and where breakdown happens.
     Gap(GapBreakdown),
+    /// Where the meter-equivalent reading of the finding was taken, with
+    /// the field there.
+    Meter(MeterEquivalent),
+    /// The largest |V| of the web near the item [V], for information (the
+    /// rule compares what a meter would read, not this).
+    WebPotential(Volts),
     /// The profile's own note on the rule.
     Rule(Arc<str>),
 }
@@ -263,6 +270,9 @@ pub enum Assumption {
     NearZone,
     /// The web potential near electronics from 9 samples.
     WebPotential,
+    /// A field meter reads E_n·d at its calibration distance d, with the
+    /// field the model gives where its face would be, undisturbed by it.
+    MeterReading,
     /// Isolated conductors' capacitance, potential and spark energy from
     /// the boundary-element solve.
     ConductorsSolved,
@@ -288,10 +298,17 @@ pub struct Finding {
     pub rule: Arc<str>,
     /// What the rule checks (the rule's own text).
     pub check: Arc<str>,
+    /// The class of harm the rule guards against.
+    pub hazard: Hazard,
     /// The subject.
     pub subject: Subject,
     /// The value found, SI [unit of `dim`].
     pub value: f64,
+    /// For meter rules: the calibration distance d [m] at which value and
+    /// limits are field-meter readings ("4.5 kV at 1 in").
+    pub meter: Option<Meters>,
+    /// For a dimensionless value: what ratio it is (`5·I′/I_ion`).
+    pub ratio: Option<&'static str>,
     /// Dimension of value and limits, for formatting.
     pub dim: Dim,
     /// The governing limit: the failure limit if the rule has one, else the

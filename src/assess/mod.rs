@@ -14,8 +14,10 @@
 //!    \qquad \text{margin} = x / \text{limit}. $$
 //!
 //! Every applicable rule × subject gives a finding, passes included. Findings
-//! are sorted by verdict (fail first), then by margin (largest first); the
-//! assessment's verdict is the worst one (pass when there are none).
+//! are sorted by verdict (fail first), then by the class of harm
+//! ([`Hazard`]: ignition in zones, shock, electronics, equipment), then by
+//! margin (largest first); the assessment's verdict is the worst one (pass
+//! when there are none).
 //!
 //! ## The checks
 //!
@@ -35,20 +37,29 @@
 //!   body model). With `fail: zone_mie` the failure limit is the lowest MIE
 //!   of the matching zones containing the operator; an operator in no
 //!   matching zone gets no finding from that rule.
-//! - **electronics_separation** — for each electronics point and each span at
+//! - **electronics_separation** — the separation rule of ANSI/ESD S20.20 and
+//!   IEC 61340-5-1 is stated in what a field meter or non-contact voltmeter
+//!   reads on the insulator, so for each electronics point and each span at
 //!   distance $d$ (point to charged rectangle, [`distance_to_span`]) below
-//!   the far distance: $x = |V_\text{web}|$, the largest |V| at
-//!   [`SEPARATION_SAMPLES`] places on the span around its point nearest to
-//!   the item (the nearest point and its neighbours ±max(d, 10 mm) along and
-//!   across the span, clamped to the span), each moved
-//!   [`WEB_OFFSET`] = 10 µm off the web along the span normal on the item's
-//!   side (V is continuous through the sheet; the offset only keeps the
-//!   evaluation point off the charged surface). The allowed potential is
-//!   $V_\text{near}$ for $d < d_\text{near}$, $V_\text{far}$ for
+//!   the far distance: $x = V_m = |E_n| d_m$, the meter-equivalent reading
+//!   at the meter's calibration distance $d_m$ (the rule's, 1 in by
+//!   default) near the span's point nearest the item, on the item's side
+//!   ([`meter::near_item`]). The allowed reading is $V_\text{near}$ for
+//!   $d < d_\text{near}$, $V_\text{far}$ for
 //!   $d_\text{near} \le d < d_\text{far}$; no limit beyond $d_\text{far}$.
-//!   Verdict fail if $x \ge$ the allowed potential (margin = x ÷ allowed).
+//!   Verdict fail if $x \ge$ the allowed reading (margin = x ÷ allowed).
 //!   One finding per point, for its worst span (largest margin); a point
-//!   farther than $d_\text{far}$ from every span gets none.
+//!   farther than $d_\text{far}$ from every span gets none. The web's own
+//!   potential there (the largest |V| at [`SEPARATION_SAMPLES`] places
+//!   around the nearest point, [`WEB_OFFSET`] = 10 µm off the web) is kept
+//!   in the finding's notes for information: it is not what the rule
+//!   compares.
+//! - **meter_reading** — $x = V_m = |E_n| d_m$, the largest
+//!   meter-equivalent reading on a span ([`meter::span_worst`]: stations
+//!   along and across the span, both sides), for rules stated as a meter
+//!   reading ("5 kV at 1 inch", A. Seaver 1995). Limits are written
+//!   `5 kV at 1 in`; the value and the limits are readings at the same
+//!   calibration distance.
 //! - **isolated_conductor** — the capacitance to ground C of isolated
 //!   conductors (10 pF earthing rule): with `rollers:`, rollers with
 //!   `earthing: isolated` (insulating rollers are not conductors); with
@@ -151,6 +162,7 @@
 pub mod eliminators;
 mod finding;
 pub mod gap;
+pub mod meter;
 pub mod profile;
 mod rules;
 
@@ -159,7 +171,7 @@ pub use finding::{
     SolvedConductor, Subject, SubjectKind, Verdict, VerdictCounts,
 };
 pub use profile::{
-    Applies, Check, Confidence, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
+    Applies, Check, Confidence, Hazard, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
     load_profile, load_profiles, parse_profile, shipped, with_air_limit,
 };
 
@@ -288,6 +300,7 @@ pub fn assess_with_conductors(
     findings.sort_by(|a, b| {
         b.verdict
             .cmp(&a.verdict)
+            .then(a.hazard.cmp(&b.hazard))
             .then(b.margin.total_cmp(&a.margin))
     });
     let verdict = findings

@@ -7,6 +7,7 @@
 mod conductors;
 
 use super::finding::{Assumption, Finding, FindingNote, Subject};
+use super::meter::{self, DEFAULT_METER_DISTANCE, MeterEquivalent};
 use super::{
     Check, DEFAULT_BODY_CAPACITANCE, Rule, Subjects, ThresholdProfile, Verdict, WEB_OFFSET,
     span_peak_sigma, stored_energy, verdict_for,
@@ -134,8 +135,11 @@ impl<'a> Run<'a> {
             profile: profile.name.clone(),
             rule: rule.id.clone(),
             check: rule.what.clone(),
+            hazard: rule.hazard,
             subject: s.subject,
             value: s.value,
+            meter: rule.meter_distance,
+            ratio: None,
             dim: rule.dim,
             limit,
             warn: s.warn,
@@ -207,6 +211,7 @@ impl<'a> Run<'a> {
             Check::ConductorSpark => self.conductor_spark(profile, rule),
             Check::InsulatingSurface => self.insulating(profile, rule),
             Check::GapDischarge => self.gap_discharge(profile, rule),
+            Check::MeterReading => self.meter_reading(profile, rule)?,
         }
         Ok(())
     }
@@ -230,6 +235,38 @@ impl<'a> Run<'a> {
                 },
             );
         }
+    }
+
+    /// The largest meter-equivalent reading on each span the rule applies
+    /// to (see `assess::meter`).
+    fn meter_reading(&mut self, profile: &ThresholdProfile, rule: &Rule) -> Result<(), FieldError> {
+        self.assume(Assumption::MeterReading);
+        let d = rule.meter_distance.unwrap_or(DEFAULT_METER_DISTANCE);
+        for (i, span) in self.line.path.spans.iter().enumerate() {
+            let Some(zones) = self.span_zones(rule, span) else {
+                continue;
+            };
+            let Some(m) = meter::span_worst(self.line, self.model, i, d)? else {
+                continue;
+            };
+            self.push(
+                profile,
+                rule,
+                Found {
+                    subject: Subject::Span(i),
+                    value: m.reading(),
+                    warn: rule.warn,
+                    fail: rule.fail,
+                    notes: || {
+                        let mut notes = vec![FindingNote::Meter(m)];
+                        notes.extend(in_zones(zones));
+                        notes
+                    },
+                    contributions: Vec::new,
+                },
+            );
+        }
+        Ok(())
     }
 
     fn point_values(&mut self, profile: &ThresholdProfile, rule: &Rule) {
@@ -304,10 +341,12 @@ impl<'a> Run<'a> {
         let (Some(near), Some(far)) = (rule.near, rule.far) else {
             return Ok(());
         };
+        self.assume(Assumption::MeterReading);
         self.assume(Assumption::WebPotential);
+        let md = rule.meter_distance.unwrap_or(DEFAULT_METER_DISTANCE);
         for (i, p, f, zones) in self.points(rule) {
-            // (margin, |V_web|, allowed, span index, d)
-            let mut worst: Option<(f64, f64, f64, usize, f64)> = None;
+            // (margin, reading, allowed, span index, d)
+            let mut worst: Option<(f64, MeterEquivalent, f64, usize, f64)> = None;
             for (k, span) in self.line.path.spans.iter().enumerate() {
                 let d = distance_to_span(span, self.line.web.width, p.at);
                 if d >= far.distance {
@@ -318,13 +357,15 @@ impl<'a> Run<'a> {
                 } else {
                     far.voltage
                 };
-                let v = self.web_potential(span, p.at, d)?;
-                let margin = v / allowed;
+                let Some(m) = meter::near_item(self.line, self.model, k, p.at, md)? else {
+                    continue;
+                };
+                let margin = m.reading() / allowed;
                 if worst.as_ref().is_none_or(|w| margin > w.0) {
-                    worst = Some((margin, v, allowed, k, d));
+                    worst = Some((margin, m, allowed, k, d));
                 }
             }
-            let Some((_, v, allowed, k, d)) = worst else {
+            let Some((_, m, allowed, k, d)) = worst else {
                 continue;
             };
             let within = if d < near.distance {
@@ -332,21 +373,31 @@ impl<'a> Run<'a> {
             } else {
                 far.distance
             };
+            // The web's own potential there, for information.
+            let v_web = if self.keep {
+                Some(self.web_potential(&self.line.path.spans[k], p.at, d)?)
+            } else {
+                None
+            };
             self.push(
                 profile,
                 rule,
                 Found {
                     subject: Subject::Point(i),
-                    value: v,
+                    value: m.reading(),
                     warn: None,
                     fail: Some(allowed),
                     notes: || {
-                        let mut notes = vec![FindingNote::Separation {
-                            span: k,
-                            distance: d,
-                            allowed,
-                            within,
-                        }];
+                        let mut notes = vec![
+                            FindingNote::Separation {
+                                span: k,
+                                distance: d,
+                                allowed,
+                                within,
+                            },
+                            FindingNote::Meter(m),
+                        ];
+                        notes.extend(v_web.map(FindingNote::WebPotential));
                         notes.extend(in_zones(zones));
                         notes
                     },
@@ -418,8 +469,11 @@ impl<'a> Run<'a> {
                 profile: profile.name.clone(),
                 rule: rule.id.clone(),
                 check: rule.what.clone(),
+                hazard: rule.hazard,
                 subject: Subject::Web,
                 value: 0.0,
+                meter: None,
+                ratio: None,
                 dim: rule.dim,
                 limit: limit.unwrap_or(0.0),
                 warn: rule.warn,

@@ -5,8 +5,7 @@
 
 use crate::assess::Assessment;
 use crate::model::Line;
-use crate::report::document::margin_text;
-use crate::units::format_quantity;
+use crate::report::finding_text::{limit_text, margin_text, value_text};
 use std::path::Path;
 
 /// The short terminal summary: one line per finding, worst first.
@@ -15,6 +14,7 @@ pub fn summary_table(line: &Line, a: &Assessment, max_rows: usize) -> String {
     #[derive(tabled::Tabled)]
     struct Row {
         verdict: String,
+        hazard: String,
         rule: String,
         subject: String,
         value: String,
@@ -28,10 +28,11 @@ pub fn summary_table(line: &Line, a: &Assessment, max_rows: usize) -> String {
         .take(max_rows)
         .map(|f| Row {
             verdict: f.verdict.text().to_uppercase(),
+            hazard: f.hazard.key().to_string(),
             rule: format!("{}/{}", f.profile, f.rule),
             subject: super::notes::subject_label(line, &f.subject),
-            value: format_quantity(f.value, f.dim),
-            limit: format_quantity(f.limit, f.dim),
+            value: value_text(f),
+            limit: limit_text(f),
             margin: margin_text(f.margin),
             confidence: f.confidence.text().to_string(),
         })

@@ -147,6 +147,8 @@ pub struct FindingRow {
     pub rule: String,
     /// What the rule checks, in words.
     pub check: String,
+    /// The class of harm the rule guards against.
+    pub hazard: crate::assess::Hazard,
     /// What kind of subject.
     pub subject_kind: SubjectKind,
     /// The subject's label (`S6 (R5-R6)`, `OP1`, `R6`).
@@ -155,6 +157,11 @@ pub struct FindingRow {
     pub value: f64,
     /// Dimension of value and limits, for formatting.
     pub dim: crate::units::Dim,
+    /// A meter rule's calibration distance [m]: value and limits are
+    /// readings at it.
+    pub meter: Option<crate::units::Meters>,
+    /// What a dimensionless value is.
+    pub ratio: Option<&'static str>,
     /// The governing limit, SI.
     pub limit: f64,
     /// Warning limit, SI.
@@ -182,10 +189,13 @@ impl FindingRow {
             profile: f.profile.to_string(),
             rule: f.rule.to_string(),
             check: f.check.to_string(),
+            hazard: f.hazard,
             subject_kind: f.subject.kind(),
             subject: super::notes::subject_label(line, &f.subject),
             value: f.value,
             dim: f.dim,
+            meter: f.meter,
+            ratio: f.ratio,
             limit: f.limit,
             warn: f.warn,
             fail: f.fail,
@@ -214,7 +224,7 @@ pub struct PlanSection {
 impl PlanSection {
     /// Lays out a plan for the report.
     pub fn from_plan(plan: &crate::plan::Plan, line: &Line) -> Self {
-        use crate::units::format_quantity;
+        use super::finding_text::value_text;
         let options = plan
             .options
             .iter()
@@ -245,11 +255,9 @@ impl PlanSection {
                 before_after.push((
                     format!("{}/{}", f.profile, f.rule),
                     super::notes::subject_label(line, &f.subject),
-                    format!("{} {}", f.verdict.text(), format_quantity(f.value, f.dim)),
+                    format!("{} {}", f.verdict.text(), value_text(f)),
                     after
-                        .map(|g| {
-                            format!("{} {}", g.verdict.text(), format_quantity(g.value, g.dim))
-                        })
+                        .map(|g| format!("{} {}", g.verdict.text(), value_text(g)))
                         .unwrap_or_else(|| "—".into()),
                 ));
             }

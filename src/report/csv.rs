@@ -53,19 +53,26 @@ pub fn field_row(req: &PointRequest, f: &PointField) -> String {
 /// `results.csv`: one row per finding.
 pub fn findings_csv(r: &Report) -> String {
     let mut s = String::from(
-        "verdict,profile,rule,subject,check,value,unit,warn,fail,limit,margin,source,confidence,note\n",
+        "verdict,hazard,profile,rule,subject,check,value,unit,meter_distance_m,ratio,warn,fail,limit,margin,source,confidence,note\n",
     );
     let opt = |x: Option<f64>| x.map(|v| format!("{v:?}")).unwrap_or_default();
     for f in &r.findings {
         s.push_str(&format!(
-            "{},{},{},{},{},{:?},{},{},{},{:?},{:?},{},{},{}\n",
+            "{},{},{},{},{},{},{:?},{},{},{},{},{},{:?},{:?},{},{},{}\n",
             f.verdict.text(),
+            f.hazard.key(),
             field_text(&f.profile),
             field_text(&f.rule),
             field_text(&f.subject),
             field_text(&f.check),
             f.value,
-            field_text(f.dim.si_unit()),
+            field_text(if f.ratio.is_some() {
+                "1"
+            } else {
+                f.dim.si_unit()
+            }),
+            opt(f.meter),
+            field_text(f.ratio.unwrap_or_default()),
             opt(f.warn),
             opt(f.fail),
             f.limit,

@@ -5,7 +5,7 @@
 //! prefixes; nothing is computed.
 
 use crate::assess::Verdict;
-use crate::report::build::{Report, charge_entry_text, len_text, node_texts};
+use crate::report::build::{FindingRow, Report, charge_entry_text, len_text, node_texts};
 use crate::units::{Dim, format_quantity, format_si};
 
 /// A piece of content.
@@ -72,14 +72,11 @@ fn verdict_cell(v: Verdict) -> String {
     }
 }
 
-/// The margin as `1.23×`.
-pub fn margin_text(m: f64) -> String {
-    if m >= 100.0 {
-        format!("{m:.0}×")
-    } else {
-        format!("{m:.2}×")
-    }
-}
+pub use super::finding_text::margin_text;
+use super::finding_text::{against_text, hazard_title, limit_text, value_text};
+
+/// Failing and warning findings listed per class of harm in the summary.
+const SUMMARY_PER_CLASS: usize = 6;
 
 fn eliminator_table(r: &Report) -> Block {
     let sd = |x: f64| format_quantity(x, Dim::SurfaceChargeDensity);
@@ -274,23 +271,6 @@ pub fn layout(r: &Report) -> Vec<Section> {
             line.zones.len()
         ))],
     ));
-    let worst: Vec<String> = r
-        .findings
-        .iter()
-        .filter(|f| f.verdict != Verdict::Pass)
-        .take(5)
-        .map(|f| {
-            format!(
-                "{} — {} on {}: {} against {} ({} the limit)",
-                verdict_cell(f.verdict),
-                f.check,
-                f.subject,
-                q(f.value, f.dim),
-                q(f.limit, f.dim),
-                margin_text(f.margin)
-            )
-        })
-        .collect();
     let mut summary = vec![Block::Verdict(
         r.verdict,
         format!(
@@ -301,9 +281,41 @@ pub fn layout(r: &Report) -> Vec<Section> {
             r.counts[0]
         ),
     )];
-    if !worst.is_empty() {
-        summary.push(Block::Para("Worst findings:".into()));
-        summary.push(Block::List(worst));
+    // Failures and warnings by class of harm (ignition in zones first),
+    // then verdict, then margin: the order the findings already have within
+    // a verdict.
+    for h in crate::assess::Hazard::ALL {
+        let mut of: Vec<&FindingRow> = r
+            .findings
+            .iter()
+            .filter(|f| f.hazard == h && f.verdict != Verdict::Pass)
+            .collect();
+        if of.is_empty() {
+            continue;
+        }
+        of.sort_by(|a, b| {
+            b.verdict
+                .cmp(&a.verdict)
+                .then(b.margin.total_cmp(&a.margin))
+        });
+        let shown = SUMMARY_PER_CLASS.min(of.len());
+        let mut items: Vec<String> = of[..shown]
+            .iter()
+            .map(|f| {
+                format!(
+                    "{} — {} on {}: {}",
+                    verdict_cell(f.verdict),
+                    f.check,
+                    f.subject,
+                    against_text(*f)
+                )
+            })
+            .collect();
+        if of.len() > shown {
+            items.push(format!("and {} more in Findings", of.len() - shown));
+        }
+        summary.push(Block::Para(format!("{}:", hazard_title(h))));
+        summary.push(Block::List(items));
     }
     out.push(sec("Summary", summary));
 
@@ -600,20 +612,11 @@ pub fn layout(r: &Report) -> Vec<Section> {
             };
             vec![
                 verdict_cell(f.verdict),
+                f.hazard.key().to_string(),
                 format!("{}/{}", f.profile, f.rule),
                 f.subject.clone(),
-                q(f.value, f.dim),
-                format!(
-                    "{}{}",
-                    f.warn
-                        .map(|w| format!("warn {} ", q(w, f.dim)))
-                        .unwrap_or_default(),
-                    f.fail
-                        .map(|x| format!("fail {}", q(x, f.dim)))
-                        .unwrap_or_default()
-                )
-                .trim()
-                .to_string(),
+                value_text(f),
+                limit_text(f),
                 margin_text(f.margin),
                 f.note.clone(),
                 r.references
@@ -628,9 +631,9 @@ pub fn layout(r: &Report) -> Vec<Section> {
     out.push(sec(
         "Findings",
         vec![
-            Block::Para("Margin = value ÷ governing limit (the failure limit where the rule has one): above 1× the limit is reached. Sources are numbered as in the References section. Limits marked VERIFY are recalled, not read in the source: check them against the current edition before relying on them.".into()),
+            Block::Para("Findings by verdict, then class of harm (ignition in hazardous zones, shock, electronics, equipment), then margin. Values and limits to three significant digits (results.json and results.csv keep full precision); a meter rule's value and limits are what a field meter would read at its calibration distance (\"2.8 kV at 1 in\"). Margin = value ÷ governing limit (the failure limit where the rule has one): above 1× the limit is reached. Sources are numbered as in the References section. Limits marked VERIFY are recalled, not read in the source: check them against the current edition before relying on them.".into()),
             table(
-                &["verdict", "rule", "subject", "value", "limits", "margin", "note", "source", "confidence"],
+                &["verdict", "hazard", "rule", "subject", "value", "limits", "margin", "note", "source", "confidence"],
                 finding_rows,
             ),
             Block::Para("What each rule checks:".into()),

@@ -103,13 +103,16 @@ pub fn results_json(r: &Report) -> String {
         .iter()
         .map(|f| {
             format!(
-                "    {{\"rule\": {}, \"profile\": {}, \"check\": {}, \"subject\": {}, \"value\": {}, \"unit\": {}, \"limit\": {}, \"warn\": {}, \"fail\": {}, \"margin\": {}, \"verdict\": {}, \"source\": {}, \"confidence\": {}, \"note\": {}}}",
+                "    {{\"rule\": {}, \"profile\": {}, \"hazard\": {}, \"check\": {}, \"subject\": {}, \"value\": {}, \"unit\": {}, \"meter_distance\": {}, \"ratio\": {}, \"limit\": {}, \"warn\": {}, \"fail\": {}, \"margin\": {}, \"verdict\": {}, \"source\": {}, \"confidence\": {}, \"note\": {}}}",
                 string(&f.rule),
                 string(&f.profile),
+                string(f.hazard.key()),
                 string(&f.check),
                 string(&f.subject),
                 num(f.value),
-                string(f.dim.si_unit()),
+                string(if f.ratio.is_some() { "1" } else { f.dim.si_unit() }),
+                f.meter.map(num).unwrap_or_else(|| "null".into()),
+                f.ratio.map(string).unwrap_or_else(|| "null".into()),
                 num(f.limit),
                 f.warn.map(num).unwrap_or_else(|| "null".into()),
                 f.fail.map(num).unwrap_or_else(|| "null".into()),

@@ -11,6 +11,7 @@ pub mod csv;
 pub mod document;
 pub mod field_out;
 pub mod figures;
+pub mod finding_text;
 pub mod folder;
 pub mod html;
 pub mod json;

@@ -6,7 +6,8 @@
 use crate::charge::{ChargeSegment, SegmentOrigin};
 use crate::model::Line;
 use crate::readings::{FitMethod, ROLLER_CLEARANCE, ReadingNote};
-use crate::units::{Dim, format_quantity};
+use crate::report::finding_text::meter_distance_text;
+use crate::units::{Dim, format_quantity, format_quantity_sig};
 
 /// A reading's warning in words.
 pub fn reading_note(n: &ReadingNote) -> String {
@@ -244,11 +245,26 @@ pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
             allowed,
             within,
         } => format!(
-            "span {} at {}: allowed {} within {}",
+            "span {} at {} from the item: a meter may read up to {} within {}",
             line.path.spans.get(*span).map(|s| s.label()).unwrap_or_default(),
             len(*distance),
-            format_quantity(*allowed, Dim::Voltage),
+            format_quantity_sig(*allowed, Dim::Voltage, 3),
             len(*within)
+        ),
+        FindingNote::Meter(m) => format!(
+            "a meter {} {} the web on span {}, {} along it and {} across, would see E = {} and read {} at {}",
+            meter_distance_text(m.distance),
+            m.side.text(),
+            line.path.spans.get(m.span).map(|s| s.label()).unwrap_or_default(),
+            len(m.along),
+            len(m.across),
+            format_quantity_sig(m.field.abs(), Dim::Field, 3),
+            format_quantity_sig(m.reading(), Dim::Voltage, 3),
+            meter_distance_text(m.distance)
+        ),
+        FindingNote::WebPotential(v) => format!(
+            "the web itself is at {} there (information: the rule compares what a meter reads)",
+            format_quantity_sig(*v, Dim::Voltage, 3)
         ),
         FindingNote::NearZones(near) => near
             .iter()
@@ -304,11 +320,10 @@ pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
         FindingNote::InsulatingArea { radius, length } => {
             let area = 2.0 * std::f64::consts::PI * radius * length;
             format!(
-                "A = 2πrL = 2π × {} × {} = {} cm² ({} m²), the whole roller surface taken as chargeable",
+                "A = 2πrL = 2π × {} × {} = {}, the whole roller surface taken as chargeable",
                 len(*radius),
                 len(*length),
-                format_quantity(area * 1e4, Dim::Number),
-                format_quantity(area, Dim::Number)
+                format_quantity_sig(area, Dim::Area, 3)
             )
         }
         FindingNote::Gap(g) => {
@@ -439,7 +454,10 @@ pub fn assumption(a: crate::assess::Assumption) -> &'static str {
             "an insulating roller's whole surface 2πrL counts as its chargeable area"
         }
         Assumption::WebPotential => {
-            "the web potential near an electronics item is the largest |V| at 9 places on each span around its point nearest to the item, 10 µm off the web"
+            "the web potential near an electronics item (shown for information) is the largest |V| at 9 places on each span around its point nearest to the item, 10 µm off the web"
+        }
+        Assumption::MeterReading => {
+            "a field meter reads E_n·d at its calibration distance d (1 in unless the rule says otherwise), with the field the model gives where its face would be, undisturbed by the meter; a span's reading is the largest at 9 stations along it (2d clear of its ends), 3 across and both sides; near an electronics item, at 9 places around the span's point nearest the item, on its side"
         }
     }
 }

@@ -4,6 +4,7 @@
 //! Writer stage: formats [`ThresholdProfile`]s; computes nothing.
 
 use crate::assess::ThresholdProfile;
+use crate::report::finding_text::meter_distance_text;
 use crate::report::text;
 use crate::units::format_quantity;
 
@@ -29,9 +30,34 @@ pub fn profile_list(profiles: &[ThresholdProfile]) -> String {
 /// and confidence, and each rule's source and note.
 pub fn profile_text(p: &ThresholdProfile) -> String {
     let mut s = format!("{} — {}\n{}\n\n", p.name, p.title, p.description);
-    let limit = |v: Option<f64>, dim| {
-        v.map(|w| format_quantity(w, dim))
-            .unwrap_or_else(|| "—".into())
+    let limit = |v: Option<f64>, r: &crate::assess::Rule| {
+        v.map(|w| match r.meter_distance {
+            Some(d) => format!(
+                "{} at {}",
+                format_quantity(w, r.dim),
+                meter_distance_text(d)
+            ),
+            None => format_quantity(w, r.dim),
+        })
+        .unwrap_or_else(|| "—".into())
+    };
+    let separation = |r: &crate::assess::Rule| {
+        let at = r
+            .meter_distance
+            .map(meter_distance_text)
+            .unwrap_or_default();
+        [r.near, r.far]
+            .iter()
+            .flatten()
+            .map(|s| {
+                format!(
+                    "{} at {at} within {}",
+                    format_quantity(s.voltage, r.dim),
+                    format_quantity(s.distance, crate::units::Dim::Length)
+                )
+            })
+            .collect::<Vec<_>>()
+            .join("; ")
     };
     let rows: Vec<Vec<String>> = p
         .rules
@@ -40,13 +66,15 @@ pub fn profile_text(p: &ThresholdProfile) -> String {
             vec![
                 r.id.to_string(),
                 r.what.to_string(),
-                limit(r.warn, r.dim),
+                limit(r.warn, r),
                 if r.fail_is_zone_mie {
                     "zone MIE".to_string()
                 } else if r.fail_is_paschen {
                     "Paschen".to_string()
+                } else if r.near.is_some() {
+                    separation(r)
                 } else {
-                    limit(r.fail, r.dim)
+                    limit(r.fail, r)
                 },
                 r.confidence.text().to_string(),
             ]

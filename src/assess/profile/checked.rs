@@ -19,7 +19,8 @@ pub enum Check {
     BodyVoltage,
     /// Spark energy ½CV² of an insulated operator [J].
     SparkEnergy,
-    /// Web potential near electronics against the separation rule [V].
+    /// What a field meter would read near the web by an electronics item,
+    /// against the separation rule [V at the meter's calibration distance].
     ElectronicsSeparation,
     /// Capacitance of an isolated conductive roller or conductor [F].
     IsolatedConductor,
@@ -33,11 +34,14 @@ pub enum Check {
     /// Density where the web leaves a grounded roller against the density
     /// that breaks the opening gap down (Paschen's law) [C/m²].
     GapDischarge,
+    /// The largest reading a field meter held at its calibration distance
+    /// from a span would give, |E_n|·d [V at d].
+    MeterReading,
 }
 
 impl Check {
     /// Every check, in the order of the documentation.
-    pub const ALL: [Check; 10] = [
+    pub const ALL: [Check; 11] = [
         Check::WebCharge,
         Check::FieldAtPoints,
         Check::BodyVoltage,
@@ -48,6 +52,7 @@ impl Check {
         Check::ConductorSpark,
         Check::InsulatingSurface,
         Check::GapDischarge,
+        Check::MeterReading,
     ];
 
     /// The keyword used in the YAML: `web_charge`, ….
@@ -63,6 +68,7 @@ impl Check {
             Check::ConductorSpark => "conductor_spark",
             Check::InsulatingSurface => "insulating_surface",
             Check::GapDischarge => "gap_discharge",
+            Check::MeterReading => "meter_reading",
         }
     }
 
@@ -71,14 +77,13 @@ impl Check {
         match self {
             Check::WebCharge | Check::GapDischarge => Dim::SurfaceChargeDensity,
             Check::FieldAtPoints => Dim::Field,
-            Check::BodyVoltage | Check::ElectronicsSeparation | Check::PropagatingBrush => {
-                Dim::Voltage
-            }
+            Check::BodyVoltage
+            | Check::ElectronicsSeparation
+            | Check::PropagatingBrush
+            | Check::MeterReading => Dim::Voltage,
             Check::SparkEnergy | Check::ConductorSpark => Dim::Energy,
             Check::IsolatedConductor => Dim::Capacitance,
-            // An area in m²: `units` has no area dimension, so the value and
-            // the limits are plain numbers in m² (the notes give cm²).
-            Check::InsulatingSurface => Dim::Number,
+            Check::InsulatingSurface => Dim::Area,
         }
     }
 }
@@ -98,25 +103,30 @@ pub enum Confidence {
     Derived,
     /// Trade knowledge without a single source.
     CommonPractice,
+    /// Read in a secondary source (a paper, a column or a handbook quoting
+    /// the standard), not in the primary text: verify against it.
+    Secondary,
     /// Recalled, not confirmed: verify against the current edition.
     FromMemory,
 }
 
 impl Confidence {
-    /// `confirmed`, `derived`, `common practice`, or
+    /// `confirmed`, `derived`, `common practice`,
+    /// `secondary source — verify against the primary`, or
     /// `from memory — verify against the current edition`.
     pub fn text(self) -> &'static str {
         match self {
             Confidence::Confirmed => "confirmed",
             Confidence::Derived => "derived",
             Confidence::CommonPractice => "common practice",
+            Confidence::Secondary => "secondary source — verify against the primary",
             Confidence::FromMemory => "from memory — verify against the current edition",
         }
     }
 
     /// Whether the limit must be verified before it is relied on.
     pub fn needs_verification(self) -> bool {
-        self == Confidence::FromMemory
+        matches!(self, Confidence::FromMemory | Confidence::Secondary)
     }
 
     /// Reads the YAML keyword (`from memory` may carry its `— verify …` tail).
@@ -126,6 +136,9 @@ impl Confidence {
             "confirmed" => Some(Confidence::Confirmed),
             "derived" => Some(Confidence::Derived),
             "common practice" => Some(Confidence::CommonPractice),
+            _ if t == "secondary source" || t.starts_with("secondary source ") => {
+                Some(Confidence::Secondary)
+            }
             _ if t == "from memory" || t.starts_with("from memory ") => {
                 Some(Confidence::FromMemory)
             }
@@ -193,6 +206,68 @@ pub struct Separation {
     pub voltage: Volts,
 }
 
+/// The class of harm a rule guards against, in the order a summary leads
+/// with: ignition in hazardous zones, then shock to people, then
+/// electronics, then equipment and product.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum Hazard {
+    /// Ignition of an explosive atmosphere in or near a hazardous zone.
+    Ignition,
+    /// Shock to a person.
+    Shock,
+    /// Damage to electrostatic-discharge-sensitive electronics.
+    Electronics,
+    /// Equipment and product: the air's limit, gap discharges, eliminators.
+    Equipment,
+}
+
+impl Hazard {
+    /// Every class, in the order of the summary.
+    pub const ALL: [Hazard; 4] = [
+        Hazard::Ignition,
+        Hazard::Shock,
+        Hazard::Electronics,
+        Hazard::Equipment,
+    ];
+
+    /// `ignition`, `shock`, `electronics` or `equipment` (JSON, CSV).
+    pub fn key(self) -> &'static str {
+        match self {
+            Hazard::Ignition => "ignition",
+            Hazard::Shock => "shock",
+            Hazard::Electronics => "electronics",
+            Hazard::Equipment => "equipment",
+        }
+    }
+
+    /// The class of a rule: zone-bound rules (spans in a zone, points in a
+    /// zone, rollers and conductors in or near one, a zone's MIE as the
+    /// limit) guard against ignition; otherwise operator and people rules
+    /// and sparks from isolated conductors against shock, electronics
+    /// rules against electronics damage, the rest (air breakdown, gap
+    /// discharges, capacitance of conductors outside zones) equipment.
+    pub fn of(check: Check, applies: &Applies, zone_mie: bool) -> Hazard {
+        if applies.in_zone || zone_mie {
+            return Hazard::Ignition;
+        }
+        match (check, applies.subjects) {
+            (Check::ElectronicsSeparation, _)
+            | (Check::FieldAtPoints, Subjects::Points(Some(PointKind::Electronics))) => {
+                Hazard::Electronics
+            }
+            (Check::BodyVoltage | Check::SparkEnergy | Check::ConductorSpark, _)
+            | (Check::FieldAtPoints, Subjects::Points(Some(PointKind::Operator))) => Hazard::Shock,
+            _ => Hazard::Equipment,
+        }
+    }
+}
+
+impl fmt::Display for Hazard {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(self.key())
+    }
+}
+
 /// One checked rule.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Rule {
@@ -205,6 +280,9 @@ pub struct Rule {
     pub what: Arc<str>,
     /// Where it applies.
     pub applies: Applies,
+    /// The class of harm it guards against (from the check and where it
+    /// applies, see [`Hazard::of`]).
+    pub hazard: Hazard,
     /// Warning limit, SI [unit of `dim`].
     pub warn: Option<f64>,
     /// Failure limit, SI [unit of `dim`]; `None` when `fail_is_zone_mie` or
@@ -222,6 +300,10 @@ pub struct Rule {
     pub near: Option<Separation>,
     /// electronics_separation: the far limit (e.g. 2000 V within 300 mm).
     pub far: Option<Separation>,
+    /// meter_reading and electronics_separation: the calibration distance
+    /// d of the field meter whose reading |E_n|·d the limits are stated in
+    /// [m] (`"5 kV at 1 in"`; 1 in when the limits give none).
+    pub meter_distance: Option<Meters>,
     /// Dimension of the value and the limits.
     pub dim: Dim,
     /// Where the limits come from.

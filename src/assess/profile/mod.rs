@@ -57,7 +57,7 @@ mod shipped;
 mod validate;
 
 pub use checked::{
-    Applies, Check, Confidence, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
+    Applies, Check, Confidence, Hazard, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
 };
 pub use shipped::{
     AIR_LIMIT, MAX_PROFILE_BYTES, load_profile, load_profiles, shipped, with_air_limit,

@@ -5,12 +5,13 @@
 //! (`rules[2].warn: expected a surface charge density such as "1.7 uC/m^2", got "5 kV", …`).
 
 use super::checked::{
-    Applies, Check, Confidence, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
+    Applies, Check, Confidence, Hazard, Rule, Separation, Subjects, ThresholdProfile, ZoneFilter,
 };
 use super::raw::{RawApplies, RawProfile, RawRule, RawSeparation};
+use crate::assess::meter::DEFAULT_METER_DISTANCE;
 use crate::model::raw::Scalar;
 use crate::model::{GasGroup, Issue, PointKind, ValidationError};
-use crate::units::{Dim, format_quantity, parse_quantity};
+use crate::units::{Dim, Meters, format_quantity, parse_quantity};
 
 fn parse_raw(text: &str) -> Result<RawProfile, ValidationError> {
     if crate::yaml::is_blank(text) {
@@ -44,7 +45,55 @@ impl Ctx {
     }
     /// A limit: a positive quantity of `dim`.
     fn limit(&mut self, v: &Scalar, dim: Dim, path: &str) -> Option<f64> {
-        match parse_quantity(v.as_str(), dim) {
+        if split_meter(v.as_str()).is_some() {
+            self.err(
+                path,
+                format!(
+                    "`at <distance>` belongs to the limits of meter_reading and electronics_separation (a field meter's reading at its calibration distance): give {} such as \"{}\"",
+                    dim.name(),
+                    dim.example()
+                ),
+            );
+            return None;
+        }
+        self.limit_text(v.as_str(), dim, path)
+    }
+
+    /// A meter limit: a positive voltage, optionally followed by `at` and
+    /// the meter's calibration distance (`"5 kV at 1 in"`); the distance,
+    /// when given, is pushed to `at` with the path.
+    fn meter_limit(
+        &mut self,
+        v: &Scalar,
+        path: &str,
+        at: &mut Vec<(Meters, String)>,
+    ) -> Option<f64> {
+        let text = v.as_str().trim();
+        let volts = match split_meter(text) {
+            Some((volts, d)) => {
+                match parse_quantity(d, Dim::Length) {
+                    Ok(x) if x > 0.0 => at.push((x, path.to_string())),
+                    Ok(x) => self.err(
+                        path,
+                        format!(
+                            "the meter's calibration distance after `at` must be positive, got {}",
+                            format_quantity(x, Dim::Length)
+                        ),
+                    ),
+                    Err(e) => self.err(
+                        path,
+                        format!("the meter's calibration distance after `at`: {e}"),
+                    ),
+                }
+                volts
+            }
+            None => text,
+        };
+        self.limit_text(volts, Dim::Voltage, path)
+    }
+
+    fn limit_text(&mut self, text: &str, dim: Dim, path: &str) -> Option<f64> {
+        match parse_quantity(text, dim) {
             Ok(x) if x > 0.0 => Some(x),
             Ok(x) => {
                 self.err(
@@ -180,7 +229,7 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
         None | Some("") => {
             ctx.err(
                 format!("{p}.confidence"),
-                "missing: expected confirmed | derived | common practice | from memory",
+                "missing: expected confirmed | derived | common practice | secondary source | from memory",
             );
             None
         }
@@ -190,7 +239,7 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
                 ctx.err(
                     format!("{p}.confidence"),
                     format!(
-                        "expected confirmed | derived | common practice | from memory, got \"{t}\""
+                        "expected confirmed | derived | common practice | secondary source | from memory, got \"{t}\""
                     ),
                 );
             }
@@ -203,26 +252,29 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
         .map(|n| n.as_str().trim().to_string())
         .filter(|n| !n.is_empty());
     let applies = validate_applies(ctx, r.applies.as_ref(), check, &format!("{p}.applies"));
-    let (warn, fail, computed, near, far) = match check {
+    let limits = match check {
         Some(c) => validate_limits(ctx, r, c, p, applies.as_ref()),
-        None => (None, None, None, None, None),
+        None => Limits::default(),
     };
     if ctx.issues.len() > before {
         return None;
     }
     let (id, check, what, applies, source, confidence) =
         (id?, check?, what?, applies?, source?, confidence?);
+    let hazard = Hazard::of(check, &applies, limits.computed == Some(Computed::ZoneMie));
     Some(Rule {
         id: id.into(),
         check,
         what: what.into(),
         applies,
-        warn,
-        fail,
-        fail_is_zone_mie: computed == Some(Computed::ZoneMie),
-        fail_is_paschen: computed == Some(Computed::Paschen),
-        near,
-        far,
+        hazard,
+        warn: limits.warn,
+        fail: limits.fail,
+        fail_is_zone_mie: limits.computed == Some(Computed::ZoneMie),
+        fail_is_paschen: limits.computed == Some(Computed::Paschen),
+        near: limits.near,
+        far: limits.far,
+        meter_distance: limits.meter_distance,
         dim: check.dim(),
         source: source.into(),
         confidence,
@@ -239,13 +291,45 @@ enum Computed {
     Paschen,
 }
 
-type Limits = (
-    Option<f64>,
-    Option<f64>,
-    Option<Computed>,
-    Option<Separation>,
-    Option<Separation>,
-);
+/// What `validate_limits` reads.
+#[derive(Default)]
+struct Limits {
+    warn: Option<f64>,
+    fail: Option<f64>,
+    computed: Option<Computed>,
+    near: Option<Separation>,
+    far: Option<Separation>,
+    /// The meter's calibration distance of a meter check [m].
+    meter_distance: Option<Meters>,
+}
+
+/// `"5 kV at 1 in"` → `("5 kV", "1 in")`; `None` without ` at `.
+fn split_meter(text: &str) -> Option<(&str, &str)> {
+    let (v, d) = text.trim().split_once(" at ")?;
+    Some((v.trim(), d.trim()))
+}
+
+/// The one calibration distance of a meter rule's limits: the distance
+/// they give (all the same, else an error at the first that differs), or
+/// [`DEFAULT_METER_DISTANCE`].
+fn meter_distance(ctx: &mut Ctx, at: &[(Meters, String)]) -> Meters {
+    let Some((first, first_path)) = at.first() else {
+        return DEFAULT_METER_DISTANCE;
+    };
+    for (d, path) in &at[1..] {
+        if (d - first).abs() > 1e-9 * first {
+            ctx.err(
+                path.clone(),
+                format!(
+                    "the meter distance {} differs from {} at {first_path}: a rule compares readings taken at one calibration distance",
+                    format_quantity(*d, Dim::Length),
+                    format_quantity(*first, Dim::Length)
+                ),
+            );
+        }
+    }
+    *first
+}
 
 fn validate_limits(
     ctx: &mut Ctx,
@@ -264,8 +348,10 @@ fn validate_limits(
                 );
             }
         }
-        let near = separation(ctx, r.near.as_ref(), &format!("{p}.near"));
-        let far = separation(ctx, r.far.as_ref(), &format!("{p}.far"));
+        let mut at = Vec::new();
+        let near = separation(ctx, r.near.as_ref(), &format!("{p}.near"), &mut at);
+        let far = separation(ctx, r.far.as_ref(), &format!("{p}.far"), &mut at);
+        let meter = meter_distance(ctx, &at);
         if let (Some(n), Some(f)) = (near, far) {
             if n.distance >= f.distance {
                 ctx.err(
@@ -288,7 +374,12 @@ fn validate_limits(
                 );
             }
         }
-        return (None, None, None, near, far);
+        return Limits {
+            near,
+            far,
+            meter_distance: Some(meter),
+            ..Limits::default()
+        };
     }
     for (key, v) in [("near", r.near.is_some()), ("far", r.far.is_some())] {
         if v {
@@ -298,10 +389,18 @@ fn validate_limits(
             );
         }
     }
+    let mut at = Vec::new();
+    let mut read = |ctx: &mut Ctx, v: &Scalar, path: String| {
+        if check == Check::MeterReading {
+            ctx.meter_limit(v, &path, &mut at)
+        } else {
+            ctx.limit(v, dim, &path)
+        }
+    };
     let warn = r
         .warn
         .as_ref()
-        .and_then(|w| ctx.limit(w, dim, &format!("{p}.warn")));
+        .and_then(|w| read(ctx, w, format!("{p}.warn")));
     let mut computed = None;
     let fail = match &r.fail {
         Some(f) if f.as_str().trim() == "zone_mie" => {
@@ -344,9 +443,10 @@ fn validate_limits(
             );
             None
         }
-        Some(f) => ctx.limit(f, dim, &format!("{p}.fail")),
+        Some(f) => read(ctx, f, format!("{p}.fail")),
         None => None,
     };
+    let meter = (check == Check::MeterReading).then(|| meter_distance(ctx, &at));
     if check == Check::GapDischarge {
         if r.warn.is_some() {
             ctx.err(
@@ -382,10 +482,21 @@ fn validate_limits(
             ),
         );
     }
-    (warn, fail, computed, None, None)
+    Limits {
+        warn,
+        fail,
+        computed,
+        meter_distance: meter,
+        ..Limits::default()
+    }
 }
 
-fn separation(ctx: &mut Ctx, s: Option<&RawSeparation>, p: &str) -> Option<Separation> {
+fn separation(
+    ctx: &mut Ctx,
+    s: Option<&RawSeparation>,
+    p: &str,
+    at: &mut Vec<(Meters, String)>,
+) -> Option<Separation> {
     let Some(s) = s else {
         ctx.err(
             p,
@@ -404,7 +515,7 @@ fn separation(ctx: &mut Ctx, s: Option<&RawSeparation>, p: &str) -> Option<Separ
         }
     };
     let v = match &s.voltage {
-        Some(v) => ctx.limit(v, Dim::Voltage, &format!("{p}.voltage")),
+        Some(v) => ctx.meter_limit(v, &format!("{p}.voltage"), at),
         None => {
             ctx.err(
                 format!("{p}.voltage"),
@@ -531,7 +642,10 @@ fn validate_applies(
         let fits = matches!(
             (c, subjects),
             (
-                Check::WebCharge | Check::PropagatingBrush | Check::GapDischarge,
+                Check::WebCharge
+                    | Check::PropagatingBrush
+                    | Check::GapDischarge
+                    | Check::MeterReading,
                 Subjects::Spans
             ) | (Check::FieldAtPoints, Subjects::Points(_))
                 | (
@@ -550,9 +664,10 @@ fn validate_applies(
         );
         if !fits {
             let expected = match c {
-                Check::WebCharge | Check::PropagatingBrush | Check::GapDischarge => {
-                    "`spans: all | in_zone`"
-                }
+                Check::WebCharge
+                | Check::PropagatingBrush
+                | Check::GapDischarge
+                | Check::MeterReading => "`spans: all | in_zone`",
                 Check::FieldAtPoints => "`points: operator | electronics | meter | probe | any`",
                 Check::BodyVoltage | Check::SparkEnergy => "`points: operator`",
                 Check::ElectronicsSeparation => "`points: electronics`",
@@ -710,7 +825,7 @@ mod tests {
             problems(&one_rule(
                 "insulating_surface",
                 "{conductors: all}",
-                "    fail: 0.01\n"
+                "    fail: 100 cm^2\n"
             )),
             ["rules[0].applies: insulating_surface applies to `rollers: all | in_or_near_zone`"]
         );
