@@ -160,9 +160,12 @@ fn applied_plan_gives_the_predicted_findings() {
             (&x.rule, &x.subject, x.verdict),
             (&y.rule, &y.subject, y.verdict)
         );
-        // A bar moved by at most 0.5 mm along a 2 m span moves the end of
-        // the charge it leaves by as much: the fields change by well under
-        // 1e-3 of their value (measured: APPLIED_ROUNDING below).
+        // Here the planned positions fall on whole millimetres (the match is
+        // exact to the solver). Elsewhere a bar moved by Δs ≤ 0.5 mm shifts a
+        // strip of charge ησ·Δs wide, whose line-charge field at a place r
+        // away, ησΔs/(2πε0 r), is about Δs/(πr) of the sheet's σ/(2ε0):
+        // under 1e-3 for places 0.2 m or more from the bar; densities to
+        // four digits add at most 5e-5.
         assert!(
             (x.value - y.value).abs() <= APPLIED_ROUNDING * y.value.abs().max(1e-300),
             "{}: {} vs {}",
