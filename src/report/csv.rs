@@ -1,4 +1,6 @@
-//! CSV output of field results: one row per point, SI units named in the header.
+//! CSV writers, SI units named in the header: field results (one row per
+//! point), the report's tables, the readings conversion (with each reading
+//! as entered and its record) and the plan (one row per bar of each plan).
 
 use crate::field::PointField;
 use crate::report::PointRequest;
