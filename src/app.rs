@@ -188,25 +188,61 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
     let mut checked: Vec<[f64; 3]> = Vec::new();
 
     if let Some(path) = &a.points {
-        // First pass: every row parses and is a point the model can evaluate.
-        let count = PointFile::open(path)?.for_each_chunk(CHUNK, |chunk, before| {
-            for (i, q) in chunk.iter().enumerate() {
-                let where_ = format!("{}: point {}", path.display(), before + i + 1);
-                check_point(&line, q, &where_)?;
+        let name = path.display().to_string();
+        // First pass: every row parses and is a point the model can
+        // evaluate; the bad rows are collected, not only the first.
+        let mut bad = points::BadRows::default();
+        let count = PointFile::open(path)?.for_each_chunk(CHUNK, |chunk| {
+            for r in &chunk.bad {
+                bad.push(r.clone());
+            }
+            for (q, &line_no) in chunk.points.iter().zip(&chunk.lines) {
+                if let Some(msg) = line.point_problem(q.at) {
+                    bad.push(points::BadRow {
+                        line: line_no,
+                        message: msg.to_string(),
+                    });
+                }
             }
             Ok(())
         })?;
         if count == 0 {
-            bail!(
-                "{}: no points after the header: expected rows of x,y,z in metres",
-                path.display()
+            bail!("{name}: no points after the header: expected rows of x,y,z in metres");
+        }
+        if bad.total > 0 {
+            let listing = bad.lines(&name);
+            if !a.skip_bad_points {
+                bail!(
+                    "{name}: {} of {count} row(s) cannot be evaluated; correct them, or give --skip-bad-points to compute the others:\n{}",
+                    bad.total,
+                    listing.trim_end()
+                );
+            }
+            if bad.total == count {
+                bail!(
+                    "{name}: none of the {count} row(s) can be evaluated:\n{}",
+                    listing.trim_end()
+                );
+            }
+            eprint!(
+                "warning: {name}: skipped {} of {count} row(s) (--skip-bad-points):\n{listing}",
+                bad.total
             );
         }
-        // Second pass: evaluate and write chunk by chunk.
+        // Second pass: evaluate the good rows and write chunk by chunk.
         emit(&mut out, &w.header(&spans))?;
-        PointFile::open(path)?.for_each_chunk(CHUNK, |chunk, _| {
-            let res = evaluate(&model, chunk, a.contributions)?;
-            emit(&mut out, &w.rows(chunk, &res))
+        PointFile::open(path)?.for_each_chunk(CHUNK, |chunk| {
+            let good: Vec<PointRequest> = chunk
+                .points
+                .iter()
+                .filter(|q| line.point_problem(q.at).is_none())
+                .cloned()
+                .collect();
+            if good.is_empty() {
+                return Ok(());
+            }
+            let res = evaluate(&model, &good, a.contributions)?;
+            emit(&mut out, &w.rows(&good, &res))
         })?;
     } else {
         let reqs: Vec<PointRequest> = if a.at.is_empty() {
@@ -476,7 +512,8 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
     }
     let s = match a.format {
         OutputFormat::Json => plan_json::plan_json(&plan, &line),
-        _ => plan_text::plan_text(&plan, &line),
+        OutputFormat::Csv => csv::plan_csv(&plan, &line),
+        OutputFormat::Table => plan_text::plan_text(&plan, &line),
     };
     print(&s)?;
     let passes = plan.options.first().is_some_and(|o| o.counts[2] == 0);

@@ -116,7 +116,7 @@ pub struct PlanArgs {
     /// How many plans to list.
     #[arg(long, default_value_t = 5, value_name = "K")]
     pub top: usize,
-    /// Output format (table or json).
+    /// Output format: table, csv (one row per bar of each plan) or json.
     #[arg(long, value_enum, default_value_t = OutputFormat::Table)]
     pub format: OutputFormat,
     /// Write a new line description with the best plan's bars added (the
@@ -177,6 +177,10 @@ pub struct FieldArgs {
     /// A CSV file of points with header x,y,z (metres) and an optional id column.
     #[arg(long, value_name = "FILE.csv", conflicts_with = "at")]
     pub points: Option<PathBuf>,
+    /// With --points: evaluate the good rows and list the bad ones on
+    /// stderr (by default any bad row stops the command, all listed).
+    #[arg(long, requires = "points", conflicts_with = "at")]
+    pub skip_bad_points: bool,
     /// Output format.
     #[arg(long, value_enum, default_value_t = OutputFormat::Table)]
     pub format: OutputFormat,

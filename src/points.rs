@@ -9,7 +9,10 @@
 //! columns are ignored. It is read with the `csv` crate in chunks, so memory
 //! does not grow with the file's length. Blank lines are skipped; a UTF-8
 //! byte-order mark is accepted; errors name the file, its line and the
-//! column.
+//! column. A row whose cells are not lengths is not fatal: it comes back as
+//! a [`BadRow`] with its line, so that the caller can list every bad row at
+//! once (or skip them); a missing header or text that is not UTF-8 stops the
+//! reading.
 
 use crate::report::PointRequest;
 use crate::units::{Dim, parse_quantity_or};
@@ -127,10 +130,10 @@ impl<R: Read> PointFile<R> {
         }
     }
 
-    /// Up to `n` more points; an empty vector at the end of the file.
-    pub fn next_chunk(&mut self, n: usize) -> Result<Vec<PointRequest>> {
-        let mut out = Vec::new();
-        while out.len() < n {
+    /// Up to `n` more rows, good or bad; an empty chunk at the end of the file.
+    pub fn next_chunk(&mut self, n: usize) -> Result<Chunk> {
+        let mut out = Chunk::default();
+        while out.points.len() + out.bad.len() < n {
             let Some(line) = self.read()? else {
                 break;
             };
@@ -139,27 +142,37 @@ impl<R: Read> PointFile<R> {
                 continue;
             }
             let mut at = [0.0; 3];
+            let mut problems = Vec::new();
             for (k, &c) in self.columns.iter().enumerate() {
-                at[k] = coordinate(self.record.get(c).unwrap_or(""))
-                    .map_err(|e| anyhow!("{}:{line}: column {}: {e}", self.name, AXES[k]))?;
+                match coordinate(self.record.get(c).unwrap_or("")) {
+                    Ok(x) => at[k] = x,
+                    Err(e) => problems.push(format!("column {}: {e}", AXES[k])),
+                }
+            }
+            if !problems.is_empty() {
+                out.bad.push(BadRow {
+                    line,
+                    message: problems.join("; "),
+                });
+                continue;
             }
             let id = self
                 .id_col
                 .and_then(|c| self.record.get(c))
                 .map(|s| s.trim_matches('"').to_string())
                 .filter(|s| !s.is_empty());
-            out.push(PointRequest { id, at });
+            out.points.push(PointRequest { id, at });
+            out.lines.push(line);
         }
         Ok(out)
     }
 
-    /// Reads the rest of the file in chunks of up to `n` points, calling `f`
-    /// with each chunk and the number of points before it; returns the
-    /// number of points read.
+    /// Reads the rest of the file in chunks of up to `n` rows, calling `f`
+    /// with each chunk; returns the number of rows read (good and bad).
     pub fn for_each_chunk(
         mut self,
         n: usize,
-        mut f: impl FnMut(&[PointRequest], usize) -> Result<()>,
+        mut f: impl FnMut(&Chunk) -> Result<()>,
     ) -> Result<usize> {
         let mut count = 0;
         loop {
@@ -167,9 +180,81 @@ impl<R: Read> PointFile<R> {
             if chunk.is_empty() {
                 return Ok(count);
             }
-            f(&chunk, count)?;
-            count += chunk.len();
+            f(&chunk)?;
+            count += chunk.points.len() + chunk.bad.len();
         }
+    }
+
+    /// The file's name in messages.
+    pub fn name(&self) -> &str {
+        &self.name
+    }
+}
+
+/// A row of a point file that cannot be evaluated.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BadRow {
+    /// Its line in the file (from 1).
+    pub line: u64,
+    /// What is wrong and what would be accepted.
+    pub message: String,
+}
+
+/// Rows read from a point file: the good points with their lines, and the
+/// bad rows.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Chunk {
+    /// Points whose cells are lengths.
+    pub points: Vec<PointRequest>,
+    /// The line of each point in `points` (from 1).
+    pub lines: Vec<u64>,
+    /// Rows whose cells are not lengths.
+    pub bad: Vec<BadRow>,
+}
+
+impl Chunk {
+    /// No rows at all.
+    pub fn is_empty(&self) -> bool {
+        self.points.is_empty() && self.bad.is_empty()
+    }
+}
+
+/// The bad rows of a point file, collected up to [`BadRows::LISTED`] with
+/// the count of the rest, so that memory stays bounded on any file.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct BadRows {
+    /// The first bad rows, in file order.
+    pub listed: Vec<BadRow>,
+    /// How many bad rows there are in all.
+    pub total: usize,
+}
+
+impl BadRows {
+    /// At most this many bad rows are kept to be listed.
+    pub const LISTED: usize = 1000;
+
+    /// Records one bad row.
+    pub fn push(&mut self, row: BadRow) {
+        if self.listed.len() < Self::LISTED {
+            self.listed.push(row);
+        }
+        self.total += 1;
+    }
+
+    /// One line per bad row, `FILE:LINE: what`, each ending with a newline,
+    /// and a last line saying how many more there are when not all are listed.
+    pub fn lines(&self, file: &str) -> String {
+        let mut s = String::new();
+        for r in &self.listed {
+            s.push_str(&format!("  {file}:{}: {}\n", r.line, r.message));
+        }
+        if self.total > self.listed.len() {
+            s.push_str(&format!(
+                "  … and {} more bad row(s), not listed\n",
+                self.total - self.listed.len()
+            ));
+        }
+        s
     }
 }
 
@@ -234,16 +319,23 @@ mod tests {
         PointFile::from_reader("pts.csv", text.as_bytes())
     }
 
-    /// Every point of `text`, read in chunks of `n`, with the chunk sizes.
+    /// Every point of `text`, read in chunks of `n`, with the chunk sizes;
+    /// the first bad row as an error `pts.csv:LINE: what`.
     fn read_all(text: &str, n: usize) -> Result<(Vec<PointRequest>, Vec<usize>)> {
-        let (mut all, mut sizes) = (Vec::new(), Vec::new());
-        let count = file(text)?.for_each_chunk(n, |chunk, before| {
-            assert_eq!(before, all.len());
-            sizes.push(chunk.len());
-            all.extend_from_slice(chunk);
+        let (mut all, mut sizes, mut bad) = (Vec::new(), Vec::new(), BadRows::default());
+        let count = file(text)?.for_each_chunk(n, |chunk| {
+            assert_eq!(chunk.points.len(), chunk.lines.len());
+            sizes.push(chunk.points.len() + chunk.bad.len());
+            all.extend_from_slice(&chunk.points);
+            for b in &chunk.bad {
+                bad.push(b.clone());
+            }
             Ok(())
         })?;
-        assert_eq!(count, all.len());
+        assert_eq!(count, all.len() + bad.total);
+        if let Some(b) = bad.listed.first() {
+            bail!("pts.csv:{}: {}", b.line, b.message);
+        }
         Ok((all, sizes))
     }
 
@@ -252,6 +344,58 @@ mod tests {
             Ok(p) => panic!("expected an error, read {p:?}"),
             Err(e) => format!("{e:#}"),
         }
+    }
+
+    /// Every bad row comes back with its line, the good rows with theirs,
+    /// in one pass; several bad cells of a row are named together.
+    #[test]
+    fn every_bad_row_is_returned_with_its_line() {
+        let text = "x,y,z\n1,0,1\n1,zero,1\n\n2,0,1\n1 kV,0,nope\n3,0,1\n";
+        let mut f = file(text).unwrap();
+        let chunk = f.next_chunk(100).unwrap();
+        assert_eq!(chunk.lines, vec![2, 5, 7]);
+        let xs: Vec<f64> = chunk.points.iter().map(|p| p.at[0]).collect();
+        assert_eq!(xs, vec![1.0, 2.0, 3.0]);
+        let lines: Vec<u64> = chunk.bad.iter().map(|b| b.line).collect();
+        assert_eq!(lines, vec![3, 6]);
+        assert!(
+            chunk.bad[0].message.starts_with("column y: "),
+            "{:?}",
+            chunk.bad
+        );
+        assert!(
+            chunk.bad[1].message.starts_with("column x: "),
+            "{:?}",
+            chunk.bad
+        );
+        assert!(
+            chunk.bad[1].message.contains("; column z: "),
+            "{:?}",
+            chunk.bad
+        );
+        assert!(f.next_chunk(100).unwrap().is_empty());
+    }
+
+    /// The list keeps [`BadRows::LISTED`] rows, counts the rest and says so;
+    /// every line ends with a newline.
+    #[test]
+    fn bad_rows_list_is_bounded_and_counted() {
+        let mut b = BadRows::default();
+        for line in 0..(BadRows::LISTED as u64 + 5) {
+            b.push(BadRow {
+                line,
+                message: "column x: bad".into(),
+            });
+        }
+        assert_eq!(b.total, BadRows::LISTED + 5);
+        let text = b.lines("pts.csv");
+        assert_eq!(text.lines().count(), BadRows::LISTED + 1);
+        assert!(
+            text.ends_with("… and 5 more bad row(s), not listed\n"),
+            "{text}"
+        );
+        assert!(text.split_inclusive('\n').all(|l| l.ends_with('\n')));
+        assert!(text.starts_with("  pts.csv:0: column x: bad\n"));
     }
 
     #[test]
@@ -299,7 +443,7 @@ mod tests {
             if chunk.is_empty() {
                 break;
             }
-            count += chunk.len();
+            count += chunk.points.len();
             // Only the newlines in the reader's buffer are kept.
             assert!(f.reader.get_ref().newlines.len() < 20_000);
         }

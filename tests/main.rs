@@ -10,7 +10,9 @@
 //! - `validation`: bad input refused with a located message;
 //! - `cli`: the binary end to end;
 //! - `pipeline`: one scene per command, the demo unchanged by reshaping;
-//! - `conductor_views`: conductors in the planner, the meter warnings and the side view.
+//! - `conductor_views`: conductors in the planner, the meter warnings and the side view;
+//! - `inputs`: likely wrong wrap directions, readings as recorded, the planned
+//!   line's rounding, the plan as CSV, point files with bad rows.
 
 mod analytic;
 mod assess;
@@ -23,6 +25,7 @@ mod conductors;
 mod eliminators;
 mod findings_terms;
 mod geometry;
+mod inputs;
 mod pipeline;
 mod plan;
 mod readings;

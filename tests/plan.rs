@@ -131,8 +131,13 @@ fn best_plan_equals_brute_force_with_the_full_assessment() {
     assert_eq!(got.bars, bars);
 }
 
-/// Applying the plan (as a new YAML file) and assessing it gives exactly the
-/// findings the planner predicted.
+/// Applying the plan (as a new YAML file) and assessing it gives the
+/// findings the planner predicted, to the rounding of the file: planned
+/// positions and distances to the millimetre, densities to four digits.
+/// Relative change of a finding's value allowed by the rounding of the
+/// applied file.
+const APPLIED_ROUNDING: f64 = 1e-3;
+
 #[test]
 fn applied_plan_gives_the_predicted_findings() {
     let line = parse_line(LINE).unwrap();
@@ -155,8 +160,14 @@ fn applied_plan_gives_the_predicted_findings() {
             (&x.rule, &x.subject, x.verdict),
             (&y.rule, &y.subject, y.verdict)
         );
+        // Here the planned positions fall on whole millimetres (the match is
+        // exact to the solver). Elsewhere a bar moved by Δs ≤ 0.5 mm shifts a
+        // strip of charge ησ·Δs wide, whose line-charge field at a place r
+        // away, ησΔs/(2πε0 r), is about Δs/(πr) of the sheet's σ/(2ε0):
+        // under 1e-3 for places 0.2 m or more from the bar; densities to
+        // four digits add at most 5e-5.
         assert!(
-            (x.value - y.value).abs() <= 1e-9 * y.value.abs().max(1e-300),
+            (x.value - y.value).abs() <= APPLIED_ROUNDING * y.value.abs().max(1e-300),
             "{}: {} vs {}",
             x.rule,
             x.value,

@@ -423,6 +423,31 @@ pub struct Reading {
     pub side: Side,
     /// What was read.
     pub value: ReadingValue,
+    /// What was recorded with it: the texts as typed, the instrument and the
+    /// conditions of the measurement.
+    pub record: ReadingRecord,
+}
+
+/// What was recorded with a reading besides its converted value: the texts
+/// as typed (so that outputs can show `1.8 kV/in at 1 in` beside the SI
+/// value) and the optional instrument and conditions of the measurement.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct ReadingRecord {
+    /// The value as typed (the `reading:`, `voltage:` or `sigma:` text,
+    /// trimmed), e.g. `1.8 kV/in`.
+    pub value_text: String,
+    /// A voltage reading's `calibrated_at:` as typed, e.g. `1 in`.
+    pub calibrated_at_text: Option<String>,
+    /// The meter distance as typed, e.g. `1 in`.
+    pub distance_text: String,
+    /// Instrument identifier (`meter:`), free text.
+    pub meter: Option<String>,
+    /// Date of the instrument's last calibration (`calibrated_on:`).
+    pub calibrated_on: Option<chrono::NaiveDate>,
+    /// Relative humidity of the air at measurement [1] (`45 %` is 0.45).
+    pub relative_humidity: Option<f64>,
+    /// Web speed at measurement [m/s].
+    pub speed: Option<MetersPerSecond>,
 }
 
 /// Meter accuracy applied to every reading.

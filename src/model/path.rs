@@ -51,6 +51,13 @@ use std::f64::consts::TAU;
 /// (0.1 m beyond each edge; an assumption, stated in the outputs).
 pub const ROLLER_LENGTH_MARGIN: Meters = 0.2;
 
+/// Wrap angle above which a wrap is warned about as a likely wrong `wrap:`
+/// direction [rad] (270°): on web lines the web rarely goes more than about
+/// half a turn round a roller, and a `cw`/`ccw` mix-up sends it the long
+/// way round. Our own judgement (common practice), not a published
+/// limit.
+pub const MAX_LIKELY_WRAP: f64 = 1.5 * std::f64::consts::PI;
+
 /// Shortest span accepted [m]; shorter spans are refused as "zero length".
 pub const MIN_SPAN_LENGTH: Meters = 1e-6;
 

@@ -233,6 +233,14 @@ pub struct RawReading {
     pub calibrated_at: Option<Scalar>,
     /// A density measured directly.
     pub sigma: Option<Scalar>,
+    /// Instrument identifier, free text.
+    pub meter: Option<Scalar>,
+    /// Date of the instrument's last calibration, `YYYY-MM-DD`.
+    pub calibrated_on: Option<Scalar>,
+    /// Relative humidity at measurement, a percentage.
+    pub relative_humidity: Option<Scalar>,
+    /// Web speed at measurement.
+    pub speed: Option<Scalar>,
 }
 
 /// `meter:`

@@ -11,7 +11,7 @@ mod conductors;
 use super::conductor::Conductor;
 use super::geometry::{meter_geometry, point_problem_in};
 use super::path::{self, Earthing, NodeKind, NodeSpec, ROLLER_LENGTH_MARGIN, Roller, Wrap};
-use super::raw::{RawLine, Scalar};
+use super::raw::{RawLine, RawReading, Scalar};
 use super::*;
 use crate::physics::isolated_sheet_limit;
 use crate::units::{Dim, EPS0, parse_quantity};
@@ -178,6 +178,7 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
         }
     };
     check_spans(&mut ctx, &path, &rollers, ground_plane);
+    check_wraps(&mut ctx, &path, &rollers);
     let charge = validate_charge(&mut ctx, raw, &path, &web, &across);
     let conductors =
         conductors::validate_conductors(&mut ctx, raw, &path, &rollers, &web, ground_plane);
@@ -758,6 +759,59 @@ fn check_spans(ctx: &mut Ctx, path: &WebPath, rollers: &[Roller], ground: Option
     }
 }
 
+/// A wrap arc above [`path::MAX_LIKELY_WRAP`] is warned about at the
+/// node's `wrap:` key, naming the other direction and the wrap it would give
+/// (the path rebuilt with that one node flipped), since such a wrap almost
+/// always comes from a `cw`/`ccw` mix-up rather than from the line.
+fn check_wraps(ctx: &mut Ctx, path: &WebPath, rollers: &[Roller]) {
+    for arc in &path.arcs {
+        let phi = arc.sweep.abs();
+        if phi <= path::MAX_LIKELY_WRAP {
+            continue;
+        }
+        let NodeKind::Roller { roller, wrap } = path.nodes[arc.node].kind else {
+            continue;
+        };
+        let other = match wrap {
+            Wrap::Cw => Wrap::Ccw,
+            Wrap::Ccw => Wrap::Cw,
+        };
+        let mut flipped = path.nodes.clone();
+        flipped[arc.node].kind = NodeKind::Roller {
+            roller,
+            wrap: other,
+        };
+        let alternative = match path::build_path(flipped, rollers) {
+            Ok(p) => p
+                .arcs
+                .iter()
+                .find(|a| a.node == arc.node)
+                .map(|a| {
+                    format!(
+                        "`wrap: {}` would give {:.0}°",
+                        other.text(),
+                        a.sweep.abs().to_degrees()
+                    )
+                })
+                .unwrap_or_else(|| format!("check whether `wrap: {}` was meant", other.text())),
+            Err(_) => format!(
+                "`wrap: {}` gives no path here, so check the neighbouring nodes' wrap directions too",
+                other.text()
+            ),
+        };
+        ctx.warn(
+            format!("path[{}].wrap", arc.node),
+            format!(
+                "the web wraps {:.0}° round roller {} (`wrap: {}`), more than {:.0}°: the wrap direction is likely wrong — {alternative}; correct it or confirm that the web really goes this far round",
+                phi.to_degrees(),
+                rollers[roller].id,
+                wrap.text(),
+                path::MAX_LIKELY_WRAP.to_degrees()
+            ),
+        );
+    }
+}
+
 fn validate_charge(
     ctx: &mut Ctx,
     raw: &RawLine,
@@ -1166,8 +1220,16 @@ fn validate_readings(ctx: &mut Ctx, raw: &RawLine, scene: &Obstacles) -> Vec<Rea
                 None
             }
         };
-        let (Some(id), Some((span, along)), Some(across), Some(distance), Some(side), Some(value)) =
-            (id, place, across, distance, side, value)
+        let record = reading_record(ctx, r, web, &p);
+        let (
+            Some(id),
+            Some((span, along)),
+            Some(across),
+            Some(distance),
+            Some(side),
+            Some(value),
+            Some(record),
+        ) = (id, place, across, distance, side, value, record)
         else {
             continue;
         };
@@ -1190,9 +1252,134 @@ fn validate_readings(ctx: &mut Ctx, raw: &RawLine, scene: &Obstacles) -> Vec<Rea
             distance,
             side,
             value,
+            record,
         });
     }
     out
+}
+
+/// A reading speed this far from `web.speed` (relative) is warned about.
+const READING_SPEED_MISMATCH: f64 = 0.1;
+
+/// What was recorded with reading `r` at YAML path `p`: the texts as typed
+/// and the optional `meter`, `calibrated_on`, `relative_humidity` and
+/// `speed`, each checked; `None` when one of these is invalid.
+fn reading_record(ctx: &mut Ctx, r: &RawReading, web: &Web, p: &str) -> Option<ReadingRecord> {
+    let text = |v: &Option<Scalar>| v.as_ref().map(|s| s.as_str().trim().to_string());
+    let mut ok = true;
+    let meter = match text(&r.meter) {
+        Some(m) if m.is_empty() || m.chars().count() > 64 => {
+            ctx.err(
+                format!("{p}.meter"),
+                format!("expected the instrument's identifier, up to 64 characters, such as \"FM-2 s/n 4411\", got \"{m}\""),
+            );
+            ok = false;
+            None
+        }
+        m => m,
+    };
+    let calibrated_on = match text(&r.calibrated_on) {
+        None => None,
+        Some(d) => match parse_date(&d) {
+            Some(date) => Some(date),
+            None => {
+                ctx.err(
+                    format!("{p}.calibrated_on"),
+                    format!("expected a calendar date written YYYY-MM-DD, such as \"2024-03-18\", got \"{d}\""),
+                );
+                ok = false;
+                None
+            }
+        },
+    };
+    let relative_humidity = match &r.relative_humidity {
+        None => None,
+        Some(v) => {
+            let path = format!("{p}.relative_humidity");
+            match ctx.qty(v, Dim::Percent, &path) {
+                Some(h) if (0.0..=1.0).contains(&h) => Some(h),
+                Some(h) => {
+                    ctx.err(
+                        path,
+                        format!(
+                            "expected a relative humidity from 0 % to 100 %, got {}",
+                            crate::units::format_quantity(h, Dim::Percent)
+                        ),
+                    );
+                    ok = false;
+                    None
+                }
+                None => {
+                    ok = false;
+                    None
+                }
+            }
+        }
+    };
+    let speed = match &r.speed {
+        None => None,
+        Some(v) => {
+            let path = format!("{p}.speed");
+            match ctx.qty(v, Dim::Speed, &path) {
+                Some(x) if x >= 0.0 => {
+                    if (x - web.speed).abs() > READING_SPEED_MISMATCH * web.speed {
+                        ctx.warn(
+                            &path,
+                            format!(
+                                "the reading was taken at {} but the line is modelled at {} (web.speed): a web's charge changes with speed, so this reading may not describe the modelled run",
+                                crate::units::format_quantity(x, Dim::Speed),
+                                crate::units::format_quantity(web.speed, Dim::Speed)
+                            ),
+                        );
+                    }
+                    Some(x)
+                }
+                Some(x) => {
+                    ctx.err(
+                        path,
+                        format!(
+                            "expected a web speed of zero or more, such as \"250 m/min\", got {}",
+                            crate::units::format_quantity(x, Dim::Speed)
+                        ),
+                    );
+                    ok = false;
+                    None
+                }
+                None => {
+                    ok = false;
+                    None
+                }
+            }
+        }
+    };
+    ok.then(|| ReadingRecord {
+        value_text: text(&r.reading)
+            .or_else(|| text(&r.voltage))
+            .or_else(|| text(&r.sigma))
+            .unwrap_or_default(),
+        calibrated_at_text: text(&r.calibrated_at),
+        distance_text: text(&r.distance).unwrap_or_default(),
+        meter,
+        calibrated_on,
+        relative_humidity,
+        speed,
+    })
+}
+
+/// A date written `YYYY-MM-DD` (four, two and two digits) that exists in
+/// the calendar.
+fn parse_date(text: &str) -> Option<chrono::NaiveDate> {
+    let b = text.as_bytes();
+    let shape = b.len() == 10
+        && b[4] == b'-'
+        && b[7] == b'-'
+        && b.iter()
+            .enumerate()
+            .all(|(i, c)| i == 4 || i == 7 || c.is_ascii_digit());
+    if !shape {
+        return None;
+    }
+    chrono::NaiveDate::parse_from_str(text, "%Y-%m-%d").ok()
 }
 
 /// A span and a position along it (`50 %` or a length), checked.

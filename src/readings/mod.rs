@@ -62,7 +62,7 @@
 use crate::charge::{ChargeProfile, SegmentOrigin, charge_profile_with};
 use crate::field::{FieldError, Scene, WebField};
 use crate::model::geometry::meter_geometry;
-use crate::model::{Line, NodeKind, Reading, ReadingValue};
+use crate::model::{Line, NodeKind, Reading, ReadingRecord, ReadingValue};
 use crate::physics::AIR_BREAKDOWN_FIELD;
 use crate::units::{EPS0, Meters, VoltsPerMeter};
 
@@ -77,6 +77,19 @@ pub const MAX_CORNER_METERS: usize = 8;
 /// Readings closer to a roller node than this many meter distances are
 /// warned about (common practice: take readings mid-span).
 pub const ROLLER_CLEARANCE: f64 = 3.0;
+
+/// The lowest and highest relative humidity [1] the readings record, or
+/// `None` when no reading gives one (the relaxation time was then not
+/// checked against the humidity at measurement).
+pub fn humidity_range(readings: &[ReadingResult]) -> Option<[f64; 2]> {
+    readings
+        .iter()
+        .filter_map(|r| r.record.relative_humidity)
+        .fold(None, |acc, h| match acc {
+            None => Some([h, h]),
+            Some([lo, hi]) => Some([lo.min(h), hi.max(h)]),
+        })
+}
 
 /// What one reading gives.
 #[derive(Debug, Clone, PartialEq)]
@@ -97,6 +110,9 @@ pub struct ReadingResult {
     pub value: ReadingValue,
     /// The reading as entered, SI (V/m, V or C/m²).
     pub reading: f64,
+    /// What was recorded with the reading: the texts as typed (value and
+    /// distance), the instrument and the conditions of the measurement.
+    pub record: ReadingRecord,
     /// The field the reading implies [V/m]; `None` for a density reading.
     pub field: Option<f64>,
     /// Geometry-aware density at the meter's foot [C/m²].
@@ -664,6 +680,7 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
             at: at.0,
             value: r.value,
             reading,
+            record: r.record.clone(),
             field,
             sigma: charge.sigma(s, r.across),
             sigma_low: b1.min(b2),

@@ -1,4 +1,6 @@
-//! CSV output of field results: one row per point, SI units named in the header.
+//! CSV writers, SI units named in the header: field results (one row per
+//! point), the report's tables, the readings conversion (with each reading
+//! as entered and its record) and the plan (one row per bar of each plan).
 
 use crate::field::PointField;
 use crate::report::PointRequest;
@@ -131,15 +133,52 @@ pub fn spans_csv(r: &Report) -> String {
     s
 }
 
+/// The `plan` command's CSV: one row per bar of each plan listed (best
+/// first), the plan's findings repeated on each of its rows; SI units named
+/// in the header (efficiency and the worst margin as plain ratios).
+pub fn plan_csv(plan: &crate::plan::Plan, line: &crate::model::Line) -> String {
+    let mut s = String::from(
+        "plan,bars,fail,warn,pass,worst_margin,bar,kind,span,span_label,position_m,side,distance_m,efficiency\n",
+    );
+    for (rank, o) in plan.options.iter().enumerate() {
+        let [pass, warn, fail] = o.counts;
+        let lead = format!(
+            "{},{},{fail},{warn},{pass},{:?}",
+            rank + 1,
+            o.bars.len(),
+            o.worst_margin
+        );
+        if o.bars.is_empty() {
+            s.push_str(&format!("{lead},,,,,,,,\n"));
+        }
+        for (k, &b) in o.bars.iter().enumerate() {
+            let c = &plan.candidates[b];
+            let span = &line.path.spans[c.span];
+            s.push_str(&format!(
+                "{lead},{},{},{},{},{:?},{},{:?},{:?}\n",
+                k + 1,
+                c.kind.text(),
+                field_text(&span.name),
+                field_text(&span.label()),
+                c.along,
+                c.side.text(),
+                c.distance,
+                c.efficiency
+            ));
+        }
+    }
+    s
+}
+
 /// The readings conversion as CSV, SI units.
 pub fn readings_csv(readings: &[crate::readings::ReadingResult]) -> String {
     let mut s = String::from(
-        "id,span,position_m,distance_m,reading_SI,field_V_per_m,sigma_C_per_m2,sigma_low_C_per_m2,sigma_high_C_per_m2,sigma_naive_isolated_C_per_m2,sigma_naive_one_sided_C_per_m2,sigma_model_C_per_m2,residual_SI,warnings\n",
+        "id,span,position_m,distance_m,reading_SI,field_V_per_m,sigma_C_per_m2,sigma_low_C_per_m2,sigma_high_C_per_m2,sigma_naive_isolated_C_per_m2,sigma_naive_one_sided_C_per_m2,sigma_model_C_per_m2,residual_SI,warnings,as_entered,meter,calibrated_on,relative_humidity_fraction,speed_m_per_s\n",
     );
     let opt = |x: Option<f64>| x.map(|v| format!("{v:?}")).unwrap_or_default();
     for x in readings {
         s.push_str(&format!(
-            "{},{},{:?},{:?},{:?},{},{:?},{:?},{:?},{},{},{:?},{:?},{}\n",
+            "{},{},{:?},{:?},{:?},{},{:?},{:?},{:?},{},{},{:?},{:?},{},{},{},{},{},{}\n",
             field_text(&x.id),
             field_text(&x.span),
             x.position,
@@ -153,7 +192,15 @@ pub fn readings_csv(readings: &[crate::readings::ReadingResult]) -> String {
             opt(x.sigma_naive_one_sided),
             x.sigma_model,
             x.residual,
-            field_text(&super::notes::reading_notes(&x.warnings))
+            field_text(&super::notes::reading_notes(&x.warnings)),
+            field_text(&super::readings_text::as_entered(&x.record)),
+            field_text(x.record.meter.as_deref().unwrap_or("")),
+            x.record
+                .calibrated_on
+                .map(|d| d.format("%Y-%m-%d").to_string())
+                .unwrap_or_default(),
+            opt(x.record.relative_humidity),
+            opt(x.record.speed)
         ));
     }
     s

@@ -195,6 +195,7 @@ fn reading_table(r: &Report) -> Block {
             "span",
             "position",
             "distance",
+            "as entered",
             "read",
             "σ (geometry)",
             "σ bounds",
@@ -211,6 +212,7 @@ fn reading_table(r: &Report) -> Block {
                     x.span.clone(),
                     len_text(x.position),
                     len_text(x.distance),
+                    super::readings_text::as_entered(&x.record),
                     super::notes::reading_value(&x.value),
                     sd(x.sigma),
                     format!("{} … {}", sd(x.sigma_low), sd(x.sigma_high)),
@@ -226,6 +228,41 @@ fn reading_table(r: &Report) -> Block {
             })
             .collect(),
     )
+}
+
+/// The instrument and conditions recorded with the readings (a table when
+/// any reading gives them), then what the recorded humidity says about the
+/// relaxation time.
+fn reading_record_blocks(r: &Report) -> Vec<Block> {
+    use super::readings_text::{has_conditions, humidity_note, record_cells};
+    let mut blocks = Vec::new();
+    if r.readings.iter().any(|x| has_conditions(&x.record)) {
+        blocks.push(Block::Para(
+            "Recorded with the readings (instrument and conditions of the measurement):".into(),
+        ));
+        blocks.push(table(
+            &[
+                "reading",
+                "meter",
+                "calibrated on",
+                "relative humidity",
+                "web speed",
+            ],
+            r.readings
+                .iter()
+                .map(|x| {
+                    let mut row = vec![x.id.clone()];
+                    row.extend(record_cells(&x.record));
+                    row
+                })
+                .collect(),
+        ));
+    }
+    blocks.push(Block::Para(humidity_note(
+        &r.readings,
+        Some(&q(r.line.web.relaxation_time, Dim::Time)),
+    )));
+    blocks
 }
 
 /// One row per rule that gave a finding: `profile/rule` and what it checks.
@@ -515,6 +552,7 @@ pub fn layout(r: &Report) -> Vec<Section> {
     if !r.readings.is_empty() {
         inputs.push(reading_table(r));
     }
+    inputs.extend(reading_record_blocks(r));
     inputs.push(Block::Para(if line.eliminators.is_empty() {
         "Static eliminators: none.".to_string()
     } else {

@@ -141,6 +141,7 @@ pub fn readings_table(r: &crate::readings::ReadingsResult) -> String {
                 x.span.clone(),
                 len(x.position),
                 len(x.distance),
+                super::readings_text::as_entered(&x.record),
                 super::notes::reading_value(&x.value),
                 x.field
                     .map(|e| format_si(e, "V/m"))
@@ -168,6 +169,7 @@ pub fn readings_table(r: &crate::readings::ReadingsResult) -> String {
             "span",
             "position",
             "distance",
+            "as entered",
             "read",
             "E",
             "σ (geometry)",
