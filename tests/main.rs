@@ -10,7 +10,8 @@
 //! - `validation`: bad input refused with a located message;
 //! - `cli`: the binary end to end;
 //! - `pipeline`: one scene per command, the demo unchanged by reshaping;
-//! - `conductor_views`: conductors in the planner, the meter warnings and the side view.
+//! - `conductor_views`: conductors in the planner, the meter warnings and the side view;
+//! - `plots`: the demo's pictures on what they draw (legend, labels, limits).
 
 mod analytic;
 mod assess;
@@ -24,6 +25,7 @@ mod eliminators;
 mod geometry;
 mod pipeline;
 mod plan;
+mod plots;
 mod readings;
 mod reports;
 mod solver;
