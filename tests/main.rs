@@ -12,7 +12,9 @@
 //! - `pipeline`: one scene per command, the demo unchanged by reshaping;
 //! - `conductor_views`: conductors in the planner, the meter warnings and the side view;
 //! - `inputs`: likely wrong wrap directions, readings as recorded, the planned
-//!   line's rounding, the plan as CSV, point files with bad rows.
+//!   line's rounding, the plan as CSV, point files with bad rows;
+//! - `plots`: the demo's pictures on what they draw (legend, labels, limits);
+//! - `findings_terms`: findings in their sources' terms, units, order.
 
 mod analytic;
 mod assess;
@@ -28,6 +30,7 @@ mod geometry;
 mod inputs;
 mod pipeline;
 mod plan;
+mod plots;
 mod readings;
 mod reports;
 mod solver;

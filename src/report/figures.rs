@@ -6,8 +6,8 @@
 use crate::charge::ChargeProfile;
 use crate::model::{Line, NodeKind};
 use crate::report::plot::{
-    ChargeCurve, FieldGrid, PlotArc, PlotMarker, PlotPoint, PlotRoller, PlotSpan, PlotZone,
-    SideView,
+    ChargeCurve, FieldGrid, PlotArc, PlotLimit, PlotMarker, PlotPoint, PlotRoller, PlotSpan,
+    PlotZone, SideView,
 };
 
 /// The side view of the line.
@@ -74,6 +74,7 @@ pub fn side_view(line: &Line, charge: &ChargeProfile) -> SideView {
                 id: p.id.clone(),
                 kind: p.kind.text().to_string(),
                 x: p.at[0],
+                y: p.at[1],
                 z: p.at[2],
             })
             .collect(),
@@ -97,6 +98,8 @@ pub fn side_view(line: &Line, charge: &ChargeProfile) -> SideView {
             })
             .collect(),
         ground: line.ground_plane,
+        // the side view stands for the web's width: points beside it are drawn apart
+        plane: [-0.5 * line.web.width, 0.5 * line.web.width],
     }
 }
 
@@ -153,11 +156,7 @@ pub fn field_grid(
 }
 
 /// σc and the across-web peak sampled along the path, nodes marked.
-pub fn charge_curve(
-    line: &Line,
-    charge: &ChargeProfile,
-    limits: Vec<(f64, String)>,
-) -> ChargeCurve {
+pub fn charge_curve(line: &Line, charge: &ChargeProfile, limits: Vec<PlotLimit>) -> ChargeCurve {
     let total = line.path.total_length;
     let n = 600;
     let fmax = charge.across.max_abs();

@@ -14,7 +14,7 @@
 //! field map's nodes inside one (at y = 0) are drawn as conductor: the field
 //! there is zero.
 
-use crate::assess::{Assessment, ThresholdProfile};
+use crate::assess::{Assessment, Subject, ThresholdProfile};
 use crate::charge::ChargeProfile;
 use crate::field::WebField;
 use crate::model::convex::{Vec3, add, cross, norm, scale};
@@ -190,14 +190,55 @@ fn lowest_field_limit(profiles: &[ThresholdProfile]) -> Option<(f64, String)> {
         .min_by(|a, b| a.0.total_cmp(&b.0))
 }
 
-/// The largest |σ| on the path, across-web peak included [C/m²].
-fn curve_peak(charge: &ChargeProfile, line: &Line) -> f64 {
-    charge
-        .pieces_between(0.0, line.path.total_length)
-        .iter()
-        .map(|p| p.2.abs())
-        .fold(0.0, f64::max)
-        * charge.across.max_abs()
+/// The charge-density failure limits the findings apply, one per profile rule, each with
+/// the arc-length extents [m] of the spans it was applied to (a zone's limit covers the
+/// zone's spans only), spans that meet merged into one extent.
+pub fn charge_limits(line: &Line, assessment: &Assessment) -> Vec<plot::PlotLimit> {
+    let mut out: Vec<plot::PlotLimit> = Vec::new();
+    for f in &assessment.findings {
+        if f.dim != Dim::SurfaceChargeDensity {
+            continue;
+        }
+        let Some(v) = f.fail else { continue };
+        let label = format!("{}/{} fail", f.profile, f.rule);
+        let extent = match f.subject {
+            Subject::Span(i) => line.path.spans.get(i).map(|s| [s.s_start, s.s_end]),
+            _ => None,
+        };
+        let at = match out.iter().position(|l| l.label == label && l.sigma == v) {
+            Some(k) => k,
+            None => {
+                out.push(plot::PlotLimit {
+                    sigma: v,
+                    label,
+                    spans: Vec::new(),
+                });
+                out.len() - 1
+            }
+        };
+        match extent {
+            Some(e) => out[at].spans.push(e),
+            // a finding not on one span: the limit holds along the whole path
+            None => out[at].spans.push([0.0, line.path.total_length]),
+        }
+    }
+    for l in &mut out {
+        l.spans = merged(std::mem::take(&mut l.spans));
+    }
+    out
+}
+
+/// Intervals sorted and merged where they overlap or meet (within 1 nm) [m].
+fn merged(mut v: Vec<[f64; 2]>) -> Vec<[f64; 2]> {
+    v.sort_by(|a, b| a[0].total_cmp(&b[0]));
+    let mut out: Vec<[f64; 2]> = Vec::with_capacity(v.len());
+    for e in v {
+        match out.last_mut() {
+            Some(last) if e[0] <= last[1] + 1e-9 => last[1] = last[1].max(e[1]),
+            _ => out.push(e),
+        }
+    }
+    out
 }
 
 /// The three report pictures of a line: side view, field map at y = 0 and
@@ -226,22 +267,7 @@ pub fn make_plots(
     let layer = conductor_layer(line, in_field, Some((&xs, &zs)));
     let grid = figures::field_grid(xs, zs, e, 0.0, lowest_field_limit(profiles));
     let height = figures::picture_height(xr, zr, WIDTH);
-    // Charge limits that apply somewhere on this line (from the findings),
-    // without those so far above the charge that they would flatten the plot.
-    let peak = curve_peak(charge, line);
-    let mut sigma_limits: Vec<(f64, String)> = Vec::new();
-    for f in &assessment.findings {
-        if f.dim != Dim::SurfaceChargeDensity {
-            continue;
-        }
-        let label = format!("{}/{} fail", f.profile, f.rule);
-        if let Some(v) = f.fail
-            && !sigma_limits.iter().any(|(_, l)| l == &label)
-            && (v <= 3.0 * peak || sigma_limits.is_empty())
-        {
-            sigma_limits.push((v, label));
-        }
-    }
+    let sigma_limits = charge_limits(line, assessment);
     let mut curve = figures::charge_curve(line, charge, sigma_limits);
     curve.markers = readings
         .readings

@@ -11,11 +11,12 @@ use plotters::style::text_anchor::{HPos, VPos};
 
 use super::colour::{CURVE_PALETTE, INK, LIMIT, MEASURED, MUTED, NODE};
 use super::frame::{
-    draw_mesh, empty_note, fit, fmt_num, layout, non_empty, panel_box, render, tag, text, text_size,
+    draw_mesh, empty_note, fit, fmt_num, layout, non_empty, render, tag, text, text_size,
 };
-use super::legend::{Sym, legend};
+use super::layout::{Layout, LimitSegment};
+use super::legend::{Sym, draw_legend, plan};
 use super::stroke::{PxMap, polyline, stroke};
-use super::{ChargeCurve, val_ok};
+use super::{ChargeCurve, LIMIT_SCALE, PlotLimit, val_ok};
 
 /// Charge density along the web path against arc length s: centreline, across-web peak,
 /// extra curves, measured points with error bars, node ticks and limit lines.
@@ -24,6 +25,56 @@ use super::{ChargeCurve, val_ok};
 /// Fails when `sigma_c` or an extra curve does not have one value per `s`, or when
 /// `sigma_peak` is neither empty nor of that length.
 pub fn charge_png(c: &ChargeCurve, width: u32, height: u32) -> Result<Vec<u8>> {
+    Ok(charge(c, width, height)?.0)
+}
+
+/// What [`charge_png`] draws: the limit lines and their extents, the σ range of the
+/// axis, the limits named in the margin, the legend. Draws the picture to find out; fails
+/// as [`charge_png`] does.
+pub fn charge_layout(c: &ChargeCurve, width: u32, height: u32) -> Result<Layout> {
+    Ok(charge(c, width, height)?.1)
+}
+
+/// The limits of `c` split by the scale rule: those at most [`LIMIT_SCALE`] times
+/// `data_max` [µC/m²] from zero (all of them when there is no data) are drawn, the others
+/// named in the margin: `(drawn, notes)`.
+fn split_limits(c: &ChargeCurve, data_max: f64) -> (Vec<&PlotLimit>, Vec<String>) {
+    let mut drawn = Vec::new();
+    let mut notes = Vec::new();
+    for l in &c.limits {
+        let y = l.sigma * 1e6;
+        if !val_ok(y) {
+            continue;
+        }
+        if data_max <= 0.0 || y.abs() <= LIMIT_SCALE * data_max {
+            drawn.push(l);
+        } else {
+            let side = if y > 0.0 { "above" } else { "below" };
+            notes.push(format!(
+                "{} {} µC/m² {side} the scale",
+                non_empty(&l.label, "limit"),
+                fmt_num(y)
+            ));
+        }
+    }
+    (drawn, notes)
+}
+
+/// The arc-length extents [m] a limit is drawn over inside `[s0, s1]`: its spans, or
+/// `whole` when it names none.
+fn limit_extents(l: &PlotLimit, whole: (f64, f64), (s0, s1): (f64, f64)) -> Vec<[f64; 2]> {
+    if l.spans.is_empty() {
+        return vec![[whole.0.max(s0), whole.1.min(s1)]];
+    }
+    l.spans
+        .iter()
+        .filter(|e| val_ok(e[0]) && val_ok(e[1]))
+        .map(|e| [e[0].min(e[1]).max(s0), e[0].max(e[1]).min(s1)])
+        .filter(|e| e[0] < e[1])
+        .collect()
+}
+
+fn charge(c: &ChargeCurve, width: u32, height: u32) -> Result<(Vec<u8>, Layout)> {
     let n = c.s.len();
     ensure!(
         c.sigma_c.len() == n,
@@ -42,15 +93,65 @@ pub fn charge_png(c: &ChargeCurve, width: u32, height: u32) -> Result<Vec<u8>> {
             ys.len()
         );
     }
-    render(width, height, |root| {
+    let mu = |v: f64| v * 1e6;
+    let curves = charge_curves(c);
+    // the data: every curve and measured point [µC/m²]
+    let mut data = Range1::default();
+    let mut sdata = Range1::default();
+    for (_, _, ys) in &curves {
+        for (s, y) in c.s.iter().zip(ys.iter()) {
+            if val_ok(*s) && val_ok(mu(*y)) {
+                data.add(mu(*y));
+                sdata.add(*s);
+            }
+        }
+    }
+    for (s, v, lo, hi, _) in &c.markers {
+        if val_ok(*s) {
+            [*v, *lo, *hi].iter().for_each(|&y| data.add(mu(y)));
+        }
+    }
+    let data_max = if data.lo > data.hi {
+        0.0
+    } else {
+        data.lo.abs().max(data.hi.abs())
+    };
+    let (drawn, notes) = split_limits(c, data_max);
+    let mut items: Vec<(Sym, String)> = curves
+        .iter()
+        .map(|(name, (colour, width), _)| (Sym::Line(*colour, *width), name.clone()))
+        .collect();
+    if !c.markers.is_empty() {
+        items.push((Sym::Measured, "measured (error bar)".to_string()));
+    }
+    if !drawn.is_empty() {
+        items.push((
+            Sym::Dashed(LIMIT),
+            "limit, over the spans it applies to".to_string(),
+        ));
+    }
+    for note in &notes {
+        items.push((Sym::OffScale(LIMIT), note.clone()));
+    }
+    if !c.nodes.is_empty() {
+        items.push((Sym::Dashed(NODE), "node of the path".to_string()));
+    }
+    let plan = plan(&items, (width, height), false);
+    let mut out = Layout {
+        size: (width, height),
+        legend_columns: plan.columns as u32,
+        off_scale: notes.clone(),
+        ..Layout::default()
+    };
+    let png = render(width, height, |root| {
         let (main, panel) = layout(
             root,
             "Surface charge density along the web path",
             "σ against arc length s; vertical ticks mark nodes of the path",
+            plan.panel_w,
         )?;
-        let mu = |v: f64| v * 1e6;
         let mut sb = Range1::default();
-        let mut yb = Range1::default();
+        let mut yb = data;
         yb.add(0.0);
         c.s.iter().for_each(|&s| sb.add(s));
         c.nodes.iter().for_each(|(s, _)| sb.add(*s));
@@ -60,17 +161,15 @@ pub fn charge_png(c: &ChargeCurve, width: u32, height: u32) -> Result<Vec<u8>> {
                 [*v, *lo, *hi].iter().for_each(|&y| yb.add(mu(y)));
             }
         }
-        let curves = charge_curves(c);
-        for (_, _, ys) in &curves {
-            for (s, y) in c.s.iter().zip(ys.iter()) {
-                if val_ok(*s) {
-                    yb.add(mu(*y));
-                }
-            }
-        }
-        c.limits.iter().for_each(|(y, _)| yb.add(mu(*y)));
+        drawn.iter().for_each(|l| yb.add(mu(l.sigma)));
         let (s0, s1) = sb.padded(0.02, (0.0, 1.0));
         let (y0, y1) = yb.padded(0.08, (-1.0, 1.0));
+        out.sigma_range = [y0 * 1e-6, y1 * 1e-6];
+        let whole = if sdata.lo > sdata.hi {
+            (s0, s1)
+        } else {
+            (sdata.lo, sdata.hi)
+        };
 
         let mut builder = ChartBuilder::on(&main);
         builder
@@ -127,24 +226,33 @@ pub fn charge_png(c: &ChargeCurve, width: u32, height: u32) -> Result<Vec<u8>> {
                 true,
             )?;
         }
-        // limits
-        for (y, label) in &c.limits {
-            let y = mu(*y);
-            if !val_ok(y) || y < y0 || y > y1 {
+        // limits, each over the spans it applies to, labelled at its rightmost end
+        for l in &drawn {
+            let y = mu(l.sigma);
+            if y < y0 || y > y1 {
                 continue;
             }
-            area.draw(&DashedPathElement::new(
-                vec![(s0, y), (s1, y)],
-                10,
-                6,
-                LIMIT.stroke_width(2),
-            ))?;
-            let (x, py) = chart.backend_coord(&(s1, y));
-            let text_l = format!("{} ({} µC/m²)", non_empty(label, "limit"), fmt_num(y));
+            let extents = limit_extents(l, whole, (s0, s1));
+            for e in &extents {
+                area.draw(&DashedPathElement::new(
+                    vec![(e[0], y), (e[1], y)],
+                    10,
+                    6,
+                    LIMIT.stroke_width(2),
+                ))?;
+                out.limit_segments.push(LimitSegment {
+                    label: l.label.clone(),
+                    sigma: l.sigma,
+                    s: *e,
+                });
+            }
+            let Some(last) = extents.last() else { continue };
+            let (x, py) = chart.backend_coord(&(last[1], y));
+            let text_l = format!("{} ({} µC/m²)", non_empty(&l.label, "limit"), fmt_num(y));
             tag(
                 root,
                 &text_l,
-                (x - 8, py - 4),
+                (x - 4, py - 4),
                 HPos::Right,
                 VPos::Bottom,
                 &text(13.0, LIMIT),
@@ -194,22 +302,11 @@ pub fn charge_png(c: &ChargeCurve, width: u32, height: u32) -> Result<Vec<u8>> {
             empty_note(root, &chart, "no charge density values to show")?;
         }
 
-        let (px, py, pw, ph) = panel_box(&panel);
-        let mut items: Vec<(Sym, String)> = curves
-            .iter()
-            .map(|(name, (colour, width), _)| (Sym::Line(*colour, *width), name.clone()))
-            .collect();
-        if !c.markers.is_empty() {
-            items.push((Sym::Measured, "measured (error bar)".to_string()));
-        }
-        if !c.limits.is_empty() {
-            items.push((Sym::Dashed(LIMIT), "limit".to_string()));
-        }
-        if !c.nodes.is_empty() {
-            items.push((Sym::Dashed(NODE), "node of the path".to_string()));
-        }
-        legend(root, (px, py), pw, py + ph, &items)
-    })
+        let _ = panel;
+        out.legend = draw_legend(root, &plan)?;
+        Ok(())
+    })?;
+    Ok((png, out))
 }
 
 #[derive(Debug, Clone, Copy)]
@@ -304,5 +401,58 @@ mod tests {
         assert!(title_has_ink(w, &rgb));
         assert!(has(&rgb, RGBColor(22, 78, 168)), "centreline curve");
         assert!(has(&rgb, LIMIT), "limit line");
+    }
+
+    /// A zone's limit is drawn over the zone's spans only; a limit far above the data (the
+    /// air-breakdown density, 53.1 µC/m², over data of 5 µC/m²) is named in the margin and
+    /// leaves the scale to the data; one near the data sets it.
+    #[test]
+    fn limits_cover_their_spans_and_far_ones_are_named_in_the_margin() {
+        let s: Vec<f64> = (0..=120).map(|i| f64::from(i) * 0.1).collect();
+        let sigma_c: Vec<f64> = s.iter().map(|x| 5e-6 * (1.0 - x / 24.0)).collect();
+        let limit = |sigma: f64, label: &str, spans: Vec<[f64; 2]>| PlotLimit {
+            sigma,
+            label: label.into(),
+            spans,
+        };
+        let c = ChargeCurve {
+            s,
+            sigma_c,
+            limits: vec![
+                limit(1.7e-6, "zone 1", vec![[2.0, 3.0], [5.5, 6.25]]),
+                limit(10e-6, "zone 2", vec![[4.0, 8.0]]),
+                limit(53.1e-6, "air breakdown", Vec::new()),
+            ],
+            ..ChargeCurve::default()
+        };
+        let l = charge_layout(&c, 1200, 700).unwrap();
+        let extents = |name: &str| -> Vec<[f64; 2]> {
+            l.limit_segments
+                .iter()
+                .filter(|g| g.label == name)
+                .map(|g| g.s)
+                .collect()
+        };
+        assert_eq!(extents("zone 1"), vec![[2.0, 3.0], [5.5, 6.25]]);
+        assert_eq!(extents("zone 2"), vec![[4.0, 8.0]]);
+        assert!(extents("air breakdown").is_empty());
+        assert_eq!(
+            l.off_scale,
+            vec!["air breakdown 53.1 µC/m² above the scale"]
+        );
+        assert!(l.legend.iter().any(|e| e.label == l.off_scale[0]));
+        // 10 µC/m² is within 2.5 × 5 µC/m²: on the scale, which stays near the data
+        let top = l.sigma_range[1];
+        assert!((10e-6..=3.0 * 5e-6).contains(&top), "{top}");
+
+        // without the zone 2 limit the scale follows the data alone (5 µC/m² + 8 %)
+        let mut c2 = c.clone();
+        c2.limits.remove(1);
+        let top = charge_layout(&c2, 1200, 700).unwrap().sigma_range[1];
+        assert!(top < 1.2 * 5e-6 && top > 5e-6, "{top}");
+        // a limit for the whole path spans the data
+        c2.limits[0].spans.clear();
+        let l2 = charge_layout(&c2, 1200, 700).unwrap();
+        assert_eq!(l2.limit_segments[0].s, [0.0, 12.0]);
     }
 }

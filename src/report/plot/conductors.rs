@@ -10,7 +10,8 @@ use anyhow::Result;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
-use super::frame::{Area, F64Chart, tag, text};
+use super::frame::{Area, F64Chart};
+use super::labels::Request;
 use super::xz::Bounds;
 use super::{PlotConductor, coord_ok};
 
@@ -168,16 +169,17 @@ pub(super) fn draw_conductors(
     Ok(())
 }
 
-/// Each conductor's id, above the top of its outline.
-pub(super) fn draw_conductor_labels(
-    root: &Area<'_>,
+/// Each conductor's id: above the top of its outline first, else below or at a corner.
+pub(super) fn conductor_labels(
     chart: &F64Chart<'_, '_>,
     conductors: &[PlotConductor],
-) -> Result<()> {
+) -> Vec<Request> {
+    let mut out = Vec::new();
     for c in conductors {
         let Some(pts) = outline(c) else { continue };
         let px: Vec<(i32, i32)> = pts.iter().map(|p| chart.backend_coord(p)).collect();
         let top = px.iter().map(|p| p.1).min().unwrap_or(0);
+        let bottom = px.iter().map(|p| p.1).max().unwrap_or(0);
         let (x0, x1) = px
             .iter()
             .fold((i32::MAX, i32::MIN), |(a, b), p| (a.min(p.0), b.max(p.0)));
@@ -186,17 +188,16 @@ pub(super) fn draw_conductor_labels(
         } else {
             RGBColor(170, 70, 8)
         };
-        tag(
-            root,
-            &c.id,
-            (x0 / 2 + x1 / 2, top - 4),
-            HPos::Center,
-            VPos::Bottom,
-            &text(13.0, ink),
-            true,
-        )?;
+        let cx = x0 / 2 + x1 / 2;
+        out.push(
+            Request::new(&c.id, ink, (cx, top))
+                .at((cx, top - 4), HPos::Center, VPos::Bottom)
+                .at((x0, top - 4), HPos::Left, VPos::Bottom)
+                .at((x1, top - 4), HPos::Right, VPos::Bottom)
+                .at((cx, bottom + 4), HPos::Center, VPos::Top),
+        );
     }
-    Ok(())
+    out
 }
 
 /// `b` widened to hold every drawable conductor outline.

@@ -25,7 +25,8 @@ use anyhow::Result;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::colour::{CONTOUR, INK, UNDERLAY};
-use super::frame::{Area, F64Chart, non_empty, tag, text};
+use super::frame::{Area, F64Chart, non_empty};
+use super::labels::Request;
 use super::stroke::{PxMap, Segment, stroke};
 
 /// Marching squares for |E| = `limit` on ln|E|; cells with a non-finite corner are skipped.
@@ -89,7 +90,6 @@ pub(super) fn draw_contour(
     root: &Area<'_>,
     chart: &F64Chart<'_, '_>,
     segs: &[Segment],
-    label: &str,
 ) -> Result<()> {
     let map = PxMap::of(chart);
     let px: Vec<Segment> = segs
@@ -98,24 +98,25 @@ pub(super) fn draw_contour(
         .collect();
     stroke(root, &px, 2.6, |_| UNDERLAY)?;
     stroke(root, &px, 1.5, |_| CONTOUR)?;
-    // label at the highest point of the contour
+    Ok(())
+}
+
+/// The contour's label, above its highest point first.
+pub(super) fn contour_label(
+    chart: &F64Chart<'_, '_>,
+    segs: &[Segment],
+    label: &str,
+) -> Option<Request> {
     let top = segs
         .iter()
         .flat_map(|(a, b)| [*a, *b])
-        .max_by(|p, q| p.1.total_cmp(&q.1));
-    if let Some(p) = top {
-        let (x, y) = chart.backend_coord(&p);
-        tag(
-            root,
-            non_empty(label, "limit"),
-            (x, y - 8),
-            HPos::Center,
-            VPos::Bottom,
-            &text(13.0, INK),
-            true,
-        )?;
-    }
-    Ok(())
+        .max_by(|p, q| p.1.total_cmp(&q.1))?;
+    let (x, y) = chart.backend_coord(&top);
+    Some(
+        Request::new(non_empty(label, "limit"), INK, (x, y))
+            .at((x, y - 8), HPos::Center, VPos::Bottom)
+            .at((x, y + 8), HPos::Center, VPos::Top),
+    )
 }
 
 #[cfg(test)]

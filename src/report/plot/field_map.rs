@@ -10,17 +10,18 @@ use anyhow::{Result, ensure};
 use plotters::prelude::*;
 
 use super::colour::{NODATA, colour_bar, field_colour, log_range, log_ticks};
-use super::conductors::{draw_conductor_labels, draw_conductors, with_conductors};
-use super::contour::{contour, draw_contour};
-use super::frame::{bar_height, empty_note, fmt_num, layout, non_empty, panel_box, render};
-use super::legend::{Sym, after_rollers, conductor_legend, legend, scene_legend};
+use super::conductors::{conductor_labels, draw_conductors, with_conductors};
+use super::contour::{contour, contour_label, draw_contour};
+use super::frame::{empty_note, fmt_num, layout, non_empty, panel_box, plot_box, render};
+use super::labels::draw_labels;
+use super::layout::Layout;
+use super::legend::{Sym, after_rollers, conductor_legend, draw_legend, plan, scene_legend};
 use super::scene::{
-    draw_ground, draw_markers, draw_points, draw_roller_labels, draw_rollers, draw_zone_labels,
-    draw_zones,
+    draw_ground, draw_markers, draw_points, draw_rollers, draw_zones, roller_labels, zone_labels,
 };
 use super::web::draw_web;
 use super::xz::{padded, side_bounds, slightly_padded, xz_chart, xz_mesh};
-use super::{ConductorLayer, FieldGrid, MAX_MAGNITUDE, SideView, coord_ok};
+use super::{ConductorLayer, FieldGrid, MAX_MAGNITUDE, PLANE_TOLERANCE, SideView, coord_ok};
 
 /// Fill of the cells inside a conductor.
 const INSIDE: RGBColor = RGBColor(96, 104, 116);
@@ -38,6 +39,28 @@ pub fn field_map_png(
     width: u32,
     height: u32,
 ) -> Result<Vec<u8>> {
+    Ok(field_map(v, g, c, width, height)?.0)
+}
+
+/// What [`field_map_png`] draws: legend entries, labels placed. Draws the picture to
+/// find out; fails as [`field_map_png`] does.
+pub fn field_map_layout(
+    v: &SideView,
+    g: &FieldGrid,
+    c: &ConductorLayer,
+    width: u32,
+    height: u32,
+) -> Result<Layout> {
+    Ok(field_map(v, g, c, width, height)?.1)
+}
+
+fn field_map(
+    v: &SideView,
+    g: &FieldGrid,
+    c: &ConductorLayer,
+    width: u32,
+    height: u32,
+) -> Result<(Vec<u8>, Layout)> {
     let (nx, nz) = (g.xs.len(), g.zs.len());
     ensure!(
         nx.checked_mul(nz) == Some(g.e_mag.len()),
@@ -59,7 +82,46 @@ pub fn field_map_png(
         increasing(&g.zs),
         "field grid: zs must be finite and strictly increasing"
     );
-    render(width, height, |root| {
+    // the slice: points farther from it than the tolerance are drawn hollow
+    let plane = [g.y - PLANE_TOLERANCE, g.y + PLANE_TOLERANCE];
+    let limit = g
+        .limit
+        .as_ref()
+        .filter(|(e, _)| e.is_finite() && *e > 0.0 && *e / 1e3 <= MAX_MAGNITUDE);
+    let segs = limit.map(|(e_lim, _)| contour(&g.xs, &g.zs, &g.e_mag, *e_lim));
+    let any_inside = nx > 0 && nz > 0 && c.inside.iter().any(|&i| i);
+    let any_nan = (0..g.e_mag.len()).any(|k| !inside(k) && !g.e_mag[k].is_finite());
+    let mut items = Vec::new();
+    if let Some((e, l)) = limit {
+        let text = format!("{} ({} kV/m)", non_empty(l, "limit"), fmt_num(e / 1e3));
+        let drawn = segs.as_ref().is_some_and(|s| !s.is_empty());
+        let text = if drawn {
+            text
+        } else {
+            format!("{text}: not reached")
+        };
+        items.push((Sym::Contour, text));
+    }
+    items.extend(scene_legend(v, (Sym::Tape, "web path"), false, plane));
+    let note = if c.in_field { "" } else { " (not solved)" };
+    let mut rows = conductor_legend(&c.conductors, false, note);
+    if any_inside {
+        rows.push((
+            Sym::Swatch(INSIDE),
+            "inside a conductor (|E| = 0)".to_string(),
+        ));
+    }
+    after_rollers(&mut items, rows);
+    if any_nan {
+        items.push((Sym::Swatch(NODATA), "not computed".to_string()));
+    }
+    let plan = plan(&items, (width, height), true);
+    let mut out = Layout {
+        size: (width, height),
+        legend_columns: plan.columns as u32,
+        ..Layout::default()
+    };
+    let png = render(width, height, |root| {
         let title = non_empty(&v.title, "Web line");
         let slice = if g.y.is_finite() {
             format!("slice at y = {} mm", fmt_num(g.y * 1e3))
@@ -70,6 +132,7 @@ pub fn field_map_png(
             root,
             &format!("{title}: electric field strength |E|"),
             &format!("{slice}; logarithmic colour scale; equal scale in x and z"),
+            plan.panel_w,
         )?;
         let ex = cell_edges(&g.xs);
         let ez = cell_edges(&g.zs);
@@ -99,9 +162,7 @@ pub fn field_map_png(
             .map(|k| g.e_mag[k])
             .collect();
         let (llo, lhi) = log_range(&outside);
-        let mut any_inside = false;
         let t_of = |e: f64| ((e.max(1e-300).log10() - llo) / (lhi - llo)).clamp(0.0, 1.0);
-        let mut any_nan = false;
         if let (Some(x), Some(z)) = (ex.as_ref(), ez.as_ref()) {
             let area = chart.plotting_area();
             area.draw(&Rectangle::new(
@@ -112,7 +173,6 @@ pub fn field_map_png(
                 for ix in 0..nx {
                     let k = iz * nx + ix;
                     if inside(k) {
-                        any_inside = true;
                         area.draw(&Rectangle::new(
                             [(x[ix], z[iz]), (x[ix + 1], z[iz + 1])],
                             INSIDE.filled(),
@@ -121,7 +181,6 @@ pub fn field_map_png(
                     }
                     let e = g.e_mag.get(k).copied().unwrap_or(f64::NAN);
                     if !e.is_finite() {
-                        any_nan = true;
                         continue;
                     }
                     let c = field_colour(t_of(e));
@@ -137,26 +196,28 @@ pub fn field_map_png(
         draw_conductors(root, &chart, &c.conductors, false)?;
         draw_rollers(root, &chart, &v.rollers)?;
         draw_web(root, &chart, v, None)?;
-        let limit = g
-            .limit
-            .as_ref()
-            .filter(|(e, _)| e.is_finite() && *e > 0.0 && *e / 1e3 <= MAX_MAGNITUDE);
-        let mut contour_drawn = false;
-        if let Some((e_lim, label)) = limit {
-            let segs = contour(&g.xs, &g.zs, &g.e_mag, *e_lim);
-            contour_drawn = !segs.is_empty();
-            draw_contour(root, &chart, &segs, label)?;
+        let mut contour_req = None;
+        if let (Some(segs), Some((_, label))) = (segs.as_ref(), limit) {
+            draw_contour(root, &chart, segs)?;
+            contour_req = contour_label(&chart, segs, label);
         }
-        draw_markers(root, &chart, &v.markers)?;
-        draw_points(root, &chart, &v.points)?;
-        draw_zone_labels(root, &chart, &v.zones)?;
-        draw_roller_labels(root, &chart, &v.rollers)?;
-        draw_conductor_labels(root, &chart, &c.conductors)?;
+        let (mls, mut clear) = draw_markers(root, &chart, &v.markers)?;
+        let (mut reqs, pclear) = draw_points(root, &chart, &v.points, plane)?;
+        let (rls, rclear) = roller_labels(&chart, &v.rollers);
+        reqs.extend(mls);
+        reqs.extend(rls);
+        reqs.extend(conductor_labels(&chart, &c.conductors));
+        reqs.extend(zone_labels(&chart, &v.zones));
+        reqs.extend(contour_req);
+        clear.extend(pclear);
+        clear.extend(rclear);
+        out.plot_area = plot_box(&chart);
+        out.labels = draw_labels(root, &reqs, out.plot_area, &clear)?;
         if !g.e_mag.iter().any(|e| e.is_finite()) {
             empty_note(root, &chart, "no field values to show")?;
         }
 
-        let (px, py, pw, ph) = panel_box(&panel);
+        let (px, py, _, _) = panel_box(&panel);
         let cmap = |t: f64| field_colour(t);
         let ticks = log_ticks(llo, lhi);
         let marks: Vec<(f64, String)> = limit
@@ -164,33 +225,19 @@ pub fn field_map_png(
             .map(|(e, l)| (t_of(*e), l.clone()))
             .filter(|(t, _)| *t > 0.0 && *t < 1.0)
             .collect();
-        let bar_h = bar_height(ph);
-        let bottom = colour_bar(root, (px, py), bar_h, "|E| [kV/m]", &cmap, &ticks, &marks)?;
-        let mut items = Vec::new();
-        if let Some((e, l)) = limit {
-            let text = format!("{} ({} kV/m)", non_empty(l, "limit"), fmt_num(e / 1e3));
-            let text = if contour_drawn {
-                text
-            } else {
-                format!("{text}: not reached")
-            };
-            items.push((Sym::Contour, text));
-        }
-        items.extend(scene_legend(v, (Sym::Tape, "web path"), false));
-        let note = if c.in_field { "" } else { " (not solved)" };
-        let mut rows = conductor_legend(&c.conductors, false, note);
-        if any_inside {
-            rows.push((
-                Sym::Swatch(INSIDE),
-                "inside a conductor (|E| = 0)".to_string(),
-            ));
-        }
-        after_rollers(&mut items, rows);
-        if any_nan {
-            items.push((Sym::Swatch(NODATA), "not computed".to_string()));
-        }
-        legend(root, (px, bottom + 28), pw, py + ph, &items)
-    })
+        colour_bar(
+            root,
+            (px, py),
+            plan.bar_h,
+            "|E| [kV/m]",
+            &cmap,
+            &ticks,
+            &marks,
+        )?;
+        out.legend = draw_legend(root, &plan)?;
+        Ok(())
+    })?;
+    Ok((png, out))
 }
 
 pub(super) fn increasing(v: &[f64]) -> bool {

@@ -4,6 +4,9 @@
 //! Pipeline stage: report writers (PNG plots). `render` draws into an RGB buffer and hands
 //! it to `encode`; a panic inside the plotting library becomes an error.
 //!
+//! Text is set by `glyphs` (advance widths and kerning of the bundled font, sub-pixel pen
+//! positions); the plotting library only asks it for sizes and hands it the strings.
+//!
 //! Font: DejaVu Sans, Bitstream Vera licence, see `assets/DejaVuSans-LICENSE.txt`.
 
 use std::panic::{AssertUnwindSafe, catch_unwind};
@@ -18,22 +21,27 @@ use plotters::style::{FontDesc, FontStyle};
 
 use super::colour::{GRID, INK, LIGHT_GRID, MUTED};
 use super::encode::encode_png;
+use super::glyphs::{FONT_BYTES, Typeset, font_ok, measure};
+use super::layout::PxBox;
 use super::{MAX_PIXELS, MIN_PIXELS};
 
-pub(super) type Area<'a> = DrawingArea<BitMapBackend<'a>, Shift>;
+pub(super) type Area<'a> = DrawingArea<Typeset<'a>, Shift>;
 pub(super) type F64Chart<'a, 'b> =
-    ChartContext<'a, BitMapBackend<'b>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
+    ChartContext<'a, Typeset<'b>, Cartesian2d<RangedCoordf64, RangedCoordf64>>;
 
-static FONT_BYTES: &[u8] = include_bytes!("../../../assets/DejaVuSans.ttf");
 const FAMILY: &str = "sans-serif";
 
-/// Registers the bundled font once; plotters draws no text before that.
+/// Registers the bundled font once (the library's own text styles need a registered
+/// family even though `glyphs` sets the text) and checks that it can be read.
 fn ensure_font() -> Result<()> {
     static REGISTERED: OnceLock<bool> = OnceLock::new();
     let ok = *REGISTERED.get_or_init(|| {
         plotters::style::register_font(FAMILY, FontStyle::Normal, FONT_BYTES).is_ok()
     });
-    ensure!(ok, "the bundled DejaVu Sans font could not be loaded");
+    ensure!(
+        ok && font_ok(),
+        "the bundled DejaVu Sans font could not be loaded"
+    );
     Ok(())
 }
 
@@ -51,7 +59,8 @@ where
     let len = (width as usize) * (height as usize) * 3;
     let mut buf = vec![255u8; len];
     let outcome = catch_unwind(AssertUnwindSafe(|| -> Result<()> {
-        let root = BitMapBackend::with_buffer(&mut buf, (width, height)).into_drawing_area();
+        let root =
+            Typeset::new(BitMapBackend::with_buffer(&mut buf, (width, height))).into_drawing_area();
         // the buffer starts white, so no fill is needed
         draw(&root)?;
         root.present()?;
@@ -64,11 +73,13 @@ where
     encode_png(width, height, &buf)
 }
 
-/// Title block on top, a legend panel on the right; returns (plot area, panel).
+/// Title block on top, a legend panel `panel_w` px wide on the right; returns
+/// (plot area, panel).
 pub(super) fn layout<'a>(
     root: &Area<'a>,
     title: &str,
     subtitle: &str,
+    panel_w: u32,
 ) -> Result<(Area<'a>, Area<'a>)> {
     let (w, _) = root.dim_in_pixel();
     let (head, body) = root.split_vertically(58);
@@ -96,7 +107,6 @@ pub(super) fn layout<'a>(
         &sub_style,
         false,
     )?;
-    let panel_w = ((w as f64) * 0.2).clamp(150.0, 270.0) as u32;
     let (main, panel) = body.split_horizontally(w.saturating_sub(panel_w));
     Ok((main, panel))
 }
@@ -154,9 +164,9 @@ fn mesh_font(size: f64) -> TextStyle<'static> {
     }
 }
 
-pub(super) fn text_size(root: &Area<'_>, s: &str, style: &TextStyle<'_>) -> Result<(i32, i32)> {
-    let (w, h) = root.estimate_text_size(s, style)?;
-    Ok((w as i32, h as i32))
+/// Width and height [px] of `s` set in `style` (the same layout the text is drawn with).
+pub(super) fn text_size(_root: &Area<'_>, s: &str, style: &TextStyle<'_>) -> Result<(i32, i32)> {
+    Ok(measure(s, style.font.get_size()))
 }
 
 /// Shortens `s` with an ellipsis until it is at most `max_w` pixels wide.
@@ -209,6 +219,14 @@ pub(super) fn tag(
     let style = style.pos(Pos::new(HPos::Left, VPos::Top));
     root.draw(&Text::new(s.to_string(), (x0, y0), style))?;
     Ok(())
+}
+
+/// The plotting area of a chart in image pixels.
+pub(super) fn plot_box(chart: &F64Chart<'_, '_>) -> PxBox {
+    let area = chart.plotting_area();
+    let (x, y) = area.get_base_pixel();
+    let (w, h) = area.dim_in_pixel();
+    [x, y, x + w as i32, y + h as i32]
 }
 
 /// A grey note in the middle of an empty plotting area.

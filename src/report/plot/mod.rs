@@ -18,7 +18,10 @@
 //! | `web` | the web path, sampled and coloured by charge density |
 //! | `stroke` | anti-aliased thick polylines in pixel space |
 //! | `colour` | palette, colour scales and colour bar |
-//! | `legend` | legend rows and their symbols |
+//! | `legend` | legend rows, their layout (wrapped, in columns) and symbols |
+//! | `labels` | labels on the x–z charts placed without overlap |
+//! | `layout` | what a drawn plot holds (legend, labels, limits), for checks |
+//! | `glyphs` | text set with the font's advances and kerning |
 //! | `contour` | the limit contour (marching squares) |
 //!
 //! | symbol | meaning | unit |
@@ -35,12 +38,16 @@
 //! - Conductors are drawn as given: outlines already projected on the x–z plane (the caller
 //!   projects the 3-D shapes); the field map fills the grid cells the caller marks as inside
 //!   a conductor instead of colouring them by |E|.
+//! - A point is on the plotted plane when its across-web y is inside `SideView::plane`
+//!   (side view) or within [`PLANE_TOLERANCE`] of the slice (field map); others are drawn
+//!   hollow and labelled with their y, never as if on the web.
 //! - Non-finite values (and magnitudes above [`MAX_MAGNITUDE`] in the plotted unit)
 //!   are left out of the picture, never fatal.
 //!
 //! ## Valid range
 //! Width and height [`MIN_PIXELS`]..=[`MAX_PIXELS`] px. The field colour bar spans
 //! 1 to 5 decades. Point kinds get six colours in turn; at most 16 kinds are listed.
+//! The legend keeps every entry whole: labels wrap and the panel takes up to four columns.
 //! Text is drawn with the bundled font only (no system fonts are read).
 
 mod charge;
@@ -50,6 +57,9 @@ mod contour;
 mod encode;
 mod field_map;
 mod frame;
+mod glyphs;
+mod labels;
+mod layout;
 mod legend;
 mod scene;
 mod side_view;
@@ -59,9 +69,10 @@ mod testkit;
 mod web;
 mod xz;
 
-pub use charge::charge_png;
-pub use field_map::field_map_png;
-pub use side_view::side_view_png;
+pub use charge::{charge_layout, charge_png};
+pub use field_map::{field_map_layout, field_map_png};
+pub use layout::{Layout, LegendEntry, LimitSegment, PlacedLabel, PxBox, contains, overlap};
+pub use side_view::{side_view_layout, side_view_png};
 
 /// Smallest accepted image width or height [px].
 pub const MIN_PIXELS: u32 = 320;
@@ -69,6 +80,11 @@ pub const MIN_PIXELS: u32 = 320;
 pub const MAX_PIXELS: u32 = 8192;
 /// Values whose magnitude exceeds this, in the unit plotted (m, µC/m², kV/m), are skipped [1].
 pub const MAX_MAGNITUDE: f64 = 1e12;
+/// A point within this distance of the field map's slice is on it [m].
+pub const PLANE_TOLERANCE: f64 = 1e-3;
+/// A charge limit at most this many times the largest |σ| plotted sets the scale; one
+/// farther out is named in the margin so that it does not flatten the curves [1].
+pub const LIMIT_SCALE: f64 = 2.5;
 
 /// A roller (idler, drum, nip roll) seen from the side.
 #[derive(Debug, Clone, PartialEq, Default)]
@@ -138,6 +154,9 @@ pub struct PlotPoint {
     pub kind: String,
     /// Position along the line [m].
     pub x: f64,
+    /// Across-web position [m]: outside the plotted plane the point is drawn hollow and
+    /// labelled with it.
+    pub y: f64,
     /// Height [m].
     pub z: f64,
 }
@@ -200,6 +219,10 @@ pub struct SideView {
     pub markers: Vec<PlotMarker>,
     /// Height of an earthed floor plane, if any [m].
     pub ground: Option<f64>,
+    /// Across-web band `[y_a, y_b]` [m] the side view stands for (the web's width):
+    /// points whose y is outside are drawn hollow and labelled with their y. The field
+    /// map uses its slice instead (within [`PLANE_TOLERANCE`] of `FieldGrid::y`).
+    pub plane: [f64; 2],
 }
 
 /// Field strength sampled on a rectangular x–z grid at one across-web position.
@@ -217,6 +240,18 @@ pub struct FieldGrid {
     pub limit: Option<(f64, String)>,
 }
 
+/// A charge-density limit of the charge chart.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct PlotLimit {
+    /// The limit [C/m²].
+    pub sigma: f64,
+    /// Its name.
+    pub label: String,
+    /// Arc-length extents `[s_a, s_b]` [m] where it applies (the spans of a zone); empty:
+    /// the whole path.
+    pub spans: Vec<[f64; 2]>,
+}
+
 /// Charge density along the web path against arc length.
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct ChargeCurve {
@@ -228,8 +263,9 @@ pub struct ChargeCurve {
     pub sigma_peak: Vec<f64>,
     /// Nodes along the path (rollers, devices): `(s [m], label)`, drawn as vertical ticks.
     pub nodes: Vec<(f64, String)>,
-    /// Limits: `(σ [C/m²], label)`, drawn as horizontal lines.
-    pub limits: Vec<(f64, String)>,
+    /// Limits, drawn as horizontal lines over the spans they apply to; a limit more than
+    /// [`LIMIT_SCALE`] times the largest |σ| plotted is named in the margin instead.
+    pub limits: Vec<PlotLimit>,
     /// More curves on the same `s` grid: `(name, σ [C/m²])`.
     pub extra: Vec<(String, Vec<f64>)>,
     /// Points with error bars: `(s [m], σ [C/m²], low [C/m²], high [C/m²], label)`.
@@ -328,6 +364,7 @@ mod tests {
             id: "p".into(),
             kind: String::new(),
             x: nan,
+            y: nan,
             z: 0.0,
         });
         v.markers.push(PlotMarker {
@@ -367,7 +404,11 @@ mod tests {
         c.sigma_peak.iter_mut().for_each(|v| *v = nan);
         c.s[10] = nan;
         c.nodes.push((nan, "n".into()));
-        c.limits.push((1e300, "far".into()));
+        c.limits.push(PlotLimit {
+            sigma: 1e300,
+            label: "far".into(),
+            spans: vec![[f64::NAN, 1e300]],
+        });
         c.markers.push((nan, nan, nan, nan, String::new()));
         decode(&charge_png(&c, 800, 500).unwrap());
         let all_nan = ChargeCurve {

@@ -13,7 +13,10 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::colour::{GROUND_FILL, GROUND_INK, INK, MARKER, POINT_PALETTE};
-use super::frame::{Area, F64Chart, non_empty, tag, text, text_size};
+use super::frame::{Area, F64Chart, fmt_num, non_empty};
+use super::glyphs::measure;
+use super::labels::{LABEL_FONT, Request};
+use super::layout::PxBox;
 use super::xz::{px_per_m, roller_ok};
 use super::{PlotMarker, PlotPoint, PlotRoller, PlotZone, coord_ok};
 
@@ -90,28 +93,26 @@ pub(super) fn draw_zones(chart: &F64Chart<'_, '_>, zones: &[PlotZone], filled: b
     Ok(())
 }
 
-pub(super) fn draw_zone_labels(
-    root: &Area<'_>,
-    chart: &F64Chart<'_, '_>,
-    zones: &[PlotZone],
-) -> Result<()> {
+/// Zone labels: inside a corner of the zone (top left first), else just above it.
+pub(super) fn zone_labels(chart: &F64Chart<'_, '_>, zones: &[PlotZone]) -> Vec<Request> {
+    let mut out = Vec::new();
     for zn in zones {
         let Some(r) = zone_rect(zn) else { continue };
-        let (x, y) = chart.backend_coord(&(r[0].0, r[1].1));
+        let (x0, y0) = chart.backend_coord(&(r[0].0, r[1].1));
+        let (x1, y1) = chart.backend_coord(&(r[1].0, r[0].1));
         let label = format!("{} · zone {}", non_empty(&zn.label, &zn.id), zn.zone);
         let c = zone_colour(zn.zone);
         let dark = RGBColor(c.0 / 2 + 10, c.1 / 2 + 10, c.2 / 2 + 10);
-        tag(
-            root,
-            &label,
-            (x + 6, y + 6),
-            HPos::Left,
-            VPos::Top,
-            &text(13.0, dark),
-            true,
-        )?;
+        out.push(
+            Request::new(&label, dark, (x0, y0))
+                .at((x0 + 6, y0 + 6), HPos::Left, VPos::Top)
+                .at((x1 - 6, y0 + 6), HPos::Right, VPos::Top)
+                .at((x0 + 6, y1 - 6), HPos::Left, VPos::Bottom)
+                .at((x1 - 6, y1 - 6), HPos::Right, VPos::Bottom)
+                .at((x0, y0 - 4), HPos::Left, VPos::Bottom),
+        );
     }
-    Ok(())
+    out
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
@@ -186,51 +187,56 @@ pub(super) fn draw_rollers(
     Ok(())
 }
 
-/// Roller ids: inside the roller when it is large enough, else above to the right.
-pub(super) fn draw_roller_labels(
-    root: &Area<'_>,
+/// Roller ids: inside the roller when it is large enough (fixed there), else beside it
+/// (above right first); the outline of a small roller is kept clear where possible.
+pub(super) fn roller_labels(
     chart: &F64Chart<'_, '_>,
     rollers: &[PlotRoller],
-) -> Result<()> {
+) -> (Vec<Request>, Vec<PxBox>) {
     let scale = px_per_m(chart);
+    let (mut out, mut keep_clear) = (Vec::new(), Vec::new());
     for r in rollers.iter().filter(|r| roller_ok(r)) {
         let e = earthing(&r.earthing);
         let pr = r.radius * scale;
         let c = chart.backend_coord(&(r.center[0], r.center[1]));
         let on_dark = e == Earthing::Grounded;
-        let style = text(13.0, if on_dark { WHITE } else { INK });
-        let (tw, _) = text_size(root, &r.id, &style)?;
+        let (tw, _) = measure(&r.id, LABEL_FONT);
         if pr >= 16.0 && pr >= f64::from(tw) / 2.0 + 6.0 {
-            tag(
-                root,
-                &r.id,
+            let mut q = Request::new(&r.id, if on_dark { WHITE } else { INK }, c).at(
                 (c.0, c.1 + 5),
                 HPos::Center,
                 VPos::Top,
-                &style,
-                false,
-            )?;
+            );
+            q.boxed = false;
+            q.fixed = true;
+            out.push(q);
         } else {
-            let off = (pr * std::f64::consts::FRAC_1_SQRT_2) as i32;
-            tag(
-                root,
-                &r.id,
-                (c.0 + off + 4, c.1 - off - 2),
-                HPos::Left,
-                VPos::Bottom,
-                &text(13.0, INK),
-                true,
-            )?;
+            let p = pr.min(1e4) as i32;
+            let off = (pr.min(1e4) * std::f64::consts::FRAC_1_SQRT_2) as i32;
+            // the square inside the roller is kept clear (its labels sit off its corners)
+            keep_clear.push([c.0 - off, c.1 - off, c.0 + off, c.1 + off]);
+            out.push(
+                Request::new(&r.id, INK, c)
+                    .at((c.0 + off + 5, c.1 - off - 4), HPos::Left, VPos::Bottom)
+                    .at((c.0 + off + 5, c.1 + off + 4), HPos::Left, VPos::Top)
+                    .at((c.0 - off - 5, c.1 - off - 4), HPos::Right, VPos::Bottom)
+                    .at((c.0 - off - 5, c.1 + off + 4), HPos::Right, VPos::Top)
+                    .at((c.0, c.1 - p - 4), HPos::Center, VPos::Bottom)
+                    .at((c.0, c.1 + p + 4), HPos::Center, VPos::Top),
+            );
         }
     }
-    Ok(())
+    (out, keep_clear)
 }
 
+/// Draws the devices as bars; returns their labels (under the bar first) and the bars'
+/// boxes, to be kept clear.
 pub(super) fn draw_markers(
     root: &Area<'_>,
     chart: &F64Chart<'_, '_>,
     markers: &[PlotMarker],
-) -> Result<()> {
+) -> Result<(Vec<Request>, Vec<PxBox>)> {
+    let (mut out, mut keep_clear) = (Vec::new(), Vec::new());
     for m in markers {
         if !(coord_ok(m.x) && coord_ok(m.z)) {
             continue;
@@ -250,18 +256,17 @@ pub(super) fn draw_markers(
                 INK.stroke_width(1),
             ))?;
         }
+        keep_clear.push([x - 12, y - 4, x + 12, y + 8]);
         let dark = RGBColor(0, 84, 76);
-        tag(
-            root,
-            non_empty(&m.label, &m.id),
-            (x, y + 11),
-            HPos::Center,
-            VPos::Top,
-            &text(13.0, dark),
-            true,
-        )?;
+        out.push(
+            Request::new(non_empty(&m.label, &m.id), dark, (x, y))
+                .at((x, y + 11), HPos::Center, VPos::Top)
+                .at((x, y - 7), HPos::Center, VPos::Bottom)
+                .at((x + 16, y), HPos::Left, VPos::Center)
+                .at((x - 16, y), HPos::Right, VPos::Center),
+        );
     }
-    Ok(())
+    Ok((out, keep_clear))
 }
 
 pub(super) fn point_kinds(points: &[PlotPoint]) -> Vec<String> {
@@ -283,12 +288,32 @@ pub(super) fn diamond(c: (i32, i32), r: i32) -> Vec<(i32, i32)> {
     ]
 }
 
+/// Whether an across-web position `y` [m] lies in the plotted band `plane` [m] (a
+/// non-finite `y` does not: such a point is never drawn as if on the web).
+pub(super) fn on_plane(y: f64, plane: [f64; 2]) -> bool {
+    let (lo, hi) = (plane[0].min(plane[1]), plane[0].max(plane[1]));
+    y.is_finite() && y >= lo && y <= hi
+}
+
+/// The label of a point: its id, with its y when it is off the plotted plane.
+pub(super) fn point_label(p: &PlotPoint, plane: [f64; 2]) -> String {
+    if on_plane(p.y, plane) {
+        p.id.clone()
+    } else {
+        format!("{} (y = {} m)", p.id, fmt_num(p.y))
+    }
+}
+
+/// Draws the points, a filled diamond on the plotted plane `plane` and a hollow one off
+/// it; returns their labels (above right first) and the diamonds' boxes.
 pub(super) fn draw_points(
     root: &Area<'_>,
     chart: &F64Chart<'_, '_>,
     points: &[PlotPoint],
-) -> Result<()> {
+    plane: [f64; 2],
+) -> Result<(Vec<Request>, Vec<PxBox>)> {
     let kinds = point_kinds(points);
+    let (mut out, mut keep_clear) = (Vec::new(), Vec::new());
     for p in points {
         if !(coord_ok(p.x) && coord_ok(p.z)) {
             continue;
@@ -296,16 +321,29 @@ pub(super) fn draw_points(
         let c = chart.backend_coord(&(p.x, p.z));
         let colour = kind_colour(&kinds, &p.kind);
         root.draw(&Polygon::new(diamond(c, 8), WHITE.filled()))?;
-        root.draw(&Polygon::new(diamond(c, 6), colour.filled()))?;
-        tag(
-            root,
-            &p.id,
-            (c.0 + 9, c.1 - 6),
-            HPos::Left,
-            VPos::Bottom,
-            &text(13.0, colour),
-            true,
-        )?;
+        if on_plane(p.y, plane) {
+            root.draw(&Polygon::new(diamond(c, 6), colour.filled()))?;
+        } else {
+            draw_hollow(root, c, colour)?;
+        }
+        keep_clear.push([c.0 - 8, c.1 - 8, c.0 + 8, c.1 + 8]);
+        out.push(
+            Request::new(&point_label(p, plane), colour, c)
+                .at((c.0 + 11, c.1 - 6), HPos::Left, VPos::Bottom)
+                .at((c.0 + 11, c.1 + 6), HPos::Left, VPos::Top)
+                .at((c.0 - 11, c.1 - 6), HPos::Right, VPos::Bottom)
+                .at((c.0 - 11, c.1 + 6), HPos::Right, VPos::Top)
+                .at((c.0, c.1 - 11), HPos::Center, VPos::Bottom)
+                .at((c.0, c.1 + 11), HPos::Center, VPos::Top),
+        );
     }
+    Ok((out, keep_clear))
+}
+
+/// A hollow diamond: the mark of a point off the plotted plane.
+pub(super) fn draw_hollow(root: &Area<'_>, c: (i32, i32), colour: RGBColor) -> Result<()> {
+    let mut d = diamond(c, 6);
+    d.push(d[0]);
+    root.draw(&PathElement::new(d, colour.stroke_width(2)))?;
     Ok(())
 }

@@ -6,8 +6,8 @@
 use plotters::prelude::RGBColor;
 
 use super::{
-    ChargeCurve, FieldGrid, PlotArc, PlotMarker, PlotPoint, PlotRoller, PlotSpan, PlotZone,
-    SideView,
+    ChargeCurve, ConductorLayer, FieldGrid, PlotArc, PlotConductor, PlotLimit, PlotMarker,
+    PlotPoint, PlotRoller, PlotSpan, PlotZone, SideView,
 };
 
 /// Decodes a PNG with the `png` crate and checks that it is 8-bit RGB; returns
@@ -106,12 +106,14 @@ pub(super) fn view() -> SideView {
                 id: "P1".into(),
                 kind: "meter".into(),
                 x: 0.5,
+                y: 0.0,
                 z: 1.0,
             },
             PlotPoint {
                 id: "P2".into(),
                 kind: "operator".into(),
                 x: 1.5,
+                y: 1.1,
                 z: 0.5,
             },
         ],
@@ -122,6 +124,7 @@ pub(super) fn view() -> SideView {
             label: String::new(),
         }],
         ground: Some(0.0),
+        plane: [-0.5, 0.5],
     }
 }
 
@@ -165,8 +168,83 @@ pub(super) fn curve() -> ChargeCurve {
             (1.05, "E1".into()),
             (2.0, "C".into()),
         ],
-        limits: vec![(8e-6, "alert".into())],
+        limits: vec![PlotLimit {
+            sigma: 8e-6,
+            label: "alert".into(),
+            spans: vec![[0.5, 1.5], [2.0, 3.0]],
+        }],
         extra,
         markers: vec![(1.5, -1e-6, -1.5e-6, -0.5e-6, "P1".into())],
     }
+}
+
+/// A crowded invented line: rollers of every earthing state close together, zones of
+/// every number, points of many kinds (some beside the web) bunched round one roller,
+/// devices, conductors of both earthings and a floor.
+pub(super) fn crowded() -> (SideView, ConductorLayer) {
+    let mut v = view();
+    let states = ["grounded", "isolated", "insulating", "unknown"];
+    for k in 0..12 {
+        let x = 0.25 * f64::from(k);
+        v.rollers.push(PlotRoller {
+            id: format!("R{k}"),
+            center: [x, 1.2 + 0.1 * f64::from(k % 3)],
+            radius: 0.03,
+            earthing: states[k as usize % 4].into(),
+        });
+    }
+    for (k, n) in [0u8, 1, 2, 20, 21, 22, 7].into_iter().enumerate() {
+        let x = 0.3 * k as f64;
+        v.zones.push(PlotZone {
+            id: format!("Z{k}"),
+            label: format!("invented process area {k}"),
+            x: [x, x + 0.5],
+            z: [0.9, 1.6],
+            zone: n,
+        });
+    }
+    let kinds = [
+        "meter",
+        "operator",
+        "electronics",
+        "probe",
+        "sensor",
+        "nozzle",
+        "hand",
+        "check",
+    ];
+    for k in 0..16 {
+        v.points.push(PlotPoint {
+            id: format!("Q{k}"),
+            kind: kinds[k % kinds.len()].into(),
+            x: 1.0 + 0.02 * k as f64,
+            y: if k % 3 == 0 { 1.1 } else { 0.0 },
+            z: 1.3 + 0.015 * k as f64,
+        });
+    }
+    for k in 0..4 {
+        v.markers.push(PlotMarker {
+            id: format!("E{k}"),
+            x: 1.05 + 0.03 * f64::from(k),
+            z: 1.35,
+            label: format!("E{k} (bar)"),
+        });
+    }
+    let layer = ConductorLayer {
+        conductors: vec![
+            PlotConductor {
+                id: "frame plate".into(),
+                outline: vec![[1.0, 0.2], [1.3, 0.2], [1.3, 1.4], [1.0, 1.4]],
+                earthing: "grounded".into(),
+            },
+            PlotConductor {
+                id: "cart".into(),
+                outline: vec![[1.1, 0.3], [1.5, 0.3], [1.5, 1.3], [1.1, 1.3]],
+                earthing: "isolated".into(),
+            },
+        ],
+        inside: Vec::new(),
+        in_field: false,
+    };
+    (v, layer)
 }
