@@ -188,8 +188,8 @@ fn readings_output_shows_the_reading_as_entered() {
         String::from_utf8_lossy(&out.stderr)
     );
     assert!(s.contains("as entered"), "{s}");
-    // 1800 V / 0.0254 m = 70 866 V/m.
-    assert!(s.contains("1.8 kV/in at 1 in  70.87 kV/m"), "{s}");
+    // 1800 V / 0.0254 m = 70 866 V/m, shown to 3 significant digits.
+    assert!(s.contains("1.8 kV/in at 1 in  70.9 kV/m"), "{s}");
     assert!(
         s.contains("recorded: R1: meter FM-2 s/n 4411, calibrated on 2024-03-18, RH 45 %, web at 1 m/s (60 m/min)"),
         "{s}"
@@ -253,7 +253,7 @@ fn the_report_inputs_show_the_record_and_the_humidity_note() {
         std::fs::read_to_string(crate::util::only_report(&out).join("report.md")).unwrap()
     };
     let md = report(&recorded_line(RECORD));
-    assert!(md.contains("| 1.8 kV/in at 1 in | 70.87 kV/m |"), "{md}");
+    assert!(md.contains("| 1.8 kV/in at 1 in | 70.9 kV/m |"), "{md}");
     assert!(
         md.contains("| R1 | FM-2 s/n 4411 | 2024-03-18 | 45 % | 1 m/s (60 m/min) |"),
         "{md}"

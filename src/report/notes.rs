@@ -7,7 +7,13 @@ use crate::charge::{ChargeSegment, SegmentOrigin};
 use crate::model::Line;
 use crate::readings::{FitMethod, ROLLER_CLEARANCE, ReadingNote};
 use crate::report::finding_text::meter_distance_text;
-use crate::units::{Dim, format_quantity, format_quantity_sig};
+use crate::units::{Dim, format_quantity_sig};
+
+/// Numbers in notes read to three significant digits, as the findings'
+/// values (results.json keeps full precision).
+fn format_quantity(x: f64, d: Dim) -> String {
+    format_quantity_sig(x, d, 3)
+}
 
 /// A reading's warning in words.
 pub fn reading_note(n: &ReadingNote) -> String {

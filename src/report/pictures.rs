@@ -190,7 +190,8 @@ fn lowest_field_limit(profiles: &[ThresholdProfile]) -> Option<(f64, String)> {
         .min_by(|a, b| a.0.total_cmp(&b.0))
 }
 
-/// The charge-density failure limits the findings apply, one per profile rule, each with
+/// The charge-density failure limits the findings apply (the warning limit of a rule that
+/// has no failure limit), one per profile rule, each with
 /// the arc-length extents [m] of the spans it was applied to (a zone's limit covers the
 /// zone's spans only), spans that meet merged into one extent.
 pub fn charge_limits(line: &Line, assessment: &Assessment) -> Vec<plot::PlotLimit> {
@@ -199,8 +200,13 @@ pub fn charge_limits(line: &Line, assessment: &Assessment) -> Vec<plot::PlotLimi
         if f.dim != Dim::SurfaceChargeDensity {
             continue;
         }
-        let Some(v) = f.fail else { continue };
-        let label = format!("{}/{} fail", f.profile, f.rule);
+        // The failure limit, or the warning limit of a warn-only rule.
+        let (v, kind) = match (f.fail, f.warn) {
+            (Some(x), _) => (x, "fail"),
+            (None, Some(w)) => (w, "warn"),
+            (None, None) => continue,
+        };
+        let label = format!("{}/{} {kind}", f.profile, f.rule);
         let extent = match f.subject {
             Subject::Span(i) => line.path.spans.get(i).map(|s| [s.s_start, s.s_end]),
             _ => None,
