@@ -384,6 +384,14 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
         chrono::Utc::now(),
     );
     report.plan = plan_section;
+    let meters = crate::assess::meter::every_span(
+        line,
+        &model,
+        crate::assess::meter::DEFAULT_METER_DISTANCE,
+    )?;
+    for (s, m) in report.spans.iter_mut().zip(meters) {
+        s.meter = m;
+    }
     report.conductors = model.conductor_results()?;
     let places: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
     report.conductor_accuracy = model.conductor_accuracy(&places)?;

@@ -205,6 +205,19 @@ pub fn span_worst(
     largest(line, model, k, places, d)
 }
 
+/// The largest meter-equivalent reading at distance `d` on every span of
+/// the line, in span order (information for the results: what a meter
+/// survey of the line would find at worst on each span).
+pub fn every_span(
+    line: &Line,
+    model: &dyn FieldAt,
+    d: Meters,
+) -> Result<Vec<Option<MeterEquivalent>>, FieldError> {
+    (0..line.path.spans.len())
+        .map(|k| span_worst(line, model, k, d))
+        .collect()
+}
+
 /// The largest meter-equivalent reading at distance `d` on span `k` near
 /// the item at `item` (see the module documentation), on the item's side.
 pub fn near_item(

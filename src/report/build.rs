@@ -42,6 +42,10 @@ pub struct SpanResult {
     pub sigma_peak: f64,
     /// Ids of the zones the span's rectangle touches.
     pub zones: Vec<String>,
+    /// The largest reading a field meter would give on the span at its
+    /// calibration distance (information; `None` when not computed or no
+    /// place on the span can hold a meter).
+    pub meter: Option<crate::assess::meter::MeterEquivalent>,
 }
 
 /// A point's results.
@@ -360,6 +364,7 @@ pub fn build_report(
             label: s.label(),
             sigma_peak: charge.peak_between(s.s_start, s.s_end),
             zones: zones_touching(&line.zones, &|z| z.touches_span(s, line.web.width)),
+            meter: None,
             row,
         })
         .collect();

@@ -114,11 +114,15 @@ pub fn points_csv(r: &Report) -> String {
 /// `spans.csv`: one row per span.
 pub fn spans_csv(r: &Report) -> String {
     let mut s = String::from(
-        "id,label,from_to,length_m,angle_deg,sigma_start_C_per_m2,sigma_end_C_per_m2,sigma_peak_C_per_m2,zones\n",
+        "id,label,from_to,length_m,angle_deg,sigma_start_C_per_m2,sigma_end_C_per_m2,sigma_peak_C_per_m2,meter_reading_V,meter_distance_m,zones\n",
     );
     for sp in &r.spans {
+        let (reading, distance) = match sp.meter {
+            Some(m) => (format!("{:?}", m.reading()), format!("{:?}", m.distance)),
+            None => (String::new(), String::new()),
+        };
         s.push_str(&format!(
-            "{},{},{},{:?},{:?},{:?},{:?},{:?},{}\n",
+            "{},{},{},{:?},{:?},{:?},{:?},{:?},{reading},{distance},{}\n",
             sp.row.name,
             field_text(&sp.label),
             field_text(&sp.row.from_to),

@@ -577,6 +577,15 @@ pub fn layout(r: &Report) -> Vec<Section> {
                 q(s.row.sigma_start, Dim::SurfaceChargeDensity),
                 q(s.row.sigma_end, Dim::SurfaceChargeDensity),
                 q(s.sigma_peak, Dim::SurfaceChargeDensity),
+                s.meter
+                    .map(|m| {
+                        format!(
+                            "{} at {}",
+                            crate::units::format_quantity_sig(m.reading(), Dim::Voltage, 3),
+                            super::finding_text::meter_distance_text(m.distance)
+                        )
+                    })
+                    .unwrap_or_else(|| "—".into()),
                 if s.zones.is_empty() {
                     "—".into()
                 } else {
@@ -624,6 +633,7 @@ pub fn layout(r: &Report) -> Vec<Section> {
                     "σ start",
                     "σ end",
                     "|σ| peak",
+                    "meter reading (worst)",
                     "zones",
                 ],
                 span_rows,

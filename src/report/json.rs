@@ -148,13 +148,24 @@ pub fn results_json(r: &Report) -> String {
         .iter()
         .map(|sp| {
             format!(
-                "    {{\"id\": {}, \"label\": {}, \"sigma_start\": {}, \"sigma_end\": {}, \"sigma_peak\": {}, \"length\": {}}}",
+                "    {{\"id\": {}, \"label\": {}, \"sigma_start\": {}, \"sigma_end\": {}, \"sigma_peak\": {}, \"length\": {}{}}}",
                 string(&sp.row.name),
                 string(&sp.label),
                 num(sp.row.sigma_start),
                 num(sp.row.sigma_end),
                 num(sp.sigma_peak),
-                num(sp.row.length)
+                num(sp.row.length),
+                // Only where computed (assess and demo), as information.
+                sp.meter
+                    .map(|m| format!(
+                        ", \"meter_reading\": {}, \"meter_distance\": {}, \"meter_at\": [{}, {}, {}]",
+                        num(m.reading()),
+                        num(m.distance),
+                        num(m.at[0]),
+                        num(m.at[1]),
+                        num(m.at[2])
+                    ))
+                    .unwrap_or_default()
             )
         })
         .collect();
