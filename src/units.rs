@@ -1078,6 +1078,23 @@ mod tests {
         assert_relative_eq!(p("10 ft/s", Dim::Speed), 3.048, max_relative = REL);
     }
 
+    /// Areas: 1 cm² = 1e-4 m², 1 mm² = 1e-6 m² (SI prefixes squared, BIPM SI
+    /// Brochure 2019), 1 in² = 6.4516e-4 m² exactly (NIST SP 811, appendix
+    /// B); shown in cm² below 1 m² as the area limits of IEC TS 60079-32-1
+    /// are written.
+    #[test]
+    fn area_units() {
+        assert_eq!(p("1 m^2", Dim::Area), 1.0);
+        assert_relative_eq!(p("50 cm^2", Dim::Area), 0.005, max_relative = REL);
+        assert_relative_eq!(p("50 cm²", Dim::Area), 0.005, max_relative = REL);
+        assert_relative_eq!(p("400 mm^2", Dim::Area), 4e-4, max_relative = REL);
+        assert_relative_eq!(p("1 in^2", Dim::Area), 6.4516e-4, max_relative = REL);
+        assert_eq!(format_quantity(0.005, Dim::Area), "50 cm²");
+        assert_eq!(format_quantity(4e-4, Dim::Area), "4 cm²");
+        assert_eq!(format_quantity(1.2, Dim::Area), "1.2 m²");
+        assert!(msg("0.005", Dim::Area).contains("cm^2"));
+    }
+
     /// Surface resistivity in ohms per square (IEC 61340-2-3), however written.
     #[test]
     fn surface_resistivity_units() {

@@ -618,7 +618,8 @@ fn isolated_roller_near_a_zone() {
 
 /// U_b = thickness × dielectric strength: 30 µm × 200 kV/mm = 6 kV ≥ 4 kV
 /// (TRGS 727) warns; 10 µm gives 2 kV and passes. Without a dielectric
-/// strength: one warning on the web, value 0, margin 0.
+/// strength: one warning on the web, the value taken at the 4 kV warning
+/// limit (never a warning below its own limit), margin 1.
 #[test]
 fn propagating_brush_breakdown_voltage() {
     let z = zone("Z1", 1, "IIB", "0.19 mJ", [0.5, -1.0, 0.5], [1.5, 1.0, 1.5]);
@@ -654,7 +655,7 @@ fn propagating_brush_breakdown_voltage() {
     assert_eq!(f.len(), 1);
     assert_eq!(
         (f[0].verdict, f[0].value, f[0].margin),
-        (Verdict::Warn, 0.0, 0.0)
+        (Verdict::Warn, 4e3, 1.0)
     );
     assert_eq!(f[0].subject_kind, SubjectKind::Web);
     assert!(f[0].note.contains("breakdown_strength not given"));
@@ -666,13 +667,14 @@ fn propagating_brush_breakdown_voltage() {
 
 // --------------------------------------------------- order and contents
 
-/// Findings sorted by verdict (fail first), then margin; the assessment's
+/// Findings sorted by verdict (fail first), then class of harm, then
+/// margin; the assessment's
 /// verdict is the worst. Contributions: largest |E| first, summing to the
 /// total field (superposition).
 #[test]
 fn findings_are_sorted_and_carry_contributions() {
-    // No breakdown_strength and a zone 1 box on S1: the propagating-brush
-    // warning has margin 0, below the margins of passing findings.
+    // No breakdown_strength and a zone 1 box on S1: a propagating-brush
+    // warning on the web taken at its limit, among other warnings.
     let text = format!(
         "{}path:\n  - point: [0 m, 1 m]\n  - point: [1 m, 1 m]\n  - point: [1.5 m, 1.6 m]\n  - point: [3 m, 1.6 m]\n{}points:\n  - {{id: OP, kind: operator, at: [1.2 m, 0.2 m, 1.05 m]}}\n  - {{id: EL, kind: electronics, at: [2 m, 0 m, 1.62 m]}}\nzones:\n{}",
         web(""),

@@ -124,8 +124,9 @@
 //!   above 2.5e-4 C/m² per face and a strong charging process, which the
 //!   model cannot see, so this is a necessary condition only. Without
 //!   `breakdown_strength` one finding on the web as a whole (when the rule
-//!   has subjects) with verdict **warn**, value 0 and margin 0 (a Finding
-//!   never carries NaN): the hazard cannot be ruled out.
+//!   has subjects) with verdict **warn**, the value taken at the warning
+//!   limit (stated in its note; a Finding never carries NaN, and a warning
+//!   is never below its own limit): the hazard cannot be ruled out.
 //!
 //! | symbol | meaning | unit |
 //! | --- | --- | --- |

@@ -460,8 +460,15 @@ impl<'a> Run<'a> {
             return;
         }
         let Some(eb) = web.breakdown_strength else {
+            // Not known: taken at the warning limit (stated in the note),
+            // so the warning's value is never below its own limit.
             let limit = rule.fail.or(rule.warn);
-            self.count(Verdict::Warn, 0.0);
+            let value = rule.warn.or(rule.fail).unwrap_or(0.0);
+            let margin = match limit {
+                Some(l) if l > 0.0 => value / l,
+                _ => 0.0,
+            };
+            self.count(Verdict::Warn, margin);
             if !self.keep {
                 return;
             }
@@ -471,14 +478,14 @@ impl<'a> Run<'a> {
                 check: rule.what.clone(),
                 hazard: rule.hazard,
                 subject: Subject::Web,
-                value: 0.0,
+                value,
                 meter: None,
                 ratio: None,
                 dim: rule.dim,
                 limit: limit.unwrap_or(0.0),
                 warn: rule.warn,
                 fail: rule.fail,
-                margin: 0.0,
+                margin,
                 verdict: Verdict::Warn,
                 source: rule.source.clone(),
                 confidence: rule.confidence,

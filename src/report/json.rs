@@ -229,7 +229,7 @@ pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
         .map(|w| string(&super::notes::reading_note(w)))
         .collect();
     format!(
-        "{{\"id\": {}, \"span\": {}, \"position\": {}, \"distance\": {}, \"reading\": {}, \"field\": {}, \"sigma\": {}, \"sigma_low\": {}, \"sigma_high\": {}, \"sigma_naive_isolated\": {}, \"sigma_naive_one_sided\": {}, \"sigma_model\": {}, \"residual\": {}{}, \"warnings\": [{}]}}",
+        "{{\"id\": {}, \"span\": {}, \"position\": {}, \"distance\": {}, \"reading\": {}, \"field\": {}, \"sigma\": {}, \"sigma_low\": {}, \"sigma_high\": {}, \"sigma_naive_isolated\": {}, \"sigma_naive_one_sided\": {}, \"sigma_model\": {}, \"residual\": {}{}, \"recorded\": {}, \"warnings\": [{}]}}",
         string(&x.id),
         string(&x.span),
         num(x.position),
@@ -248,7 +248,27 @@ pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
         x.screening
             .map(|k| format!(", \"screening\": {}", num(k)))
             .unwrap_or_default(),
+        recorded_object(&x.record),
         warnings.join(", ")
+    )
+}
+
+/// What was recorded with a reading: the texts as typed and the optional
+/// instrument and conditions (SI: humidity as a fraction, speed in m/s).
+fn recorded_object(r: &crate::model::ReadingRecord) -> String {
+    let text = |v: Option<&str>| v.map(string).unwrap_or_else(|| "null".into());
+    let opt = |v: Option<f64>| v.map(num).unwrap_or_else(|| "null".into());
+    format!(
+        "{{\"value\": {}, \"distance\": {}, \"calibrated_at\": {}, \"meter\": {}, \"calibrated_on\": {}, \"relative_humidity\": {}, \"speed\": {}}}",
+        string(&r.value_text),
+        string(&r.distance_text),
+        text(r.calibrated_at_text.as_deref()),
+        text(r.meter.as_deref()),
+        r.calibrated_on
+            .map(|d| string(&d.format("%Y-%m-%d").to_string()))
+            .unwrap_or_else(|| "null".into()),
+        opt(r.relative_humidity),
+        opt(r.speed)
     )
 }
 

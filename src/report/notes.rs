@@ -362,7 +362,7 @@ pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
             len(*thickness),
             format_quantity(*strength, Dim::Field)
         ),
-        FindingNote::NoBreakdownStrength => "breakdown_strength not given: cannot rule out propagating brush discharges (value shown as 0)".to_string(),
+        FindingNote::NoBreakdownStrength => "breakdown_strength not given: the breakdown voltage is unknown and taken at the warning limit — propagating brush discharges cannot be ruled out (give the web's dielectric strength to assess it)".to_string(),
         FindingNote::WebCurrent {
             current,
             sigma_in,
