@@ -130,6 +130,7 @@ fn finding(
         value,
         meter: None,
         ratio: Some(rule.ratio),
+        per_inch: false,
         dim: crate::units::Dim::Number,
         limit,
         warn,

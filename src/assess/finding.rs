@@ -309,6 +309,8 @@ pub struct Finding {
     pub meter: Option<Meters>,
     /// For a dimensionless value: what ratio it is (`5·I′/I_ion`).
     pub ratio: Option<&'static str>,
+    /// A field whose rule states its limits per inch: shown per inch.
+    pub per_inch: bool,
     /// Dimension of value and limits, for formatting.
     pub dim: Dim,
     /// The governing limit: the failure limit if the rule has one, else the

@@ -166,6 +166,8 @@ pub struct FindingRow {
     pub meter: Option<crate::units::Meters>,
     /// What a dimensionless value is.
     pub ratio: Option<&'static str>,
+    /// A field shown per inch, as its rule states it.
+    pub per_inch: bool,
     /// The governing limit, SI.
     pub limit: f64,
     /// Warning limit, SI.
@@ -200,6 +202,7 @@ impl FindingRow {
             dim: f.dim,
             meter: f.meter,
             ratio: f.ratio,
+            per_inch: f.per_inch,
             limit: f.limit,
             warn: f.warn,
             fail: f.fail,

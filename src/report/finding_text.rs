@@ -21,6 +21,8 @@ pub struct Shown {
     pub meter: Option<Meters>,
     /// What a dimensionless value is.
     pub ratio: Option<&'static str>,
+    /// A field shown per inch.
+    pub per_inch: bool,
     /// Warning limit, SI.
     pub warn: Option<f64>,
     /// Failure limit, SI.
@@ -38,6 +40,7 @@ impl From<&Finding> for Shown {
             dim: f.dim,
             meter: f.meter,
             ratio: f.ratio,
+            per_inch: f.per_inch,
             warn: f.warn,
             fail: f.fail,
             limit: f.limit,
@@ -53,6 +56,7 @@ impl From<&FindingRow> for Shown {
             dim: f.dim,
             meter: f.meter,
             ratio: f.ratio,
+            per_inch: f.per_inch,
             warn: f.warn,
             fail: f.fail,
             limit: f.limit,
@@ -82,6 +86,14 @@ pub fn meter_distance_text(d: Meters) -> String {
 /// A number of the finding's dimension with its unit, the meter distance
 /// or the ratio it is.
 fn quantity(f: &Shown, x: f64) -> String {
+    if f.per_inch && f.dim == Dim::Field {
+        // V/m × 0.0254 m/in = V/in; the SI value beside it.
+        return format!(
+            "{}/in ({})",
+            format_quantity_sig(x * INCH, Dim::Voltage, SIG),
+            format_quantity_sig(x, f.dim, SIG)
+        );
+    }
     let base = format_quantity_sig(x, f.dim, SIG);
     match (f.meter, f.ratio, f.dim) {
         (Some(d), _, _) => format!("{base} at {}", meter_distance_text(d)),
@@ -192,6 +204,25 @@ mod tests {
             assert!(!margin_text(m).starts_with("0.00×"), "{m}");
             assert_ne!(margin_text(m), "0×", "{m}");
         }
+    }
+
+    /// A field limit written per inch reads per inch, the SI value beside
+    /// it: 2000 V/in = 78 740 V/m (1 in = 0.0254 m, NIST SP 811).
+    #[test]
+    fn a_per_inch_field_reads_per_inch() {
+        let f = Shown {
+            value: 65_500.0,
+            dim: Dim::Field,
+            meter: None,
+            ratio: None,
+            per_inch: true,
+            warn: None,
+            fail: Some(2000.0 / INCH),
+            limit: 2000.0 / INCH,
+            verdict: Verdict::Pass,
+        };
+        assert_eq!(value_text(f), "1.66 kV/in (65.5 kV/m)");
+        assert_eq!(limit_text(f), "fail 2 kV/in (78.7 kV/m)");
     }
 
     #[test]

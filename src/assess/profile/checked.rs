@@ -304,6 +304,9 @@ pub struct Rule {
     /// d of the field meter whose reading |E_n|·d the limits are stated in
     /// [m] (`"5 kV at 1 in"`; 1 in when the limits give none).
     pub meter_distance: Option<Meters>,
+    /// A field rule whose limits were written per inch (`2000 V/in`): its
+    /// findings are shown per inch too, as the source states them.
+    pub per_inch: bool,
     /// Dimension of the value and the limits.
     pub dim: Dim,
     /// Where the limits come from.

@@ -275,6 +275,11 @@ fn validate_rule(ctx: &mut Ctx, r: &RawRule, p: &str) -> Option<Rule> {
         near: limits.near,
         far: limits.far,
         meter_distance: limits.meter_distance,
+        per_inch: check.dim() == Dim::Field
+            && [&r.warn, &r.fail]
+                .into_iter()
+                .flatten()
+                .any(|v| per_inch_text(v.as_str())),
         dim: check.dim(),
         source: source.into(),
         confidence,
@@ -301,6 +306,12 @@ struct Limits {
     far: Option<Separation>,
     /// The meter's calibration distance of a meter check [m].
     meter_distance: Option<Meters>,
+}
+
+/// Whether a field written as text is per inch (`2000 V/in`, `2 kV/inch`).
+fn per_inch_text(t: &str) -> bool {
+    let t = t.trim().to_lowercase();
+    t.ends_with("/in") || t.ends_with("/inch")
 }
 
 /// `"5 kV at 1 in"` → `("5 kV", "1 in")`; `None` without ` at `.
