@@ -270,4 +270,14 @@ pub struct FieldMap {
 pub trait FieldAt: Sync {
     /// Field and potential at `at`; with `contributions`, also per span.
     fn field_at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError>;
+
+    /// Whether this is a precomputed superposition that holds exactly the
+    /// points a full assessment of the same geometry asked for (the
+    /// planner's): a point it does not hold
+    /// ([`FieldError::NotPrecomputed`]) is one the full assessment found no
+    /// use for, so callers may skip their geometric checks and skip such a
+    /// point instead.
+    fn is_precomputed(&self) -> bool {
+        false
+    }
 }

@@ -290,4 +290,9 @@ impl FieldAt for Fast<'_> {
             contributions: Vec::new(),
         })
     }
+
+    /// It holds every point the recorded full assessment asked for.
+    fn is_precomputed(&self) -> bool {
+        true
+    }
 }
