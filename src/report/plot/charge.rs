@@ -248,7 +248,16 @@ fn charge(c: &ChargeCurve, width: u32, height: u32) -> Result<(Vec<u8>, Layout)>
             }
             let Some(last) = extents.last() else { continue };
             let (x, py) = chart.backend_coord(&(last[1], y));
-            let text_l = format!("{} ({} µC/m²)", non_empty(&l.label, "limit"), fmt_num(y));
+            // Three significant digits, as the findings show the limit.
+            let text_l = format!(
+                "{} ({})",
+                non_empty(&l.label, "limit"),
+                crate::units::format_quantity_sig(
+                    y * 1e-6,
+                    crate::units::Dim::SurfaceChargeDensity,
+                    3
+                )
+            );
             tag(
                 root,
                 &text_l,

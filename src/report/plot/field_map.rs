@@ -93,7 +93,12 @@ fn field_map(
     let any_nan = (0..g.e_mag.len()).any(|k| !inside(k) && !g.e_mag[k].is_finite());
     let mut items = Vec::new();
     if let Some((e, l)) = limit {
-        let text = format!("{} ({} kV/m)", non_empty(l, "limit"), fmt_num(e / 1e3));
+        // Three significant digits, as the findings show the limit.
+        let text = format!(
+            "{} ({})",
+            non_empty(l, "limit"),
+            crate::units::format_quantity_sig(*e, crate::units::Dim::Field, 3)
+        );
         let drawn = segs.as_ref().is_some_and(|s| !s.is_empty());
         let text = if drawn {
             text

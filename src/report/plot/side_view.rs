@@ -206,7 +206,7 @@ mod layout_tests {
             "{:?}",
             first.lines
         );
-        assert!(first.label.ends_with("(78.7402 kV/m)"), "{}", first.label);
+        assert!(first.label.ends_with("(78.7 kV/m)"), "{}", first.label);
         for e in &fl.legend {
             for (line, b) in e.lines.iter().zip(&e.text) {
                 assert!(contains(e.room, *b), "{line:?}");
