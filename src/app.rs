@@ -45,7 +45,7 @@ pub fn run(cli: Cli) -> Result<Outcome> {
 
 fn print_warnings(line: &Line) {
     for w in &line.warnings {
-        eprintln!("warning: {w}");
+        eprintln!("warning: {}", crate::safe_text::printable_message(&w.to_string()));
     }
 }
 
@@ -123,7 +123,7 @@ fn quiet_pipe(e: std::io::Error) -> Result<()> {
 /// Reading warnings go to stderr.
 fn print_reading_warnings(r: &ReadingsResult) {
     for w in readings_text::reading_warnings(r) {
-        eprintln!("warning: {w}");
+        eprintln!("warning: {}", crate::safe_text::printable_message(&w.to_string()));
     }
 }
 
@@ -136,7 +136,13 @@ fn line_charge(line: &Line, scene: &Scene) -> Result<ReadingsResult> {
 }
 
 fn check(a: &CheckArgs) -> Result<Outcome> {
-    let (line, scene, r) = load_with_charge(&a.line, solver_with(1e-9, &a.conductors)?)?;
+    let settings = solver_with(1e-9, &a.conductors)?;
+    let line = load_line(&a.line)?;
+    print_warnings(&line);
+    // The profiles `assess` would apply exist and are valid.
+    crate::assess::load_profiles(&line.assess, &[], &a.line.display().to_string())?;
+    let scene = Scene::new(&line, settings)?;
+    let r = line_charge(&line, &scene)?;
     let conductors = scene.web(&r.charge).conductor_results()?;
     let s = summary::check_text(
         &line,
@@ -284,7 +290,7 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
         }
     }
     if let Some(w) = accuracy.as_ref().and_then(field_out::accuracy_warning) {
-        eprintln!("warning: {w}");
+        eprintln!("warning: {}", crate::safe_text::printable_message(&w.to_string()));
     }
     out.flush().or_else(quiet_pipe)?;
     Ok(Outcome::Pass)
@@ -331,7 +337,8 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     use crate::report::{build, folder};
     check_out_dir(job.out)?;
     let line = &job.line;
-    let profiles = crate::assess::load_profiles(&line.assess, job.extra_profiles)?;
+    let profiles =
+        crate::assess::load_profiles(&line.assess, job.extra_profiles, &job.line_file)?;
     let analysis = crate::pipeline::analyse(
         line,
         &profiles,
@@ -492,7 +499,11 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
             out.display()
         );
     }
-    let profiles = crate::assess::load_profiles(&line.assess, &a.profiles)?;
+    let profiles = crate::assess::load_profiles(
+        &line.assess,
+        &a.profiles,
+        &a.line.display().to_string(),
+    )?;
     let tty = std::io::stderr().is_terminal();
     let progress = move |done: usize, total: usize| {
         if tty && total > 20000 {

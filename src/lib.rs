@@ -30,6 +30,8 @@
 //! - [`pipeline`]: the stages chained;
 //! - [`report`]: every word and picture a person sees; writers that only
 //!   format;
+//! - [`safe_text`]: the characters refused in user text, and user text made
+//!   safe to echo;
 //! - [`units`]: SI inside, units parsed and formatted at the edges;
 //! - [`yaml`]: the one place YAML is parsed.
 //!
@@ -51,6 +53,7 @@ pub mod plan;
 pub mod points;
 pub mod readings;
 pub mod report;
+pub mod safe_text;
 pub mod units;
 pub mod yaml;
 

@@ -8,7 +8,9 @@ fn main() {
     let code = match app::run(cli) {
         Ok(outcome) => outcome.exit_code(),
         Err(e) => {
-            eprintln!("error: {e:#}");
+            // No user text may reach the terminal as a control code.
+            let message = websigma::safe_text::printable_message(&format!("{e:#}"));
+            eprintln!("error: {message}");
             EXIT_ERROR
         }
     };

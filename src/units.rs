@@ -439,6 +439,19 @@ pub enum ParseQuantityError {
         /// The expected dimension.
         dim: Dim,
     },
+    /// The number is written in hexadecimal, octal or binary (`0x10`,
+    /// `0o17`, `0b101`), or with digit separators (`1_000`), which YAML 1.1
+    /// readers would take as other numbers than the digits shown.
+    #[error(
+        "{} is not a decimal number (hexadecimal, octal and binary forms such as 0x10, and digit separators such as 1_000, are not accepted): expected {} such as \"{}\"",
+        echo(.input), .dim.name(), .dim.example()
+    )]
+    NotDecimal {
+        /// The trimmed input.
+        input: String,
+        /// The expected dimension.
+        dim: Dim,
+    },
     /// The number is `NaN` or an infinity.
     #[error(
         "{} is not a finite number: expected {} such as \"{}\"",
@@ -714,6 +727,12 @@ fn parse_impl(
             dim,
         });
     }
+    if is_non_decimal(text) {
+        return Err(ParseQuantityError::NotDecimal {
+            input: owned(),
+            dim,
+        });
+    }
     let Some(lead) = split_number(text) else {
         return Err(ParseQuantityError::NotANumber {
             input: owned(),
@@ -778,6 +797,22 @@ fn parse_impl(
     checked(lead.value * def.mul / def.div, text, dim)
 }
 
+/// Whether `text` begins with a number written other than in decimal
+/// digits: a `0x`/`0o`/`0b` prefix (after an optional sign) or a `_` digit
+/// separator inside the leading number.
+fn is_non_decimal(text: &str) -> bool {
+    let t = text.trim_start_matches(['+', '-']);
+    let b = t.as_bytes();
+    if b.len() >= 2 && b[0] == b'0' && matches!(b[1], b'x' | b'X' | b'o' | b'O' | b'b' | b'B') {
+        return true;
+    }
+    let lead: &str = t
+        .split(|c: char| !(c.is_ascii_digit() || c == '_' || c == '.'))
+        .next()
+        .unwrap_or("");
+    lead.contains('_')
+}
+
 /// Parse text such as `"25 mm"` as a quantity of dimension `dim` and return its
 /// SI value ([m], [m/s], [C/m²], [V/m], [V], [F], [C], [Ω·m], [J], [s], a fraction
 /// for percentages, or the plain number).
@@ -840,6 +875,19 @@ pub fn parse_quantity_or(
     bare_unit_factor: f64,
 ) -> Result<f64, ParseQuantityError> {
     parse_impl(input, dim, Some(bare_unit_factor))
+}
+
+/// A point or a position `[x, y, z]` (or `[x, z]`) for messages: every
+/// coordinate a length as [`format_quantity`] shows it (4 significant
+/// digits, SI prefix).
+///
+/// ```
+/// use websigma::units::format_point;
+/// assert_eq!(format_point(&[1.5, 0.0, 0.025]), "[1.5 m, 0 m, 25 mm]");
+/// ```
+pub fn format_point(p: &[f64]) -> String {
+    let parts: Vec<String> = p.iter().map(|&x| format_quantity(x, Dim::Length)).collect();
+    format!("[{}]", parts.join(", "))
 }
 
 /// Format an SI value of dimension `dim` for people: 4 significant digits,

@@ -8,6 +8,13 @@
 //! tail (the location is kept apart, for the `L:C:` prefix of an
 //! [`Issue`]), and with serde's internal type names (`struct RawWeb`)
 //! replaced by words a user can act on.
+//!
+//! Before the typed reading, every text is screened for what a YAML reader
+//! would otherwise accept silently or reinterpret ([`screen`],
+//! [`check_texts`]): tags (`!!binary`, `!!python/object`, `!foo`), a second
+//! document (located at its `---`), duplicate keys anywhere, control and
+//! invisible characters in any text, and texts longer than a line
+//! description needs ([`text_limit`]).
 
 use crate::model::{Issue, ValidationError};
 use serde::de::DeserializeOwned;
@@ -20,6 +27,9 @@ pub struct YamlError {
     pub message: String,
     /// `(line, column)` in the text, when the parser gave one.
     pub location: Option<(usize, usize)>,
+    /// YAML path of the value at fault (`rollers[2].id`), empty when the
+    /// parser gave only a location.
+    pub path: String,
     /// The document as a whole has the wrong type (a scalar or a list where
     /// a mapping was expected), as opposed to a value inside it.
     pub wrong_document_type: bool,
@@ -29,6 +39,9 @@ impl fmt::Display for YamlError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         if let Some((l, c)) = self.location {
             write!(f, "{l}:{c}: ")?;
+        }
+        if !self.path.is_empty() {
+            write!(f, "{}: ", self.path)?;
         }
         f.write_str(&self.message)
     }
@@ -41,7 +54,7 @@ impl From<YamlError> for ValidationError {
     fn from(e: YamlError) -> Self {
         ValidationError {
             issues: vec![Issue {
-                path: String::new(),
+                path: e.path,
                 location: e.location,
                 message: e.message,
             }],
@@ -49,21 +62,269 @@ impl From<YamlError> for ValidationError {
     }
 }
 
-/// Deserialises `text` into `T`.
+/// Deserialises `text` into `T`, after the screening of [`screen`] and
+/// [`check_texts`].
 pub fn from_str<T: DeserializeOwned>(text: &str) -> Result<T, YamlError> {
-    serde_yaml::from_str::<T>(text).map_err(|e| {
-        let full = e.to_string();
-        // serde_yaml appends " at line L column C"; the location is kept apart.
-        let message = full.split(" at line ").next().unwrap_or_default();
-        let type_name = std::any::type_name::<T>();
-        let short = type_name.rsplit("::").next().unwrap_or(type_name);
-        YamlError {
-            wrong_document_type: message.contains("invalid type")
-                && message.contains(&format!("expected struct {short}")),
-            message: tidy(message),
-            location: e.location().map(|l| (l.line(), l.column())),
+    screen(text)?;
+    let value: serde_yaml::Value = serde_yaml::from_str(text).map_err(|e| convert::<T>(&e))?;
+    check_texts(&value, &mut String::new(), None)?;
+    serde_yaml::from_str::<T>(text).map_err(|e| convert::<T>(&e))
+}
+
+/// A parser error in our words, its location apart.
+fn convert<T>(e: &serde_yaml::Error) -> YamlError {
+    let full = e.to_string();
+    // serde_yaml appends " at line L column C"; the location is kept apart.
+    let message = full.split(" at line ").next().unwrap_or_default();
+    let type_name = std::any::type_name::<T>();
+    let short = type_name.rsplit("::").next().unwrap_or(type_name);
+    // libyaml adds where the enclosing node began: ", while parsing a flow
+    // sequence at line 3 column 6" — kept, as "begun at 3:6".
+    let context = full
+        .split_once(", while ")
+        .map(|(_, t)| {
+            let t = t.trim_end_matches(|c: char| c.is_ascii_digit()).to_string();
+            let lc: Vec<&str> = full.rsplit(" at line ").next().unwrap_or("").split(" column ").collect();
+            match t.split_once(" at line ") {
+                Some((what, _)) if lc.len() == 2 => format!(", while {what} begun at {}:{}", lc[0], lc[1]),
+                _ => String::new(),
+            }
+        })
+        .unwrap_or_default();
+    let message = if message.contains("more than one document") {
+        "the file holds more than one YAML document: expected one (remove the `---` line and what follows, or split the file)".to_string()
+    } else {
+        tidy(&format!("{message}{context}"))
+    };
+    YamlError {
+        wrong_document_type: full.contains("invalid type")
+            && full.contains(&format!("expected struct {short}")),
+        message,
+        location: e.location().map(|l| (l.line(), l.column())),
+        path: String::new(),
+    }
+}
+
+/// Most characters a text value may hold, by key: titles 200, names 120,
+/// free text (`description`, `note`, `source`, `what`) 4000, every other
+/// value 200 (quantities, ids and keywords are short). Keys themselves hold
+/// at most 64. Long texts would only bury a report's layout (and a plot's
+/// text layout grows with them), so they are refused with the bound.
+pub fn text_limit(key: Option<&str>) -> (usize, bool) {
+    match key {
+        Some("description" | "note" | "source" | "what") => (4000, false),
+        Some("name" | "material" | "meter") => (120, true),
+        _ => (200, true),
+    }
+}
+
+/// Most characters of a mapping key.
+const KEY_LIMIT: usize = 64;
+
+/// Checks every text of `value` (keys included): no refused character
+/// ([`crate::safe_text::classify`]; line breaks only in free text) and no
+/// more characters than [`text_limit`]. `path` is the YAML path so far;
+/// `key` the key the value sits under. The first problem is returned with
+/// its path.
+pub fn check_texts(
+    value: &serde_yaml::Value,
+    path: &mut String,
+    key: Option<&str>,
+) -> Result<(), YamlError> {
+    use serde_yaml::Value;
+    let fail = |path: &str, message: String| YamlError {
+        message,
+        location: None,
+        path: path.to_string(),
+        wrong_document_type: false,
+    };
+    match value {
+        Value::String(s) => {
+            let (limit, one_line) = text_limit(key);
+            check_one(s, limit, one_line).map_err(|m| fail(path, m))
         }
-    })
+        Value::Sequence(items) => {
+            for (i, item) in items.iter().enumerate() {
+                let n = path.len();
+                path.push_str(&format!("[{i}]"));
+                check_texts(item, path, key)?;
+                path.truncate(n);
+            }
+            Ok(())
+        }
+        Value::Mapping(m) => {
+            for (k, v) in m {
+                let n = path.len();
+                let name = match k {
+                    Value::String(k) => {
+                        let at = if path.is_empty() { "(a key)".to_string() } else { format!("{path} (a key)") };
+                        check_one(k, KEY_LIMIT, true).map_err(|m| fail(&at, m))?;
+                        k.clone()
+                    }
+                    Value::Number(x) => x.to_string(),
+                    Value::Bool(b) => b.to_string(),
+                    _ => {
+                        return Err(fail(
+                            path,
+                            "a key that is not a plain word: expected keys such as `id:` or `diameter:`".into(),
+                        ));
+                    }
+                };
+                if !path.is_empty() {
+                    path.push('.');
+                }
+                path.push_str(&name);
+                check_texts(v, path, Some(&name))?;
+                path.truncate(n);
+            }
+            Ok(())
+        }
+        Value::Tagged(t) => Err(fail(
+            path,
+            format!("a YAML tag ({}) is not accepted: write the value as plain text", t.tag),
+        )),
+        Value::Null | Value::Bool(_) | Value::Number(_) => Ok(()),
+    }
+}
+
+/// One text against its limit and the refused characters.
+fn check_one(s: &str, limit: usize, one_line: bool) -> Result<(), String> {
+    let n = s.chars().count();
+    if n > limit {
+        return Err(format!(
+            "the text has {n} characters: at most {limit} are accepted here (it is shown in reports and plots; shorten it)"
+        ));
+    }
+    if let Some((i, c, why)) = crate::safe_text::first_bad(s, one_line) {
+        return Err(format!(
+            "character {i} of the text is {} ({}): not accepted",
+            why.words(),
+            c.escape_unicode()
+        ));
+    }
+    Ok(())
+}
+
+/// Finds, in the text itself, what the YAML reader would take silently: a
+/// tag (`!!binary`, `!!python/object`, `!foo`, `!<...>`), which changes how
+/// a value is read or is ignored, and the start of a second document (a
+/// `---` line after content, or content after a `...` line), which the
+/// reader refuses without a location. Quoted strings, comments and block
+/// scalars (`|`, `>`) are skipped.
+pub fn screen(text: &str) -> Result<(), YamlError> {
+    let at = |l: usize, c: usize, message: String| YamlError {
+        message,
+        location: Some((l, c)),
+        path: String::new(),
+        wrong_document_type: false,
+    };
+    let mut quote: Option<char> = None;
+    // Indentation of the line that opened a block scalar, while inside it.
+    let mut block: Option<usize> = None;
+    let mut content = false;
+    let mut ended = false;
+    for (n, line) in text.lines().enumerate() {
+        let l = n + 1;
+        let indent = line.len() - line.trim_start_matches(' ').len();
+        if let Some(b) = block {
+            if line.trim().is_empty() || indent > b {
+                continue;
+            }
+            block = None;
+        }
+        let mut chars: Vec<char> = line.chars().collect();
+        if quote.is_none() {
+            let marker = |m: &str| {
+                line.starts_with(m) && line[3..].chars().next().is_none_or(char::is_whitespace)
+            };
+            if marker("---") {
+                if content || ended {
+                    return Err(at(
+                        l,
+                        1,
+                        "a second YAML document begins here: a file holds one document (remove this `---` line and what follows, or split the file)".into(),
+                    ));
+                }
+                chars = line[3..].chars().collect();
+                chars.insert(0, ' ');
+                chars.insert(0, ' ');
+                chars.insert(0, ' ');
+            } else if marker("...") {
+                ended = true;
+                continue;
+            }
+        }
+        let mut prev: Option<char> = None;
+        let mut i = 0;
+        while i < chars.len() {
+            let c = chars[i];
+            let col = i + 1;
+            match quote {
+                Some('\'') => {
+                    if c == '\'' {
+                        if chars.get(i + 1) == Some(&'\'') {
+                            i += 1;
+                        } else {
+                            quote = None;
+                        }
+                    }
+                }
+                Some(_) => {
+                    if c == '\\' {
+                        i += 1;
+                    } else if c == '"' {
+                        quote = None;
+                    }
+                }
+                None => {
+                    let start = prev.is_none_or(|p| p.is_whitespace() || "[{,".contains(p));
+                    if c == '#' && prev.is_none_or(char::is_whitespace) {
+                        break;
+                    }
+                    if !c.is_whitespace() {
+                        if ended {
+                            return Err(at(
+                                l,
+                                col,
+                                "content after the end of the document (`...`): a file holds one document".into(),
+                            ));
+                        }
+                        content = true;
+                    }
+                    if start {
+                        match c {
+                            '\'' | '"' => quote = Some(c),
+                            '!' => {
+                                let tag: String =
+                                    chars[i..].iter().take_while(|c| !c.is_whitespace()).take(40).collect();
+                                return Err(at(
+                                    l,
+                                    col,
+                                    format!(
+                                        "a YAML tag ({}) is not accepted: tags change how a value is read, or are ignored; write the value as plain text",
+                                        crate::safe_text::printable(&tag)
+                                    ),
+                                ));
+                            }
+                            '|' | '>' => {
+                                let rest: String = chars[i + 1..].iter().collect();
+                                let rest = rest.trim_start_matches(|c: char| c.is_ascii_digit() || c == '+' || c == '-');
+                                let rest = rest.trim_start();
+                                if rest.is_empty() || rest.starts_with('#') {
+                                    block = Some(indent);
+                                    break;
+                                }
+                            }
+                            _ => {}
+                        }
+                    }
+                }
+            }
+            prev = Some(c);
+            i += 1;
+        }
+    }
+    Ok(())
 }
 
 /// Whether a text holds nothing but blank lines and `#` comments.

@@ -453,13 +453,13 @@ mod conductors {
             &format!(
                 "readings:\n  - {{span: S2, position: 50 %, distance: 100 mm, side: above, reading: 10 kV/m}}\n{cab}"
             ),
-            "readings[0].distance: the meter would stand at [1.0000 m, 0.0000 m, 1.1500 m]: the point lies inside conductor CAB",
+            "readings[0].distance: the meter would stand at [1 m, 0 m, 1.15 m]: the point lies inside conductor CAB",
         );
         refused(
             &format!(
                 "eliminators:\n  - {{id: E1, kind: powered, span: S2, position: 50 %, distance: 100 mm, side: above}}\n{cab}"
             ),
-            "eliminators[0].distance: the bar would stand at [1.0000 m, 1.1500 m]: the point lies inside conductor CAB",
+            "eliminators[0].distance: the bar would stand at [1 m, 1.15 m]: the point lies inside conductor CAB",
         );
         // A point on a plate.
         refused(

@@ -100,7 +100,9 @@ impl fmt::Display for PointProblem {
         match self {
             PointProblem::BelowGround { z, ground } => write!(
                 f,
-                "z = {z:.4} m is below the ground plane at z = {ground:.4} m: the model has no field there"
+                "z = {} is below the ground plane at z = {}: the model has no field there",
+                crate::units::format_quantity(*z, crate::units::Dim::Length),
+                crate::units::format_quantity(*ground, crate::units::Dim::Length)
             ),
             PointProblem::InsideRoller { roller } => write!(
                 f,

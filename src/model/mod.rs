@@ -394,6 +394,10 @@ impl Side {
     }
 }
 
+/// Calibrated distance assumed for a voltage reading that gives none [m]
+/// (25 mm = 1 inch, the usual calibration of hand-held meters; FACTS.md).
+pub const DEFAULT_CALIBRATION: Meters = 0.025;
+
 /// What a reading measured.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum ReadingValue {

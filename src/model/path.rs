@@ -331,8 +331,11 @@ pub fn build_path(nodes: Vec<NodeSpec>, rollers: &[Roller]) -> Result<WebPath, V
                     problems.push(PathProblem {
                         node: i,
                         message: format!(
-                            "the point [{:.4} m, {:.4} m] lies inside roller {} (centre [{:.4} m, {:.4} m], radius {:.4} m): move the point outside the roller",
-                            p[0], p[1], r.id, r.center[0], r.center[1], r.radius
+                            "the point {} lies inside roller {} (centre {}, radius {}): move the point outside the roller",
+                            crate::units::format_point(&p),
+                            r.id,
+                            crate::units::format_point(&r.center),
+                            crate::units::format_quantity(r.radius, crate::units::Dim::Length)
                         ),
                     });
                 }

@@ -16,9 +16,87 @@ use super::*;
 use crate::physics::isolated_sheet_limit;
 use crate::units::{Dim, EPS0, parse_quantity};
 
+/// A length for a message (4 significant digits, SI prefix).
+fn len_text(x: f64) -> String {
+    crate::units::format_quantity(x, Dim::Length)
+}
+
 /// Densities above this [C/m²] are refused as a likely unit error: about 19
 /// times what air can hold on an isolated sheet.
 pub const ABSURD_SIGMA: f64 = 1e-3;
+
+/// Largest length or coordinate accepted [m]: a web line, its building and
+/// its surroundings fit within 10 km of the line's origin; larger values are
+/// unit errors (and would make the field-map grid meaningless).
+pub const MAX_LENGTH: f64 = 10e3;
+
+/// Smallest non-zero length accepted [m]: 0.1 µm, below the thinnest webs
+/// (films of about 1.5 µm) and any distance a meter or a model resolves.
+pub const MIN_LENGTH: f64 = 1e-7;
+
+/// Fastest web speed accepted [m/s]: 50 m/s (3000 m/min). The fastest paper
+/// machines run near 2000 m/min (about 33 m/s; common practice, from
+/// memory); a faster value is a unit error.
+pub const MAX_SPEED: f64 = 50.0;
+
+/// Why a parsed value lies outside what a plant can hold, or `None`.
+fn out_of_plant(x: f64, dim: Dim) -> Option<String> {
+    let q = |v: f64| crate::units::format_quantity(v, dim);
+    match dim {
+        Dim::Length if x.abs() > MAX_LENGTH => Some(format!(
+            "{} is beyond 10 km: every length and coordinate of a line lies within 10 km of its origin (check the unit)",
+            q(x)
+        )),
+        Dim::Length if x != 0.0 && x.abs() < MIN_LENGTH => Some(format!(
+            "{} is below 0.1 µm: no length of a web line is that small except zero (check the unit)",
+            q(x)
+        )),
+        Dim::Speed if x.abs() > MAX_SPEED => Some(format!(
+            "{} is above 50 m/s (3000 m/min): no web line runs that fast (the fastest paper machines run near 2000 m/min); check the unit",
+            q(x)
+        )),
+        _ => None,
+    }
+}
+
+/// Longest lists a line description may hold, `(key, most entries)`: far
+/// more than any line needs, and bounds on the work (every roller and
+/// conductor adds panels to the conductors' solve, every point, reading and
+/// eliminator adds field evaluations).
+pub const MAX_ENTRIES: [(&str, usize); 9] = [
+    ("rollers", 200),
+    ("path", 400),
+    ("charge", 400),
+    ("points", 500),
+    ("zones", 100),
+    ("assess", 20),
+    ("readings", 200),
+    ("eliminators", 50),
+    ("conductors", 100),
+];
+
+/// Lists longer than [`MAX_ENTRIES`] allows, each an issue at its key.
+fn check_list_lengths(ctx: &mut Ctx, raw: &RawLine) {
+    let lens = [
+        raw.rollers.len(),
+        raw.path.len(),
+        raw.charge.len(),
+        raw.points.len(),
+        raw.zones.len(),
+        raw.assess.len(),
+        raw.readings.len(),
+        raw.eliminators.len(),
+        raw.conductors.len(),
+    ];
+    for ((key, most), n) in MAX_ENTRIES.iter().zip(lens) {
+        if n > *most {
+            ctx.err(
+                *key,
+                format!("{n} entries: at most {most} are accepted (far more than a line needs; each adds to the work of every run): split the line or remove entries"),
+            );
+        }
+    }
+}
 
 struct Ctx {
     issues: Vec<Issue>,
@@ -41,7 +119,13 @@ impl Ctx {
     }
     fn qty(&mut self, v: &Scalar, dim: Dim, path: &str) -> Option<f64> {
         match parse_quantity(v.as_str(), dim) {
-            Ok(x) => Some(x),
+            Ok(x) => match out_of_plant(x, dim) {
+                None => Some(x),
+                Some(why) => {
+                    self.err(path, why);
+                    None
+                }
+            },
             Err(e) => {
                 self.err(path, e.to_string());
                 None
@@ -145,6 +229,10 @@ pub fn validate(raw: &RawLine) -> Result<Line, ValidationError> {
         issues: Vec::new(),
         warnings: Vec::new(),
     };
+    check_list_lengths(&mut ctx, raw);
+    if !ctx.issues.is_empty() {
+        return Err(ValidationError { issues: ctx.issues });
+    }
     let title = raw
         .line
         .as_ref()
@@ -475,10 +563,10 @@ fn validate_rollers(
                     ctx.err(
                         format!("{p}.center"),
                         format!(
-                            "roller {id} overlaps roller {} (centres {:.4} m apart, radii add up to {:.4} m): move it or check the diameter",
+                            "roller {id} overlaps roller {} (centres {} apart, radii add up to {}): move it or check the diameter",
                             o.id,
-                            dist,
-                            radius + o.radius
+                            len_text(dist),
+                            len_text(radius + o.radius)
                         ),
                     );
                 }
@@ -488,7 +576,7 @@ fn validate_rollers(
             {
                 ctx.err(
                         format!("{p}.center"),
-                        format!("roller {id} reaches below the ground plane at z = {g:.4} m: raise it or lower ground_plane"),
+                        format!("roller {id} reaches below the ground plane at z = {}: raise it or lower ground_plane", crate::units::format_quantity(g, Dim::Length)),
                     );
             }
             out.push(Roller {
@@ -706,7 +794,7 @@ fn validate_across(ctx: &mut Ctx, raw: &RawLine, width: f64) -> Option<AcrossPro
             if t[0].0 > -h + 1e-12 || t[t.len() - 1].0 < h - 1e-12 {
                 ctx.err(
                     "across_profile.table",
-                    format!("the table must cover the whole web, y from {:.4} m to {:.4} m; it covers {:.4} m to {:.4} m", -h, h, t[0].0, t[t.len() - 1].0),
+                    format!("the table must cover the whole web, y from {} to {}; it covers {} to {}", len_text(-h), len_text(h), len_text(t[0].0), len_text(t[t.len() - 1].0)),
                 );
                 return None;
             }
@@ -735,7 +823,7 @@ fn check_spans(ctx: &mut Ctx, path: &WebPath, rollers: &[Roller], ground: Option
         {
             ctx.err(
                     "ground_plane",
-                    format!("span {} runs below the ground plane at z = {g:.4} m: raise the path or lower ground_plane", span.label()),
+                    format!("span {} runs below the ground plane at z = {}: raise the path or lower ground_plane", span.label(), crate::units::format_quantity(g, Dim::Length)),
                 );
         }
         // A span that cuts through a roller it does not wrap.
@@ -870,14 +958,28 @@ fn validate_charge(
             ctx.err(
                 format!("{p}.{key}"),
                 format!(
-                    "{} is about {:.0} times what air can hold on a sheet (2·ε0·Eb ≈ 53 µC/m²): likely a unit error — densities on webs are a few µC/m²",
+                    "{} is about {} times what air can hold on a sheet (2·ε0·Eb ≈ 53 µC/m²): likely a unit error — densities on webs are a few µC/m²",
                     crate::units::format_quantity(sigma, Dim::SurfaceChargeDensity),
-                    sigma.abs() / isolated_sheet_limit()
+                    crate::units::format_quantity(sigma.abs() / isolated_sheet_limit(), Dim::Number)
                 ),
             );
             continue;
         }
         if let Some(s) = s {
+            if mode == ChargeMode::Set
+                && let Some(first) = out
+                    .iter()
+                    .find(|o: &&ChargeEntry| o.mode == ChargeMode::Set && o.s == s)
+            {
+                ctx.err(
+                    format!("{p}.sigma"),
+                    format!(
+                        "{} already sets the density leaving \"{at}\": a second `sigma:` at the same place would silently replace it; keep one (or write `adds:` to add to it)",
+                        first.yaml_path.trim_end_matches(".sigma")
+                    ),
+                );
+                continue;
+            }
             if (s - path.total_length).abs() < 1e-12 && !path.spans.is_empty() {
                 ctx.warn(format!("{p}.at"), format!("charge leaving the last node \"{at}\" is outside the modelled path and has no effect"));
             }
@@ -1220,6 +1322,22 @@ fn validate_readings(ctx: &mut Ctx, raw: &RawLine, scene: &Obstacles) -> Vec<Rea
                 None
             }
         };
+        if let Some((e, key)) = match value {
+            Some(ReadingValue::Field(e)) => Some((e, "reading")),
+            Some(ReadingValue::Voltage(v, c)) => {
+                Some((v / c.unwrap_or(super::DEFAULT_CALIBRATION), "voltage"))
+            }
+            _ => None,
+        } && e.abs() > 10.0 * crate::physics::AIR_BREAKDOWN_FIELD
+        {
+            ctx.err(
+                format!("{p}.{key}"),
+                format!(
+                    "the reading implies {}, more than 10 times the 3 MV/m air can hold: no meter reads that over a web (check the unit)",
+                    crate::units::format_quantity(e, Dim::Field)
+                ),
+            );
+        }
         let record = reading_record(ctx, r, web, &p);
         let (
             Some(id),
@@ -1238,8 +1356,8 @@ fn validate_readings(ctx: &mut Ctx, raw: &RawLine, scene: &Obstacles) -> Vec<Rea
             ctx.err(
                 format!("{p}.distance"),
                 format!(
-                    "the meter would stand at [{:.4} m, {:.4} m, {:.4} m]: {msg}",
-                    at[0], at[1], at[2]
+                    "the meter would stand at {}: {msg}",
+                    crate::units::format_point(&at)
                 ),
             );
             continue;
@@ -1577,8 +1695,8 @@ fn validate_eliminators(ctx: &mut Ctx, raw: &RawLine, scene: &Obstacles) -> Vec<
             ctx.err(
                 format!("{p}.distance"),
                 format!(
-                    "the bar would stand at [{:.4} m, {:.4} m]: {msg}",
-                    at[0], at[2]
+                    "the bar would stand at {}: {msg}",
+                    crate::units::format_point(&[at[0], at[2]])
                 ),
             );
             continue;

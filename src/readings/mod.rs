@@ -66,9 +66,7 @@ use crate::model::{Line, NodeKind, Reading, ReadingRecord, ReadingValue};
 use crate::physics::AIR_BREAKDOWN_FIELD;
 use crate::units::{EPS0, Meters, VoltsPerMeter};
 
-/// Calibrated distance assumed for a voltage reading that gives none [m]
-/// (25 mm = 1 inch, the usual calibration of hand-held meters; FACTS.md).
-pub const DEFAULT_CALIBRATION: Meters = 0.025;
+pub use crate::model::DEFAULT_CALIBRATION;
 
 /// Up to this many meters, the bounds try every combination of meter
 /// distances at ± the tolerance (2^M solves); beyond, one meter at a time.

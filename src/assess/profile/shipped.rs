@@ -46,22 +46,50 @@ pub fn shipped() -> Vec<(&'static str, &'static str)> {
 
 /// The profiles a line names (`assess:`) and the `extra` ones (each once,
 /// in that order), with the air limit added ([`with_air_limit`]).
-pub fn load_profiles(names: &[String], extra: &[String]) -> anyhow::Result<Vec<ThresholdProfile>> {
+///
+/// Errors name where the profile was asked for: the line file `line_file`
+/// and `assess[i]` for the line's list, `--profile NAME` for the extra ones. The shipped names are
+/// reserved: a profile file may not take one (it would replace or shadow a
+/// shipped profile, and the air limit must always apply), and two profiles
+/// in force may not share a name (their findings would carry the same
+/// label).
+pub fn load_profiles(
+    names: &[String],
+    extra: &[String],
+    line_file: &str,
+) -> anyhow::Result<Vec<ThresholdProfile>> {
     use anyhow::Context;
-    let mut all: Vec<&String> = names.iter().collect();
-    for e in extra {
-        if !all.contains(&e) {
-            all.push(e);
+    let mut asked: Vec<(&String, String)> = Vec::new();
+    for (i, n) in names.iter().enumerate() {
+        if !asked.iter().any(|(a, _)| *a == n) {
+            asked.push((
+                n,
+                format!("invalid line description '{line_file}': assess[{i}]"),
+            ));
         }
     }
-    let mut out = Vec::new();
-    for n in all {
-        out.push(load_profile(n).with_context(|| format!("threshold profile \"{n}\""))?);
+    for e in extra {
+        if !asked.iter().any(|(a, _)| *a == e) {
+            asked.push((e, format!("--profile {e}")));
+        }
     }
-    Ok(with_air_limit(out))
+    let mut out: Vec<(ThresholdProfile, String)> = Vec::new();
+    for (n, place) in asked {
+        let p = load_profile(n).with_context(|| place.clone())?;
+        if let Some((_, first)) = out.iter().find(|(q, _)| q.name == p.name) {
+            anyhow::bail!(
+                "{place}: the threshold profile '{n}' is named '{}', like the one of {first}: two profiles in force need two names",
+                p.name
+            );
+        }
+        out.push((p, place));
+    }
+    Ok(with_air_limit(out.into_iter().map(|(p, _)| p).collect()))
 }
 
-/// Loads a shipped profile by name, or else a profile file by path.
+/// Loads a shipped profile by name, or else a profile file by path. A
+/// profile file named like a shipped profile is refused (the shipped names
+/// are reserved).
 pub fn load_profile(name_or_path: &str) -> anyhow::Result<ThresholdProfile> {
     let list = shipped();
     if let Some((_, text)) = list.iter().find(|(n, _)| *n == name_or_path) {
@@ -71,12 +99,21 @@ pub fn load_profile(name_or_path: &str) -> anyhow::Result<ThresholdProfile> {
     let names: Vec<&str> = list.iter().map(|(n, _)| *n).collect();
     if !path.is_file() {
         anyhow::bail!(
-            "no threshold profile '{name_or_path}': give a shipped name ({}) or the path of a profile file",
+            "no threshold profile '{}': give a shipped name ({}) or the path of a profile file",
+            crate::safe_text::printable(name_or_path),
             names.join(", ")
         );
     }
     let text = crate::yaml::read_text(path, "threshold profile", MAX_PROFILE_BYTES)?;
-    parse_profile(&text, name_or_path).map_err(|e| problems(name_or_path, &e))
+    let p = parse_profile(&text, name_or_path).map_err(|e| problems(name_or_path, &e))?;
+    if names.contains(&&*p.name) {
+        anyhow::bail!(
+            "invalid threshold profile '{name_or_path}': name: '{}' is the name of a shipped profile; the shipped names ({}) are reserved for the shipped profiles: give this profile a name of its own",
+            p.name,
+            names.join(", ")
+        );
+    }
+    Ok(p)
 }
 
 fn problems(origin: &str, e: &ValidationError) -> anyhow::Error {
@@ -91,8 +128,9 @@ fn problems(origin: &str, e: &ValidationError) -> anyhow::Error {
     anyhow::anyhow!(msg)
 }
 
-/// The profiles with the shipped `air-limit` profile added (first) unless one
-/// of that name is already there: the physical limit of air always applies.
+/// The profiles with the shipped `air-limit` profile added (first) unless it
+/// is already there: the physical limit of air always applies. Only a shipped
+/// profile can carry its name ([`load_profile`] refuses a file that takes it).
 pub fn with_air_limit(mut profiles: Vec<ThresholdProfile>) -> Vec<ThresholdProfile> {
     if profiles.iter().any(|p| &*p.name == AIR_LIMIT) {
         return profiles;
