@@ -45,7 +45,10 @@ pub fn run(cli: Cli) -> Result<Outcome> {
 
 fn print_warnings(line: &Line) {
     for w in &line.warnings {
-        eprintln!("warning: {}", crate::safe_text::printable_message(&w.to_string()));
+        eprintln!(
+            "warning: {}",
+            crate::safe_text::printable_message(&w.to_string())
+        );
     }
 }
 
@@ -123,7 +126,10 @@ fn quiet_pipe(e: std::io::Error) -> Result<()> {
 /// Reading warnings go to stderr.
 fn print_reading_warnings(r: &ReadingsResult) {
     for w in readings_text::reading_warnings(r) {
-        eprintln!("warning: {}", crate::safe_text::printable_message(&w.to_string()));
+        eprintln!(
+            "warning: {}",
+            crate::safe_text::printable_message(&w.to_string())
+        );
     }
 }
 
@@ -290,7 +296,10 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
         }
     }
     if let Some(w) = accuracy.as_ref().and_then(field_out::accuracy_warning) {
-        eprintln!("warning: {}", crate::safe_text::printable_message(&w.to_string()));
+        eprintln!(
+            "warning: {}",
+            crate::safe_text::printable_message(&w.to_string())
+        );
     }
     out.flush().or_else(quiet_pipe)?;
     Ok(Outcome::Pass)
@@ -337,8 +346,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     use crate::report::{build, folder};
     check_out_dir(job.out)?;
     let line = &job.line;
-    let profiles =
-        crate::assess::load_profiles(&line.assess, job.extra_profiles, &job.line_file)?;
+    let profiles = crate::assess::load_profiles(&line.assess, job.extra_profiles, &job.line_file)?;
     let analysis = crate::pipeline::analyse(
         line,
         &profiles,
@@ -499,11 +507,8 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
             out.display()
         );
     }
-    let profiles = crate::assess::load_profiles(
-        &line.assess,
-        &a.profiles,
-        &a.line.display().to_string(),
-    )?;
+    let profiles =
+        crate::assess::load_profiles(&line.assess, &a.profiles, &a.line.display().to_string())?;
     let tty = std::io::stderr().is_terminal();
     let progress = move |done: usize, total: usize| {
         if tty && total > 20000 {

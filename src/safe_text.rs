@@ -57,9 +57,11 @@ pub fn classify(c: char, one_line: bool) -> Option<BadChar> {
             }
         }
         '\t' => None,
-        '\u{200E}' | '\u{200F}' | '\u{061C}' | '\u{202A}'..='\u{202E}' | '\u{2066}'..='\u{2069}' => {
-            Some(BadChar::Bidi)
-        }
+        '\u{200E}'
+        | '\u{200F}'
+        | '\u{061C}'
+        | '\u{202A}'..='\u{202E}'
+        | '\u{2066}'..='\u{2069}' => Some(BadChar::Bidi),
         '\u{200B}'..='\u{200D}'
         | '\u{2060}'..='\u{2064}'
         | '\u{FEFF}'
@@ -139,8 +141,14 @@ mod tests {
 
     #[test]
     fn invisible_and_bidi_characters_are_found_with_their_place() {
-        assert_eq!(first_bad("R\u{200B}1", true), Some((2, '\u{200B}', BadChar::Invisible)));
-        assert_eq!(first_bad("ab\u{202E}c", true), Some((3, '\u{202E}', BadChar::Bidi)));
+        assert_eq!(
+            first_bad("R\u{200B}1", true),
+            Some((2, '\u{200B}', BadChar::Invisible))
+        );
+        assert_eq!(
+            first_bad("ab\u{202E}c", true),
+            Some((3, '\u{202E}', BadChar::Bidi))
+        );
         assert_eq!(first_bad("Rolle µ 1.2 m — ok ε", true), None);
     }
 }

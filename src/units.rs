@@ -633,6 +633,8 @@ fn split_number(s: &str) -> Option<Leading<'_>> {
 /// optionally followed by a unit.
 fn is_non_finite_word(s: &str) -> bool {
     let unsigned = s.strip_prefix(['+', '-']).unwrap_or(s);
+    // YAML's spellings: `.nan`, `.inf`, `-.Inf`.
+    let unsigned = unsigned.strip_prefix('.').unwrap_or(unsigned);
     let word: String = unsigned
         .chars()
         .take_while(char::is_ascii_alphabetic)

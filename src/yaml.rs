@@ -66,9 +66,40 @@ impl From<YamlError> for ValidationError {
 /// [`check_texts`].
 pub fn from_str<T: DeserializeOwned>(text: &str) -> Result<T, YamlError> {
     screen(text)?;
-    let value: serde_yaml::Value = serde_yaml::from_str(text).map_err(|e| convert::<T>(&e))?;
+    let value: serde_yaml::Value = serde_yaml::from_str(text).map_err(|e| {
+        let mut y = convert::<T>(&e);
+        if let Some(at) = duplicate_key_location(text, &y) {
+            y.location = Some(at);
+        }
+        y
+    })?;
     check_texts(&value, &mut String::new(), None)?;
     serde_yaml::from_str::<T>(text).map_err(|e| convert::<T>(&e))
+}
+
+/// Where the second of two equal keys is, for a "duplicate entry" error
+/// that the reader locates at the start of their mapping: the next line, at
+/// the mapping's column, that begins with the key again.
+fn duplicate_key_location(text: &str, e: &YamlError) -> Option<(usize, usize)> {
+    let key = e
+        .message
+        .split_once("duplicate entry with key \"")?
+        .1
+        .strip_suffix('"')?;
+    let (l, c) = e.location?;
+    let mut seen = 0;
+    for (n, line) in text.lines().enumerate().skip(l - 1) {
+        let rest: String = line.chars().skip(c - 1).collect();
+        if let Some(after) = rest.strip_prefix(key)
+            && after.trim_start().starts_with(':')
+        {
+            seen += 1;
+            if seen == 2 {
+                return Some((n + 1, c));
+            }
+        }
+    }
+    None
 }
 
 /// A parser error in our words, its location apart.
@@ -84,9 +115,16 @@ fn convert<T>(e: &serde_yaml::Error) -> YamlError {
         .split_once(", while ")
         .map(|(_, t)| {
             let t = t.trim_end_matches(|c: char| c.is_ascii_digit()).to_string();
-            let lc: Vec<&str> = full.rsplit(" at line ").next().unwrap_or("").split(" column ").collect();
+            let lc: Vec<&str> = full
+                .rsplit(" at line ")
+                .next()
+                .unwrap_or("")
+                .split(" column ")
+                .collect();
             match t.split_once(" at line ") {
-                Some((what, _)) if lc.len() == 2 => format!(", while {what} begun at {}:{}", lc[0], lc[1]),
+                Some((what, _)) if lc.len() == 2 => {
+                    format!(", while {what} begun at {}:{}", lc[0], lc[1])
+                }
                 _ => String::new(),
             }
         })
@@ -157,7 +195,11 @@ pub fn check_texts(
                 let n = path.len();
                 let name = match k {
                     Value::String(k) => {
-                        let at = if path.is_empty() { "(a key)".to_string() } else { format!("{path} (a key)") };
+                        let at = if path.is_empty() {
+                            "(a key)".to_string()
+                        } else {
+                            format!("{path} (a key)")
+                        };
                         check_one(k, KEY_LIMIT, true).map_err(|m| fail(&at, m))?;
                         k.clone()
                     }
@@ -181,7 +223,10 @@ pub fn check_texts(
         }
         Value::Tagged(t) => Err(fail(
             path,
-            format!("a YAML tag ({}) is not accepted: write the value as plain text", t.tag),
+            format!(
+                "a YAML tag ({}) is not accepted: write the value as plain text",
+                t.tag
+            ),
         )),
         Value::Null | Value::Bool(_) | Value::Number(_) => Ok(()),
     }
@@ -203,6 +248,17 @@ fn check_one(s: &str, limit: usize, one_line: bool) -> Result<(), String> {
         ));
     }
     Ok(())
+}
+
+/// Whether a plain token is an integer in another radix (`0x1F`, `0o17`,
+/// `0b101`, with an optional sign).
+fn is_radix_number(token: &str) -> bool {
+    let t = token.trim_start_matches(['+', '-']);
+    let b = t.as_bytes();
+    b.len() > 2
+        && b[0] == b'0'
+        && matches!(b[1], b'x' | b'X' | b'o' | b'O' | b'b' | b'B')
+        && b[2..].iter().all(|c| c.is_ascii_hexdigit() || *c == b'_')
 }
 
 /// Finds, in the text itself, what the YAML reader would take silently: a
@@ -295,8 +351,11 @@ pub fn screen(text: &str) -> Result<(), YamlError> {
                         match c {
                             '\'' | '"' => quote = Some(c),
                             '!' => {
-                                let tag: String =
-                                    chars[i..].iter().take_while(|c| !c.is_whitespace()).take(40).collect();
+                                let tag: String = chars[i..]
+                                    .iter()
+                                    .take_while(|c| !c.is_whitespace())
+                                    .take(40)
+                                    .collect();
                                 return Err(at(
                                     l,
                                     col,
@@ -306,9 +365,27 @@ pub fn screen(text: &str) -> Result<(), YamlError> {
                                     ),
                                 ));
                             }
+                            '0'..='9' | '+' | '-' => {
+                                let token: String = chars[i..]
+                                    .iter()
+                                    .take_while(|c| !c.is_whitespace() && !",]}".contains(**c))
+                                    .collect();
+                                if is_radix_number(&token) {
+                                    return Err(at(
+                                        l,
+                                        col,
+                                        format!(
+                                            "{} is a number in hexadecimal, octal or binary, which YAML would read as another value than the digits shown: write it in decimal",
+                                            crate::safe_text::printable(&token)
+                                        ),
+                                    ));
+                                }
+                            }
                             '|' | '>' => {
                                 let rest: String = chars[i + 1..].iter().collect();
-                                let rest = rest.trim_start_matches(|c: char| c.is_ascii_digit() || c == '+' || c == '-');
+                                let rest = rest.trim_start_matches(|c: char| {
+                                    c.is_ascii_digit() || c == '+' || c == '-'
+                                });
                                 let rest = rest.trim_start();
                                 if rest.is_empty() || rest.starts_with('#') {
                                     block = Some(indent);
@@ -424,6 +501,47 @@ mod tests {
         let e = from_str::<BTreeMap<String, RawThing>>("a: 5\n").unwrap_err();
         assert!(!e.wrong_document_type, "{e}");
         assert!(e.message.contains("expected a mapping of keys"), "{e}");
+    }
+
+    #[test]
+    fn tags_are_found_outside_quotes_comments_and_block_texts() {
+        let e = screen("a: 1\nb: [x, !!str 5]\n").unwrap_err();
+        assert_eq!(e.location, Some((2, 8)), "{e}");
+        assert!(e.message.contains("(!!str)"), "{e}");
+        for fine in [
+            "a: 'it''s !x'\n",
+            "a: \"say \\\" !x\"\n",
+            "a: wow! # !tag in a comment\n",
+            "d: >\n  ! a folded line\n  !! more\nb: 2\n",
+            "note: |\n  ---\n  !x\n",
+            "---\na: 1\n...\n",
+        ] {
+            assert_eq!(screen(fine), Ok(()), "{fine:?}");
+        }
+    }
+
+    #[test]
+    fn a_second_document_and_radix_numbers_are_located() {
+        let e = screen("a: 1\n---\nb: 2\n").unwrap_err();
+        assert_eq!(e.location, Some((2, 1)));
+        let e = screen("a: 1\n...\nb: 2\n").unwrap_err();
+        assert_eq!(e.location, Some((3, 1)));
+        let e = screen("a: [1, 0x1F]\n").unwrap_err();
+        assert_eq!(e.location, Some((1, 8)));
+        assert!(screen("a: 0.5\nb: 0 m\nc: 0b\n").is_ok());
+    }
+
+    #[test]
+    fn texts_are_checked_with_their_path() {
+        let e = from_str::<serde_yaml::Value>("a:\n  - {id: \"x\\u200By\"}\n").unwrap_err();
+        assert_eq!(e.path, "a[0].id");
+        let long = format!("line: {}\n", "x".repeat(201));
+        let e = from_str::<serde_yaml::Value>(&long).unwrap_err();
+        assert!(e.message.contains("at most 200"), "{e}");
+        let note = format!("note: \"{}\\nline two\"\n", "x".repeat(300));
+        assert!(from_str::<serde_yaml::Value>(&note).is_ok());
+        let e = from_str::<serde_yaml::Value>("a: 1\nb:\n  c: 2\n  c: 3\n").unwrap_err();
+        assert_eq!(e.location, Some((4, 3)), "{e}");
     }
 
     #[test]

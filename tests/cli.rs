@@ -49,9 +49,33 @@ fn bad_input_corpus_is_refused_with_located_messages() {
             1,
             "one error message: {stderr}"
         );
+        // `assess` refuses what `check` refuses, with the same message, and
+        // writes nothing.
+        let out_dir = tempfile::tempdir().unwrap();
+        let assess = websigma()
+            .arg("assess")
+            .arg(&path)
+            .arg("--out")
+            .arg(out_dir.path())
+            .timeout(Duration::from_secs(20))
+            .output()
+            .unwrap();
+        assert_eq!(assess.status.code(), Some(2), "{}", path.display());
+        assert_eq!(
+            String::from_utf8_lossy(&assess.stderr),
+            stderr,
+            "{}: assess and check disagree",
+            path.display()
+        );
+        assert_eq!(
+            std::fs::read_dir(out_dir.path()).unwrap().count(),
+            0,
+            "{}: a refused line leaves no report",
+            path.display()
+        );
         n += 1;
     }
-    assert!(n >= 30, "corpus has {n} files");
+    assert!(n >= 60, "corpus has {n} files");
 }
 
 #[test]

@@ -28,6 +28,7 @@ mod eliminators;
 mod findings_terms;
 mod geometry;
 mod inputs;
+mod mutations;
 mod pipeline;
 mod plan;
 mod plots;

@@ -50,7 +50,10 @@ impl<'de> Deserialize<'de> for Scalar {
                 Ok(Scalar(String::new()))
             }
         }
-        deserializer.deserialize_any(ScalarVisitor)
+        // `deserialize_str` hands over the text as written (`0x10`, `0o17`,
+        // `1_000`, `.inf` stay text), where `deserialize_any` would pass the
+        // number YAML 1.1 makes of it; the units parser then judges it.
+        deserializer.deserialize_str(ScalarVisitor)
     }
 }
 

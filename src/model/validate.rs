@@ -794,7 +794,13 @@ fn validate_across(ctx: &mut Ctx, raw: &RawLine, width: f64) -> Option<AcrossPro
             if t[0].0 > -h + 1e-12 || t[t.len() - 1].0 < h - 1e-12 {
                 ctx.err(
                     "across_profile.table",
-                    format!("the table must cover the whole web, y from {} to {}; it covers {} to {}", len_text(-h), len_text(h), len_text(t[0].0), len_text(t[t.len() - 1].0)),
+                    format!(
+                        "the table must cover the whole web, y from {} to {}; it covers {} to {}",
+                        len_text(-h),
+                        len_text(h),
+                        len_text(t[0].0),
+                        len_text(t[t.len() - 1].0)
+                    ),
                 );
                 return None;
             }

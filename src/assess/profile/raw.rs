@@ -4,13 +4,52 @@
 
 use crate::model::raw::Scalar;
 use serde::Deserialize;
+use serde::de;
+use std::fmt;
 
 /// A scalar or a list of scalars (`zone: 1` or `zone: [0, 1]`).
-#[derive(Debug, Clone, Deserialize)]
-#[serde(untagged)]
+#[derive(Debug, Clone)]
 pub(super) enum RawList {
     One(Scalar),
     Many(Vec<Scalar>),
+}
+
+impl<'de> Deserialize<'de> for RawList {
+    /// A list is read element by element as [`Scalar`]s (their text as
+    /// written); a single value as a scalar. (Not `#[serde(untagged)]`: its
+    /// buffering would hand numbers, not their text, to the scalar.)
+    fn deserialize<D: de::Deserializer<'de>>(deserializer: D) -> Result<Self, D::Error> {
+        struct ListVisitor;
+        impl<'de> de::Visitor<'de> for ListVisitor {
+            type Value = RawList;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a value or a list of values")
+            }
+            fn visit_seq<A: de::SeqAccess<'de>>(self, mut seq: A) -> Result<RawList, A::Error> {
+                let mut out = Vec::new();
+                while let Some(x) = seq.next_element::<Scalar>()? {
+                    out.push(x);
+                }
+                Ok(RawList::Many(out))
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<RawList, E> {
+                Ok(RawList::One(Scalar(v.to_string())))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<RawList, E> {
+                Ok(RawList::One(Scalar(v.to_string())))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<RawList, E> {
+                Ok(RawList::One(Scalar(v.to_string())))
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<RawList, E> {
+                Ok(RawList::One(Scalar(format!("{v:?}"))))
+            }
+            fn visit_bool<E: de::Error>(self, v: bool) -> Result<RawList, E> {
+                Ok(RawList::One(Scalar(v.to_string())))
+            }
+        }
+        deserializer.deserialize_any(ListVisitor)
+    }
 }
 
 impl RawList {
