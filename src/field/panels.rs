@@ -93,9 +93,9 @@ pub const MIN_FACETS: usize = 12;
 pub const MIN_BANDS: usize = 6;
 /// Shortest accepted length of any conductor dimension [m] (the closed-form
 /// kernels are accurate from about 1e-6 m, see [`super::kernels`]).
-pub const MIN_SIZE: f64 = 1e-5;
+pub const MIN_SIZE: f64 = crate::model::conductor::MIN_CONDUCTOR_SIZE;
 /// Longest accepted length of any conductor dimension [m].
-pub const MAX_SIZE: f64 = 1e3;
+pub const MAX_SIZE: f64 = crate::model::conductor::MAX_CONDUCTOR_SIZE;
 /// Largest |e₁·e₂|/(|e₁||e₂|) accepted for a plate's edges (perpendicular to
 /// rounding of typed-in coordinates).
 const MAX_SKEW: f64 = 1e-9;

@@ -123,7 +123,43 @@ pub enum ConductorShape {
     },
 }
 
+/// Smallest size of a conductor's face or radius [m] (10 µm): the
+/// conductors' solve meshes every face, and finer features are below what it
+/// resolves.
+pub const MIN_CONDUCTOR_SIZE: Meters = 1e-5;
+
+/// Largest size of a conductor's face or radius [m] (1 km): far beyond any
+/// roller, frame or plate of a line; bounds the conductors' mesh.
+pub const MAX_CONDUCTOR_SIZE: Meters = 1e3;
+
 impl ConductorShape {
+    /// The sizes the conductors' solve meshes, with their names: a plate's
+    /// two edges, a box's three sides, a cylinder's radius and length [m].
+    pub fn sizes(&self) -> Vec<(&'static str, Meters)> {
+        let len = |v: Vec3| dot(v, v).sqrt();
+        match *self {
+            ConductorShape::Plate { e1, e2, .. } => {
+                vec![("first edge", len(e1)), ("second edge", len(e2))]
+            }
+            ConductorShape::Box { min, max } => vec![
+                ("side along x", max[0] - min[0]),
+                ("side along y", max[1] - min[1]),
+                ("side along z", max[2] - min[2]),
+            ],
+            ConductorShape::Cylinder { radius, length, .. } => {
+                vec![("radius", radius), ("length", length)]
+            }
+        }
+    }
+
+    /// The first size outside [`MIN_CONDUCTOR_SIZE`]..=[`MAX_CONDUCTOR_SIZE`],
+    /// with its name.
+    pub fn size_out_of_range(&self) -> Option<(&'static str, Meters)> {
+        self.sizes()
+            .into_iter()
+            .find(|&(_, v)| !(MIN_CONDUCTOR_SIZE..=MAX_CONDUCTOR_SIZE).contains(&v))
+    }
+
     /// Whether `p` [m] lies inside the solid (faces included); for a plate,
     /// within [`MIN_POINT_DISTANCE`] of it.
     pub fn contains(&self, p: Vec3) -> bool {

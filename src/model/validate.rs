@@ -579,14 +579,32 @@ fn validate_rollers(
                         format!("roller {id} reaches below the ground plane at z = {}: raise it or lower ground_plane", crate::units::format_quantity(g, Dim::Length)),
                     );
             }
-            out.push(Roller {
+            let roller = Roller {
                 id,
                 center,
                 radius,
                 earthing,
                 length,
                 length_defaulted,
-            });
+            };
+            if let Some((what, v)) = roller.cylinder().size_out_of_range() {
+                let key = if what == "radius" {
+                    "diameter"
+                } else {
+                    "length"
+                };
+                let msg = conductors::size_message(what, v);
+                if key == "length" && length_defaulted {
+                    ctx.err(
+                        format!("{p}.length"),
+                        format!("{msg}; the length is the web width + 0.2 m when not given"),
+                    );
+                } else {
+                    ctx.err(format!("{p}.{key}"), msg);
+                }
+                continue;
+            }
+            out.push(roller);
         }
     }
     (ctx.issues.len() == before).then_some(out)

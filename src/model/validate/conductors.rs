@@ -78,6 +78,10 @@ pub(super) fn validate_conductors(
         };
         let Some(id) = id else { continue };
         let at = format!("{p}.{place}");
+        if let Some((what, v)) = shape.size_out_of_range() {
+            ctx.err(&at, size_message(what, v));
+            continue;
+        }
         if !clear_of_everything(ctx, &at, &id, &shape, path, rollers, &out, web, ground) {
             continue;
         }
@@ -563,4 +567,12 @@ pub(super) fn check_ids(ctx: &mut Ctx, conductors: &[Conductor], others: &[(&str
             }
         }
     }
+}
+
+/// Why a conductor's size is refused.
+pub(super) fn size_message(what: &str, v: f64) -> String {
+    format!(
+        "its {what} is {}: a conductor's sizes lie between 10 µm and 1 km (the conductors' solve meshes every face)",
+        crate::units::format_quantity(v, crate::units::Dim::Length)
+    )
 }
