@@ -410,8 +410,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     report.conductors = model.conductor_results()?;
     let places: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
     report.conductor_accuracy = model.conductor_accuracy(&places)?;
-    let files = folder::render_all(&report)?;
-    let dir = folder::write_folder(job.out, &report.meta.report_id, files.into_iter().map(Ok))?;
+    let dir = folder::write_report(job.out, &mut report)?;
     Ok(AssessRun {
         dir,
         assessment,
@@ -499,14 +498,14 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
     let (text, line) = read_line(&a.line)?;
     let solver = solver_with(a.tolerance, &a.conductors)?;
     let st = plan_settings(a, &line)?;
-    if let Some(out) = &a.apply
-        && out.exists()
-    {
-        bail!(
-            "--apply: '{}' exists; websigma never overwrites a file — choose a new name",
-            out.display()
-        );
-    }
+    // Created before the search, so a bad --apply path fails at once;
+    // removed again unless the planned file is written.
+    let apply = a
+        .apply
+        .as_deref()
+        .map(crate::report::new_file::NewFile::create)
+        .transpose()
+        .context("--apply")?;
     let profiles =
         crate::assess::load_profiles(&line.assess, &a.profiles, &a.line.display().to_string())?;
     let tty = std::io::stderr().is_terminal();
@@ -541,18 +540,12 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
     };
     print(&s)?;
     let passes = plan.options.first().is_some_and(|o| o.counts[2] == 0);
-    if let (Some(out), Some(bars)) = (&a.apply, plan.best_bars()) {
+    if let (Some(file), Some(bars)) = (apply, plan.best_bars()) {
         let new_text = crate::plan::apply_to_yaml(&text, &line, &bars, &scene)?;
         parse_line(&new_text).map_err(|e| {
             anyhow::Error::new(e).context("internal: the planned line description does not parse")
         })?;
-        let mut f = std::fs::OpenOptions::new()
-            .write(true)
-            .create_new(true)
-            .open(out)
-            .with_context(|| format!("--apply: creating '{}'", out.display()))?;
-        f.write_all(new_text.as_bytes())
-            .with_context(|| format!("--apply: writing '{}'", out.display()))?;
+        let out = file.commit(new_text.as_bytes()).context("--apply")?;
         eprintln!("wrote {} with the best plan's bars added", out.display());
     }
     Ok(outcome(!passes))

@@ -82,7 +82,8 @@ fn the_wrap_warning_reaches_check_assess_and_the_report() {
     assert!(matches!(run.status.code(), Some(0 | 1)), "{stderr}");
     assert!(stderr.contains("warning: path[1].wrap:"), "{stderr}");
     let md = std::fs::read_to_string(crate::util::only_report(&out).join("report.md")).unwrap();
-    assert!(md.contains("path[1].wrap: the web wraps"), "{md}");
+    // Markdown-escaped: report.md shows every text as text.
+    assert!(md.contains("path\\[1\\].wrap: the web wraps"), "{md}");
 }
 
 /// SMALL_LINE with one reading typed in inch units and its record.
@@ -265,7 +266,7 @@ fn the_report_inputs_show_the_record_and_the_humidity_note() {
     let md = report(&recorded_line(""));
     assert!(!md.contains("calibrated on"), "{md}");
     assert!(
-        md.contains("No reading gives `relative_humidity:`, so the relaxation time τ = 100 s was not checked against the humidity at measurement"),
+        md.contains("No reading gives \\`relative_humidity:\\`, so the relaxation time τ = 100 s was not checked against the humidity at measurement"),
         "{md}"
     );
 }

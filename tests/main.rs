@@ -14,7 +14,9 @@
 //! - `inputs`: likely wrong wrap directions, readings as recorded, the planned
 //!   line's rounding, the plan as CSV, point files with bad rows;
 //! - `plots`: the demo's pictures on what they draw (legend, labels, limits);
-//! - `findings_terms`: findings in their sources' terms, units, order.
+//! - `findings_terms`: findings in their sources' terms, units, order;
+//! - `hardening_outputs`: reports that cannot be forged, `plan --apply` whole
+//!   or not at all, CSV cells that are no formulas, report ids and leftovers.
 
 mod analytic;
 mod assess;
@@ -27,6 +29,7 @@ mod conductors;
 mod eliminators;
 mod findings_terms;
 mod geometry;
+mod hardening_outputs;
 mod inputs;
 mod mutations;
 mod pipeline;

@@ -12,17 +12,29 @@ pub fn field_header(span_names: &[String], contributions: bool) -> String {
         String::from("id,x_m,y_m,z_m,Ex_V_per_m,Ey_V_per_m,Ez_V_per_m,E_magnitude_V_per_m,V_V");
     if contributions {
         for n in span_names {
-            h.push_str(&format!(
-                ",{n}_Ex_V_per_m,{n}_Ey_V_per_m,{n}_Ez_V_per_m,{n}_V_V"
-            ));
+            for quantity in ["Ex_V_per_m", "Ey_V_per_m", "Ez_V_per_m", "V_V"] {
+                h.push(',');
+                h.push_str(&text_cell(&format!("{n}_{quantity}")));
+            }
         }
     }
     h
 }
 
-/// Quotes a CSV field when needed.
-pub fn field_text(s: &str) -> String {
-    if s.contains([',', '"', '\n', '\r']) {
+/// A CSV cell holding text (ids, names, notes, labels, sources — anything
+/// that may come from a line description, a profile or a point file).
+///
+/// Text beginning with `=`, `+`, `-`, `@`, a tab or a carriage return would
+/// be read as a formula by a spreadsheet (CSV or formula injection): it is
+/// written with a single quote in front and the cell quoted, as OWASP's
+/// guidance recommends (OWASP, CSV Injection), so `=1+1` becomes `"'=1+1"`.
+/// Other text is quoted when it holds a comma, a quote or a line break
+/// (RFC 4180 §2). Numbers are not written through this function: a negative
+/// value we compute stays a number.
+pub fn text_cell(s: &str) -> String {
+    if s.starts_with(['=', '+', '-', '@', '\t', '\r']) {
+        format!("\"'{}\"", s.replace('"', "\"\""))
+    } else if s.contains([',', '"', '\n', '\r']) {
         format!("\"{}\"", s.replace('"', "\"\""))
     } else {
         s.to_string()
@@ -33,7 +45,7 @@ pub fn field_text(s: &str) -> String {
 pub fn field_row(req: &PointRequest, f: &PointField) -> String {
     let mut r = format!(
         "{},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{:?}",
-        field_text(req.id.as_deref().unwrap_or("")),
+        text_cell(req.id.as_deref().unwrap_or("")),
         f.at[0],
         f.at[1],
         f.at[2],
@@ -63,25 +75,25 @@ pub fn findings_csv(r: &Report) -> String {
             "{},{},{},{},{},{},{:?},{},{},{},{},{},{:?},{:?},{},{},{}\n",
             f.verdict.text(),
             f.hazard.key(),
-            field_text(&f.profile),
-            field_text(&f.rule),
-            field_text(&f.subject),
-            field_text(&f.check),
+            text_cell(&f.profile),
+            text_cell(&f.rule),
+            text_cell(&f.subject),
+            text_cell(&f.check),
             f.value,
-            field_text(if f.ratio.is_some() {
+            text_cell(if f.ratio.is_some() {
                 "1"
             } else {
                 f.dim.si_unit()
             }),
             opt(f.meter),
-            field_text(f.ratio.unwrap_or_default()),
+            text_cell(f.ratio.unwrap_or_default()),
             opt(f.warn),
             opt(f.fail),
             f.limit,
             f.margin,
-            field_text(&f.source),
-            field_text(f.confidence.text()),
-            field_text(&f.note)
+            text_cell(&f.source),
+            text_cell(f.confidence.text()),
+            text_cell(&f.note)
         ));
     }
     s
@@ -95,7 +107,7 @@ pub fn points_csv(r: &Report) -> String {
     for p in &r.points {
         s.push_str(&format!(
             "{},{},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{}\n",
-            field_text(&p.point.id),
+            text_cell(&p.point.id),
             p.point.kind.text(),
             p.point.at[0],
             p.point.at[1],
@@ -105,7 +117,7 @@ pub fn points_csv(r: &Report) -> String {
             p.e[2],
             p.e_magnitude,
             p.v,
-            field_text(&p.zones.join(" "))
+            text_cell(&p.zones.join(" "))
         ));
     }
     s
@@ -123,15 +135,15 @@ pub fn spans_csv(r: &Report) -> String {
         };
         s.push_str(&format!(
             "{},{},{},{:?},{:?},{:?},{:?},{:?},{reading},{distance},{}\n",
-            sp.row.name,
-            field_text(&sp.label),
-            field_text(&sp.row.from_to),
+            text_cell(&sp.row.name),
+            text_cell(&sp.label),
+            text_cell(&sp.row.from_to),
             sp.row.length,
             sp.row.angle_deg,
             sp.row.sigma_start,
             sp.row.sigma_end,
             sp.sigma_peak,
-            field_text(&sp.zones.join(" "))
+            text_cell(&sp.zones.join(" "))
         ));
     }
     s
@@ -162,8 +174,8 @@ pub fn plan_csv(plan: &crate::plan::Plan, line: &crate::model::Line) -> String {
                 "{lead},{},{},{},{},{:?},{},{:?},{:?}\n",
                 k + 1,
                 c.kind.text(),
-                field_text(&span.name),
-                field_text(&span.label()),
+                text_cell(&span.name),
+                text_cell(&span.label()),
                 c.along,
                 c.side.text(),
                 c.distance,
@@ -183,8 +195,8 @@ pub fn readings_csv(readings: &[crate::readings::ReadingResult]) -> String {
     for x in readings {
         s.push_str(&format!(
             "{},{},{:?},{:?},{:?},{},{:?},{:?},{:?},{},{},{:?},{:?},{},{},{},{},{},{}\n",
-            field_text(&x.id),
-            field_text(&x.span),
+            text_cell(&x.id),
+            text_cell(&x.span),
             x.position,
             x.distance,
             x.reading,
@@ -196,9 +208,9 @@ pub fn readings_csv(readings: &[crate::readings::ReadingResult]) -> String {
             opt(x.sigma_naive_one_sided),
             x.sigma_model,
             x.residual,
-            field_text(&super::notes::reading_notes(&x.warnings)),
-            field_text(&super::readings_text::as_entered(&x.record)),
-            field_text(x.record.meter.as_deref().unwrap_or("")),
+            text_cell(&super::notes::reading_notes(&x.warnings)),
+            text_cell(&super::readings_text::as_entered(&x.record)),
+            text_cell(x.record.meter.as_deref().unwrap_or("")),
             x.record
                 .calibrated_on
                 .map(|d| d.format("%Y-%m-%d").to_string())

@@ -1,13 +1,16 @@
-//! Writes a report folder: every format rendered first, then written to a
-//! temporary folder and renamed into place, so a failure leaves no half
-//! report and an earlier report is never overwritten.
+//! Writes a report folder: the folder's name chosen first, every format
+//! rendered with it as the report id, written to a hidden unfinished folder
+//! and renamed into place, so a failure leaves no half report, an earlier
+//! report is never overwritten and the id inside equals the folder's name.
 
 use crate::report::Writer;
 use crate::report::build::{Report, sha256_hex};
 use crate::report::html::HtmlWriter;
 use crate::report::json::{num, string};
 use crate::report::markdown::MarkdownWriter;
+use crate::report::unfinished;
 use anyhow::{Context, Result};
+use std::io::Write;
 use std::path::{Path, PathBuf};
 
 /// One file of a report folder.
@@ -102,61 +105,90 @@ pub fn manifest(r: &Report, files: &[OutputFile]) -> String {
     s
 }
 
-/// Writes `files` as a new folder `base/id` (or `base/id-2`, `-3`, … if
-/// taken). Files are written into a hidden temporary folder first, which is
-/// renamed into place only when every file is written; on any error the
-/// temporary folder is removed and nothing is left behind.
-pub fn write_folder(
+/// Writes the report as a new folder in `base` and returns its path. The
+/// folder is named by the report id (`<id>`, or `<id>-2`, `-3`, … if taken)
+/// and the report is rendered with exactly that name as its id, so the
+/// `report_id` inside every file equals the folder's name; `r.meta.report_id`
+/// is set to it.
+pub fn write_report(base: &Path, r: &mut Report) -> Result<PathBuf> {
+    let id = r.meta.report_id.clone();
+    write_folder(base, &id, |name| {
+        r.meta.report_id = name.to_string();
+        match render_all(r) {
+            Ok(files) => files.into_iter().map(Ok).collect(),
+            Err(e) => vec![Err(e)],
+        }
+    })
+}
+
+/// Writes a new folder `base/id` (or `base/id-2`, `-3`, … if taken) with
+/// the files `files_for(name)` gives for the name chosen. Unfinished
+/// folders of dead processes in `base` are removed first
+/// ([`unfinished::remove_stale`]). The files are written into a hidden
+/// unfinished folder and flushed to the disk; the folder is renamed into
+/// place only when every file is written. If the name was taken meanwhile,
+/// the files are rendered and written again for the next name. On any error
+/// the unfinished folder is removed and nothing is left behind.
+pub fn write_folder<I>(
     base: &Path,
     id: &str,
-    files: impl IntoIterator<Item = Result<OutputFile>>,
-) -> Result<PathBuf> {
+    mut files_for: impl FnMut(&str) -> I,
+) -> Result<PathBuf>
+where
+    I: IntoIterator<Item = Result<OutputFile>>,
+{
     std::fs::create_dir_all(base)
         .with_context(|| format!("creating the report folder '{}'", base.display()))?;
-    let tmp = base.join(format!(".{id}.partial-{}", std::process::id()));
-    if tmp.exists() {
-        std::fs::remove_dir_all(&tmp)
-            .with_context(|| format!("removing a stale '{}'", tmp.display()))?;
-    }
-    std::fs::create_dir(&tmp).with_context(|| format!("creating '{}'", tmp.display()))?;
-    let result = (|| -> Result<PathBuf> {
-        for f in files {
-            let f = f?;
-            if f.name.contains(['/', '\\']) || f.name.starts_with('.') {
-                anyhow::bail!(
-                    "refusing to write '{}': report files are plain names",
-                    f.name
-                );
-            }
-            std::fs::write(tmp.join(&f.name), &f.bytes)
-                .with_context(|| format!("writing '{}'", f.name))?;
+    unfinished::remove_stale(base, true);
+    for k in 1..1000 {
+        let name = if k == 1 {
+            id.to_string()
+        } else {
+            format!("{id}-{k}")
+        };
+        let dest = base.join(&name);
+        if dest.exists() {
+            continue;
         }
-        for k in 1..1000 {
-            let name = if k == 1 {
-                id.to_string()
-            } else {
-                format!("{id}-{k}")
-            };
-            let dest = base.join(name);
-            if dest.exists() {
-                continue;
+        let tmp = base.join(unfinished::name_for(&name));
+        std::fs::create_dir(&tmp).with_context(|| format!("creating '{}'", tmp.display()))?;
+        let placed = (|| -> Result<bool> {
+            for f in files_for(&name) {
+                let f = f?;
+                if f.name.contains(['/', '\\']) || f.name.starts_with('.') {
+                    anyhow::bail!(
+                        "refusing to write '{}': report files are plain names",
+                        f.name
+                    );
+                }
+                std::fs::File::create(tmp.join(&f.name))
+                    .and_then(|mut out| {
+                        out.write_all(&f.bytes)?;
+                        out.sync_all()
+                    })
+                    .with_context(|| format!("writing '{}'", f.name))?;
             }
-            // rename fails if dest appeared meanwhile as a non-empty folder.
+            // rename(2) fails if dest appeared meanwhile as a non-empty folder.
             match std::fs::rename(&tmp, &dest) {
-                Ok(()) => return Ok(dest),
-                Err(_) if dest.exists() => continue,
+                Ok(()) => Ok(true),
+                Err(_) if dest.exists() => Ok(false),
                 Err(e) => {
-                    return Err(e)
-                        .with_context(|| format!("moving the report into '{}'", dest.display()));
+                    Err(e).with_context(|| format!("moving the report into '{}'", dest.display()))
                 }
             }
+        })();
+        match placed {
+            Ok(true) => return Ok(dest),
+            Ok(false) => {
+                let _ = std::fs::remove_dir_all(&tmp);
+            }
+            Err(e) => {
+                let _ = std::fs::remove_dir_all(&tmp);
+                return Err(e);
+            }
         }
-        anyhow::bail!("too many reports named '{id}' in '{}'", base.display())
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_dir_all(&tmp);
     }
-    result
+    anyhow::bail!("too many reports named '{id}' in '{}'", base.display())
 }
 
 #[cfg(test)]
@@ -166,15 +198,19 @@ mod tests {
     #[test]
     fn two_writes_give_two_folders_and_a_failure_leaves_nothing() {
         let d = tempfile::tempdir().unwrap();
-        let ok = || vec![Ok(file("a.txt", b"1".to_vec()))];
-        let a = write_folder(d.path(), "r", ok()).unwrap();
-        let b = write_folder(d.path(), "r", ok()).unwrap();
+        let ok = |name: &str| vec![Ok(file("id.txt", name.as_bytes().to_vec()))];
+        let a = write_folder(d.path(), "r", ok).unwrap();
+        let b = write_folder(d.path(), "r", ok).unwrap();
         assert_ne!(a, b);
         assert!(b.ends_with("r-2"));
-        let bad = vec![
-            Ok(file("a.txt", b"1".to_vec())),
-            Err(anyhow::anyhow!("boom")),
-        ];
+        assert_eq!(std::fs::read(a.join("id.txt")).unwrap(), b"r");
+        assert_eq!(std::fs::read(b.join("id.txt")).unwrap(), b"r-2");
+        let bad = |_: &str| {
+            vec![
+                Ok(file("a.txt", b"1".to_vec())),
+                Err(anyhow::anyhow!("boom")),
+            ]
+        };
         assert!(write_folder(d.path(), "x", bad).is_err());
         let names: Vec<String> = std::fs::read_dir(d.path())
             .unwrap()

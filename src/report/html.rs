@@ -10,12 +10,26 @@ use crate::report::table::TableWriter;
 /// Writes `report.html`.
 pub struct HtmlWriter;
 
-/// Escapes text for HTML.
+/// Escapes text for HTML element content and quoted attribute values:
+/// `&`, `<`, `>`, `"` and `'` become character references, and control
+/// characters (which HTML does not allow in text, and which would carry a
+/// line break into a one-line field) become a space. Source: WHATWG HTML
+/// Living Standard, "Writing HTML documents" (text, attribute values,
+/// character references).
 pub fn esc(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
+    let mut out = String::with_capacity(s.len() + s.len() / 8);
+    for c in s.chars() {
+        match c {
+            '&' => out.push_str("&amp;"),
+            '<' => out.push_str("&lt;"),
+            '>' => out.push_str("&gt;"),
+            '"' => out.push_str("&quot;"),
+            '\'' => out.push_str("&#39;"),
+            c if c.is_control() => out.push(' '),
+            c => out.push(c),
+        }
+    }
+    out
 }
 
 impl TableWriter for HtmlWriter {
@@ -149,6 +163,14 @@ impl Writer for HtmlWriter {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn text_and_attributes_are_escaped() {
+        assert_eq!(
+            esc("<img src=x onerror=\"alert('1')\">&\n"),
+            "&lt;img src=x onerror=&quot;alert(&#39;1&#39;)&quot;&gt;&amp; "
+        );
+    }
 
     /// RFC 4648 test vectors.
     #[test]

@@ -16,6 +16,7 @@ pub mod folder;
 pub mod html;
 pub mod json;
 pub mod markdown;
+pub mod new_file;
 pub mod notes;
 pub mod pictures;
 pub mod plan_json;
@@ -27,6 +28,7 @@ pub mod readings_text;
 pub mod summary;
 pub mod table;
 pub mod text;
+pub mod unfinished;
 
 /// A writer turns the report into the bytes of one file.
 pub trait Writer {
