@@ -72,7 +72,14 @@ impl Ctx {
         let volts = match split_meter(text) {
             Some((volts, d)) => {
                 match parse_quantity(d, Dim::Length) {
-                    Ok(x) if x > 0.0 => at.push((x, path.to_string())),
+                    Ok(x) if (1e-3..=1.0).contains(&x) => at.push((x, path.to_string())),
+                    Ok(x) if x > 0.0 => self.err(
+                        path,
+                        format!(
+                            "the meter's calibration distance after `at` is {}: field meters are calibrated between 1 mm and 1 m from the surface (commonly at 1 in)",
+                            format_quantity(x, Dim::Length)
+                        ),
+                    ),
                     Ok(x) => self.err(
                         path,
                         format!(
