@@ -31,6 +31,7 @@
 //! - [`report`]: every word and picture a person sees; writers that only
 //!   format;
 //! - [`units`]: SI inside, units parsed and formatted at the edges;
+//! - [`read`]: input files read with bounded memory;
 //! - [`yaml`]: the one place YAML is parsed.
 //!
 //! Estimates from a model are not measurements. They do not replace a
@@ -49,6 +50,7 @@ pub mod physics;
 pub mod pipeline;
 pub mod plan;
 pub mod points;
+pub mod read;
 pub mod readings;
 pub mod report;
 pub mod units;

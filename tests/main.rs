@@ -14,7 +14,9 @@
 //! - `inputs`: likely wrong wrap directions, readings as recorded, the planned
 //!   line's rounding, the plan as CSV, point files with bad rows;
 //! - `plots`: the demo's pictures on what they draw (legend, labels, limits);
-//! - `findings_terms`: findings in their sources' terms, units, order.
+//! - `findings_terms`: findings in their sources' terms, units, order;
+//! - `hardening_reads`: inputs read with bounded memory (devices, pipes, long
+//!   rows, oversize lists), point files as CSV, the 1 µm rule, bounded flags.
 
 mod analytic;
 mod assess;
@@ -27,6 +29,7 @@ mod conductors;
 mod eliminators;
 mod findings_terms;
 mod geometry;
+mod hardening_reads;
 mod inputs;
 mod pipeline;
 mod plan;
