@@ -189,6 +189,10 @@ fn evaluate(
 
 fn field(a: &FieldArgs) -> Result<Outcome> {
     let settings = solver_with(a.tolerance, &a.conductors)?;
+    if let Some(path) = &a.points {
+        // A file that is not a point list fails before the solve.
+        PointFile::open(path)?;
+    }
     let (line, scene, r) = load_with_charge(&a.line, settings)?;
     let model = scene.web(&r.charge);
     let spans: Vec<String> = line.path.spans.iter().map(|s| s.name.clone()).collect();
@@ -376,7 +380,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
         && assessment.verdict == crate::assess::Verdict::Fail
     {
         let mut st = crate::plan::PlanSettings::new();
-        st.max_bars = n.max(1);
+        st.max_bars = n;
         st.spacing = 0.25;
         let plan = crate::plan::plan(line, &profiles, &st, scene, &|_, _| {})?;
         if let Some(placed) = plan.placed_line(line, scene)? {
@@ -421,6 +425,15 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
 
 fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
     let settings = solver_with(a.tolerance, &a.conductors)?;
+    let plan = a.plan.map(|n| bar_count("--plan", n)).transpose()?;
+    if !MAP_RESOLUTION.contains(&a.map_resolution) {
+        bail!(
+            "--map-resolution must be between {} and {}, got {}: the field map has N × N/2 points, each a field solve",
+            MAP_RESOLUTION.start(),
+            MAP_RESOLUTION.end(),
+            a.map_resolution
+        );
+    }
     let (text, line) = read_line(&a.line)?;
     let AssessRun {
         dir, assessment, ..
@@ -432,7 +445,7 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
         out: &a.out,
         settings,
         map_resolution: a.map_resolution,
-        plan: a.plan,
+        plan,
     })?;
     print(&assessment_text::assessment_text(&line, &assessment, &dir))?;
     Ok(outcome(assessment.verdict == crate::assess::Verdict::Fail))
@@ -443,11 +456,8 @@ fn plan_settings(a: &PlanArgs, line: &Line) -> Result<crate::plan::PlanSettings>
     use crate::model::EliminatorKind;
     use crate::units::parse_quantity;
     let mut st = crate::plan::PlanSettings::new();
-    st.bars = a.bars;
-    st.max_bars = a.max_bars;
-    if a.max_bars == 0 || a.bars == Some(0) {
-        bail!("--bars/--max-bars: expected at least 1 bar");
-    }
+    st.bars = a.bars.map(|n| bar_count("--bars", n)).transpose()?;
+    st.max_bars = bar_count("--max-bars", a.max_bars)?;
     st.kind = match a.kind {
         BarKind::Powered => EliminatorKind::Powered,
         BarKind::Passive => EliminatorKind::Passive,
@@ -456,8 +466,13 @@ fn plan_settings(a: &PlanArgs, line: &Line) -> Result<crate::plan::PlanSettings>
         parse_quantity(&a.distance, Dim::Length).map_err(|e| anyhow::anyhow!("--distance: {e}"))?;
     st.spacing =
         parse_quantity(&a.spacing, Dim::Length).map_err(|e| anyhow::anyhow!("--spacing: {e}"))?;
-    if st.distance <= 0.0 || st.spacing <= 0.0 {
-        bail!("--distance and --spacing: expected positive lengths such as \"40 mm\"");
+    for (flag, value, text, example) in [
+        ("--distance", st.distance, &a.distance, "40 mm"),
+        ("--spacing", st.spacing, &a.spacing, "100 mm"),
+    ] {
+        if value <= 0.0 {
+            bail!("{flag}: expected a positive length such as \"{example}\", got \"{text}\"");
+        }
     }
     if st.spacing < 0.01 {
         bail!(
@@ -482,15 +497,41 @@ fn plan_settings(a: &PlanArgs, line: &Line) -> Result<crate::plan::PlanSettings>
         }
     }
     if let Some(path) = &a.candidates {
-        let text = std::fs::read_to_string(path)
-            .with_context(|| format!("reading candidates '{}'", path.display()))?;
-        let list = crate::model::parse_eliminator_list(&text, line).map_err(|e| {
-            anyhow::Error::new(e).context(format!("invalid candidates '{}'", path.display()))
-        })?;
-        st.candidates = Some(list.iter().map(crate::plan::Candidate::from).collect());
+        st.candidates = Some(crate::plan::read_candidates(path, line)?);
     }
-    st.top = a.top.clamp(1, 100);
+    if !(1..=MAX_TOP).contains(&a.top) {
+        bail!(
+            "--top must be at least 1 and at most {MAX_TOP}, got {}: each plan listed is assessed again with the full model",
+            a.top
+        );
+    }
+    st.top = a.top;
     Ok(st)
+}
+
+/// Most bars placed by `plan --bars/--max-bars` and `assess --plan` [1]:
+/// the search is combinatorial (C(n, N) placements of N bars among n
+/// candidates, greedy above 3 bars), and a line that 8 bars cannot bring
+/// within its limits needs another remedy than more bars.
+const MAX_BARS: usize = 8;
+
+/// Most plans listed by `plan --top` [1]: each is assessed again with the
+/// full model (about as long as `assess` without its pictures).
+const MAX_TOP: usize = 100;
+
+/// Field-map resolutions accepted by `assess --map-resolution` (points
+/// across) [1]: the map has N × N/2 points, each a field solve; 1000 gives
+/// 500,000 points.
+const MAP_RESOLUTION: std::ops::RangeInclusive<usize> = 20..=1000;
+
+/// A number of bars given with `flag`, checked against [`MAX_BARS`].
+fn bar_count(flag: &str, n: usize) -> Result<usize> {
+    if !(1..=MAX_BARS).contains(&n) {
+        bail!(
+            "{flag} must be at least 1 and at most {MAX_BARS}, got {n}: the search is combinatorial (C(n, N) placements of N bars among n candidates); a line that {MAX_BARS} bars cannot bring within its limits needs another remedy"
+        );
+    }
+    Ok(n)
 }
 
 fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
@@ -522,7 +563,10 @@ fn plan_cmd(a: &PlanArgs) -> Result<Outcome> {
             None => format!("--distance \"{}\", --spacing \"{}\"", a.distance, a.spacing),
         };
         match e {
-            crate::plan::PlanError::NoCandidatePositions => anyhow::Error::new(e).context(flags),
+            crate::plan::PlanError::NoCandidatePositions
+            | crate::plan::PlanError::TooManyCandidates { .. } => {
+                anyhow::Error::new(e).context(flags)
+            }
             e => anyhow::Error::new(e),
         }
     })?;

@@ -51,20 +51,31 @@ pub struct AssessArgs {
     #[arg(long, value_name = "DIR", default_value = "reports")]
     pub out: PathBuf,
     /// Relative tolerance of the integration (1e-12 to 1e-2).
-    #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
+    #[arg(
+        long,
+        default_value_t = 1e-9,
+        value_name = "TOL",
+        allow_hyphen_values = true
+    )]
     pub tolerance: f64,
     /// Panel size of the conductors' solve (grounded and isolated rollers,
     /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
     /// has too many conductors for it. "off": no conductors, only the
     /// ground plane screens (the free-space model).
-    #[arg(long, value_name = "PANEL|off")]
+    #[arg(long, value_name = "PANEL|off", allow_hyphen_values = true)]
     pub conductors: Option<String>,
-    /// Points per side of the field map (the map has N × N/2 points).
-    #[arg(long, default_value_t = 160, value_name = "N")]
+    /// Points per side of the field map, 20 to 1000 (the map has N × N/2
+    /// points).
+    #[arg(
+        long,
+        default_value_t = 160,
+        value_name = "N",
+        allow_negative_numbers = true
+    )]
     pub map_resolution: usize,
-    /// When a limit fails, also plan up to N powered bars (candidates every
-    /// 250 mm at 40 mm) and add the plan to the report.
-    #[arg(long, value_name = "N")]
+    /// When a limit fails, also plan up to N powered bars, 1 to 8
+    /// (candidates every 250 mm at 40 mm), and add the plan to the report.
+    #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub plan: Option<usize>,
 }
 
@@ -77,13 +88,18 @@ pub struct ReadingsArgs {
     #[arg(long, value_enum, default_value_t = OutputFormat::Table)]
     pub format: OutputFormat,
     /// Relative tolerance of the integration (1e-12 to 1e-2).
-    #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
+    #[arg(
+        long,
+        default_value_t = 1e-9,
+        value_name = "TOL",
+        allow_hyphen_values = true
+    )]
     pub tolerance: f64,
     /// Panel size of the conductors' solve (grounded and isolated rollers,
     /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
     /// has too many conductors for it. "off": no conductors, only the
     /// ground plane screens (the free-space model).
-    #[arg(long, value_name = "PANEL|off")]
+    #[arg(long, value_name = "PANEL|off", allow_hyphen_values = true)]
     pub conductors: Option<String>,
 }
 
@@ -92,29 +108,55 @@ pub struct ReadingsArgs {
 pub struct PlanArgs {
     /// The line description (YAML).
     pub line: PathBuf,
-    /// Place exactly this many bars.
-    #[arg(long, value_name = "N", conflicts_with = "max_bars")]
+    /// Place exactly this many bars, 1 to 8 (the search is combinatorial).
+    #[arg(
+        long,
+        value_name = "N",
+        conflicts_with = "max_bars",
+        allow_negative_numbers = true
+    )]
     pub bars: Option<usize>,
-    /// Find the fewest bars, up to N, that pass.
-    #[arg(long, value_name = "N", default_value_t = 3)]
+    /// Find the fewest bars, up to N (1 to 8), that pass.
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = 3,
+        allow_negative_numbers = true
+    )]
     pub max_bars: usize,
     /// Kind of bar to place.
     #[arg(long, value_enum, default_value_t = BarKind::Powered)]
     pub kind: BarKind,
-    /// Bar-to-web distance of the candidates.
-    #[arg(long, default_value = "40 mm", value_name = "LENGTH")]
+    /// Bar-to-web distance of the candidates (a positive length).
+    #[arg(
+        long,
+        default_value = "40 mm",
+        value_name = "LENGTH",
+        allow_hyphen_values = true
+    )]
     pub distance: String,
-    /// Spacing of candidate positions along the spans.
-    #[arg(long, default_value = "100 mm", value_name = "LENGTH")]
+    /// Spacing of candidate positions along the spans (10 mm or more).
+    #[arg(
+        long,
+        default_value = "100 mm",
+        value_name = "LENGTH",
+        allow_hyphen_values = true
+    )]
     pub spacing: String,
     /// Only these spans, e.g. "S3,S5" or "R2-R3".
     #[arg(long, value_name = "SPANS")]
     pub spans: Option<String>,
-    /// A YAML list of candidate positions (eliminator entries without ids).
+    /// A YAML list of candidate positions (eliminator entries without ids),
+    /// up to 5,000 entries and 1 MiB.
     #[arg(long, value_name = "FILE.yaml")]
     pub candidates: Option<PathBuf>,
-    /// How many plans to list.
-    #[arg(long, default_value_t = 5, value_name = "K")]
+    /// How many plans to list, 1 to 100.
+    #[arg(
+        long,
+        default_value_t = 5,
+        value_name = "K",
+        allow_negative_numbers = true
+    )]
     pub top: usize,
     /// Output format: table, csv (one row per bar of each plan) or json.
     #[arg(long, value_enum, default_value_t = OutputFormat::Table)]
@@ -127,13 +169,18 @@ pub struct PlanArgs {
     #[arg(long = "profile", value_name = "NAME|FILE")]
     pub profiles: Vec<String>,
     /// Relative tolerance of the integration (1e-12 to 1e-2).
-    #[arg(long, default_value_t = 1e-6, value_name = "TOL")]
+    #[arg(
+        long,
+        default_value_t = 1e-6,
+        value_name = "TOL",
+        allow_hyphen_values = true
+    )]
     pub tolerance: f64,
     /// Panel size of the conductors' solve (grounded and isolated rollers,
     /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
     /// has too many conductors for it. "off": no conductors, only the
     /// ground plane screens (the free-space model).
-    #[arg(long, value_name = "PANEL|off")]
+    #[arg(long, value_name = "PANEL|off", allow_hyphen_values = true)]
     pub conductors: Option<String>,
 }
 
@@ -162,7 +209,7 @@ pub struct CheckArgs {
     /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
     /// has too many conductors for it. "off": no conductors, only the
     /// ground plane screens (the free-space model).
-    #[arg(long, value_name = "PANEL|off")]
+    #[arg(long, value_name = "PANEL|off", allow_hyphen_values = true)]
     pub conductors: Option<String>,
 }
 
@@ -174,7 +221,8 @@ pub struct FieldArgs {
     /// A point "X,Y,Z": metres, or lengths with units ("1.2 m,0,25 mm"). Repeatable.
     #[arg(long = "at", value_name = "X,Y,Z", allow_hyphen_values = true)]
     pub at: Vec<String>,
-    /// A CSV file of points with header x,y,z (metres) and an optional id column.
+    /// A CSV file of points with header x,y,z (metres) and an optional id
+    /// column: a regular file, rows of up to 64 KiB, quoted cells ("B, 2").
     #[arg(long, value_name = "FILE.csv", conflicts_with = "at")]
     pub points: Option<PathBuf>,
     /// With --points: evaluate the good rows and list the bad ones on
@@ -188,13 +236,18 @@ pub struct FieldArgs {
     #[arg(long)]
     pub contributions: bool,
     /// Relative tolerance of the integration (1e-12 to 1e-2).
-    #[arg(long, default_value_t = 1e-9, value_name = "TOL")]
+    #[arg(
+        long,
+        default_value_t = 1e-9,
+        value_name = "TOL",
+        allow_hyphen_values = true
+    )]
     pub tolerance: f64,
     /// Panel size of the conductors' solve (grounded and isolated rollers,
     /// `conductors:`), e.g. "50 mm"; default 100 mm, coarsened if the line
     /// has too many conductors for it. "off": no conductors, only the
     /// ground plane screens (the free-space model).
-    #[arg(long, value_name = "PANEL|off")]
+    #[arg(long, value_name = "PANEL|off", allow_hyphen_values = true)]
     pub conductors: Option<String>,
 }
 

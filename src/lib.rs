@@ -33,6 +33,7 @@
 //! - [`safe_text`]: the characters refused in user text, and user text made
 //!   safe to echo;
 //! - [`units`]: SI inside, units parsed and formatted at the edges;
+//! - [`read`]: input files read with bounded memory;
 //! - [`yaml`]: the one place YAML is parsed.
 //!
 //! Estimates from a model are not measurements. They do not replace a
@@ -51,6 +52,7 @@ pub mod physics;
 pub mod pipeline;
 pub mod plan;
 pub mod points;
+pub mod read;
 pub mod readings;
 pub mod report;
 pub mod safe_text;

@@ -428,27 +428,9 @@ fn tidy(message: &str) -> String {
     out.replace("enum RawList", "a value or a list of values")
 }
 
-/// Reads a YAML file as text, refusing one larger than `max_bytes` (these
-/// files are short) or not UTF-8; `what` names the file in messages, such as
-/// `line description` or `threshold profile`.
-pub fn read_text(path: &std::path::Path, what: &str, max_bytes: u64) -> anyhow::Result<String> {
-    use anyhow::Context;
-    let meta =
-        std::fs::metadata(path).with_context(|| format!("reading {what} '{}'", path.display()))?;
-    if meta.len() > max_bytes {
-        anyhow::bail!(
-            "{what} '{}' is {} bytes: the limit is {max_bytes} bytes (a {what} is a short YAML file)",
-            path.display(),
-            meta.len()
-        );
-    }
-    std::fs::read_to_string(path).with_context(|| {
-        format!(
-            "reading {what} '{}' (it must be UTF-8 text)",
-            path.display()
-        )
-    })
-}
+/// Reading a YAML file as text, bounded by the bytes actually read (the
+/// function lives in [`crate::read`]).
+pub use crate::read::read_text;
 
 #[cfg(test)]
 mod tests {

@@ -15,8 +15,11 @@
 //!   line's rounding, the plan as CSV, point files with bad rows;
 //! - `plots`: the demo's pictures on what they draw (legend, labels, limits);
 //! - `findings_terms`: findings in their sources' terms, units, order;
+//! - `mutations`: mutated demo lines through `check` and `assess`;
 //! - `hardening_outputs`: reports that cannot be forged, `plan --apply` whole
 //!   or not at all, CSV cells that are no formulas, report ids and leftovers.
+//! - `hardening_reads`: inputs read with bounded memory (devices, pipes, long
+//!   rows, oversize lists), point files as CSV, the 1 µm rule, bounded flags.
 
 mod analytic;
 mod assess;
@@ -30,6 +33,7 @@ mod eliminators;
 mod findings_terms;
 mod geometry;
 mod hardening_outputs;
+mod hardening_reads;
 mod inputs;
 mod mutations;
 mod pipeline;

@@ -194,8 +194,9 @@ impl Default for SolverSettings {
 /// The solver could not give a result of the accuracy asked for.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum FieldError {
-    /// The point is on (or within 1 µm of) a charged span.
-    #[error("the point [{x:.6} m, {y:.6} m, {z:.6} m] is {distance:.2e} m from span {span}, i.e. on the charged web: choose a point at least 1 µm away", x = at[0], y = at[1], z = at[2])]
+    /// The point is on (closer than 1 µm to) a charged span
+    /// ([`crate::model::geometry::on_web`]).
+    #[error("the point [{x:.6} m, {y:.6} m, {z:.6} m] is {shown} from span {span}, closer than 1 µm: it is on the charged web; choose a point at least 1 µm away", x = at[0], y = at[1], z = at[2], shown = crate::units::format_quantity(*distance, crate::units::Dim::Length))]
     OnWeb {
         /// The point [m].
         at: [Meters; 3],

@@ -35,7 +35,7 @@ use super::{FieldAt, FieldError, FieldMap, PointField, SolverSettings, SpanContr
 use crate::charge::ChargeProfile;
 use crate::model::Line;
 use crate::model::Span;
-use crate::model::geometry::{MIN_POINT_DISTANCE, span_frame};
+use crate::model::geometry::{on_web, span_frame};
 use crate::units::{Meters, VoltsPerMeter};
 use rayon::prelude::*;
 use std::cell::Cell;
@@ -624,7 +624,7 @@ impl WebField<'_> {
         for (g, patches) in self.scene.spans.iter().zip(&self.patches) {
             let one = |x: [f64; 3]| -> Result<f64, FieldError> {
                 let frame = span_frame(&g.span, self.scene.width, x);
-                if frame.distance < MIN_POINT_DISTANCE {
+                if on_web(frame.distance) {
                     return Err(FieldError::OnWeb {
                         at: x,
                         span: g.label.clone(),
@@ -746,7 +746,7 @@ impl WebField<'_> {
         at: [f64; 3],
     ) -> Result<LocalField, FieldError> {
         let frame = span_frame(&g.span, self.scene.width, at);
-        if frame.distance < MIN_POINT_DISTANCE {
+        if on_web(frame.distance) {
             return Err(FieldError::OnWeb {
                 at,
                 span: g.label.clone(),

@@ -22,6 +22,24 @@ use std::fmt;
 /// the field is discontinuous at a charged sheet).
 pub const MIN_POINT_DISTANCE: Meters = 1e-6;
 
+/// Points closer to a span than this are on the web [m]: [`MIN_POINT_DISTANCE`]
+/// less 5·10⁻⁵ of it, so that a distance refused is below 1 µm also as
+/// messages show it (4 significant digits: at most 0.9999 µm), and a point
+/// typed at 1 µm is accepted whatever the rounding of its coordinates (a
+/// point typed 1 µm above a span at z = 1.2 m computes at 0.99999999992 µm
+/// in binary floating point; at coordinates within 10 km the rounding stays
+/// below 10⁻¹¹ m, far inside the 50 pm margin).
+const ON_WEB_BELOW: Meters = MIN_POINT_DISTANCE * (1.0 - 5e-5);
+
+/// Whether a point `distance` [m] from a span's charged rectangle is on the
+/// web: closer than [`MIN_POINT_DISTANCE`], less a margin of 50 pm for the
+/// rounding of typed coordinates, so that a distance refused shows below
+/// 1 µm to 4 significant digits. The one closeness rule of the validator,
+/// the solver and the planner.
+pub fn on_web(distance: Meters) -> bool {
+    distance < ON_WEB_BELOW
+}
+
 /// A point's coordinates in a span's frame: along the span `u` [m], across
 /// the web `y` [m] and along the span's normal `h` [m], with the distance to
 /// the charged rectangle [m].
@@ -86,7 +104,7 @@ pub enum PointProblem {
         /// Its shape as described.
         kind: ConductorKind,
     },
-    /// On (within [`MIN_POINT_DISTANCE`] of) a span.
+    /// On (closer than [`MIN_POINT_DISTANCE`] to) a span, see [`on_web`].
     OnWeb {
         /// Distance to the span [m].
         distance: Meters,
@@ -125,7 +143,8 @@ impl fmt::Display for PointProblem {
             },
             PointProblem::OnWeb { distance, span } => write!(
                 f,
-                "the point is {distance:.2e} m from span {span}, i.e. on the web: points must be at least 1 µm away (the field is discontinuous at a charged sheet)"
+                "the point is {} from span {span}, closer than 1 µm: it is on the web (the field is discontinuous at a charged sheet); move it at least 1 µm away",
+                crate::units::format_quantity(*distance, crate::units::Dim::Length)
             ),
         }
     }
@@ -182,7 +201,7 @@ pub fn point_problem_in(
     }
     for s in &path.spans {
         let d = distance_to_span(s, width, at);
-        if d < MIN_POINT_DISTANCE {
+        if on_web(d) {
             return Some(PointProblem::OnWeb {
                 distance: d,
                 span: s.label(),
@@ -221,4 +240,25 @@ pub fn meter_geometry(
         [foot[0] + distance * n[0], across, foot[1] + distance * n[1]],
         [n[0], 0.0, n[1]],
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::units::{Dim, format_quantity};
+
+    /// The rule and the message agree: a distance refused is shown below
+    /// 1 µm, and a point typed at 1 µm is accepted whatever its rounding.
+    #[test]
+    fn on_web_agrees_with_the_distance_shown() {
+        assert!(!on_web(MIN_POINT_DISTANCE));
+        // 1.050001 − 1.05 in binary floating point.
+        let typed = 1.050001_f64 - 1.05;
+        assert!(typed < MIN_POINT_DISTANCE);
+        assert!(!on_web(typed));
+        let largest_refused = ON_WEB_BELOW * (1.0 - 1e-12);
+        assert!(on_web(largest_refused));
+        assert_eq!(format_quantity(largest_refused, Dim::Length), "0.9999 µm");
+        assert!(on_web(0.0));
+    }
 }

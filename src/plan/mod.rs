@@ -61,8 +61,8 @@ mod search;
 
 pub use apply::{apply_to_yaml, planning_line};
 pub use candidates::{
-    CONDUCTOR_CLEARANCE, Candidate, GroundedConductor, Refusal, Refused, apply, candidates,
-    candidates_and_refusals, refusal,
+    CONDUCTOR_CLEARANCE, Candidate, GroundedConductor, MAX_CANDIDATES, MAX_CANDIDATES_FILE_BYTES,
+    Refusal, Refused, apply, candidates, candidates_and_refusals, read_candidates, refusal,
 };
 pub use search::{MAX_EXHAUSTIVE, binomial, combinations};
 
@@ -216,6 +216,15 @@ pub enum PlanError {
         "no candidate position for a bar: every span is too short or too close to its rollers or to grounded conductors for a bar at this distance: lower the bar distance or the candidate spacing, or give a candidate list"
     )]
     NoCandidatePositions,
+    /// The planner's own grid has more positions than [`MAX_CANDIDATES`]
+    /// before the placement rules (a long line at a fine spacing).
+    #[error(
+        "the candidate grid has {count} positions before the placement rules: the limit is {MAX_CANDIDATES}, as the search is combinatorial (C(n, N) placements of N bars among n candidates): widen the candidate spacing or search fewer spans"
+    )]
+    TooManyCandidates {
+        /// Positions on the grid.
+        count: usize,
+    },
     /// A candidate of a given list comes closer to a grounded conductor
     /// than [`CONDUCTOR_CLEARANCE`] bar distances.
     #[error(transparent)]
@@ -305,7 +314,13 @@ pub fn plan(
             check_list(line, list)?;
             (list.clone(), Vec::new())
         }
-        None => candidates_and_refusals(line, st),
+        None => {
+            let count = candidates::grid_positions(line, st);
+            if count > MAX_CANDIDATES {
+                return Err(PlanError::TooManyCandidates { count });
+            }
+            candidates_and_refusals(line, st)
+        }
     };
     if cands.is_empty() {
         return Err(PlanError::NoCandidatePositions);
