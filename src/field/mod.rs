@@ -113,9 +113,10 @@ impl SolverSettings {
     pub fn new(rel_tol: f64) -> Result<Self, SettingsError> {
         if !(Self::MIN_TOL..=Self::MAX_TOL).contains(&rel_tol) {
             return Err(SettingsError(format!(
-                "relative tolerance must be between {:e} and {:e}, got {rel_tol:e}",
+                "relative tolerance must be between {:e} and {:e}, got {}",
                 Self::MIN_TOL,
-                Self::MAX_TOL
+                Self::MAX_TOL,
+                crate::units::format_quantity(rel_tol, crate::units::Dim::Number)
             )));
         }
         Ok(SolverSettings {
@@ -161,7 +162,8 @@ impl SolverSettings {
     pub fn with_conductors(self, panel_size: f64) -> Result<Self, SettingsError> {
         if !(1e-3..=1.0).contains(&panel_size) {
             return Err(SettingsError(format!(
-                "conductor panel size must be between 1 mm and 1 m, got {panel_size:e} m"
+                "conductor panel size must be between 1 mm and 1 m, got {}",
+                crate::units::format_quantity(panel_size, crate::units::Dim::Length)
             )));
         }
         Ok(SolverSettings {

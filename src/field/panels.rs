@@ -327,7 +327,8 @@ pub fn mesh(shape: &Shape, p: &MeshParams) -> Result<Vec<Panel>, ShapeError> {
 fn check_size(what: &str, v: f64) -> Result<(), ShapeError> {
     if !v.is_finite() || !(MIN_SIZE..=MAX_SIZE).contains(&v) {
         return Err(ShapeError(format!(
-            "{what} is {v:e} m: expected a length between {MIN_SIZE:e} m and {MAX_SIZE:e} m"
+            "{what} is {}: expected a length between 10 µm and 1 km",
+            crate::units::format_quantity(v, crate::units::Dim::Length)
         )));
     }
     Ok(())
