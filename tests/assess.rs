@@ -246,6 +246,80 @@ fn spans_in_a_zone_touch_its_box() {
     );
 }
 
+/// A zone-bound span rule judges only the part of the span inside the zone
+/// (issue: a box over half a span judges that half), so a bar can clear a
+/// zone that begins downstream of it. One span along x from 0 to 2 m,
+/// 5 µC/m² from its start, a powered bar (η = 0.95, no offset) at 0.5 m:
+/// 0.25 µC/m² downstream of it (arithmetic of the bar model, σ′ = σ(1 − η)).
+#[test]
+fn a_zone_over_part_of_a_span_judges_that_part() {
+    let applies = "{spans: in_zone, zone: [1], gas_group: [IIA]}";
+    let bar = "eliminators:\n  - {id: E1, kind: powered, span: S1, position: 0.5 m, distance: 40 mm, side: above}\n";
+    let run_with = |from_x: f64, to_x: f64, check: &str, limit: &str| {
+        let l = line(&format!(
+            "{}{STRAIGHT}{}{bar}zones:\n{}",
+            web(""),
+            charge("5 uC/m^2"),
+            zone(
+                "Z1",
+                1,
+                "IIA",
+                "0.24 mJ",
+                [from_x, -1.0, 0.0],
+                [to_x, 1.0, 2.0]
+            )
+        ));
+        let a = run(&l, &[profile(check, applies, &[limit.to_string()])]);
+        let f = with_rule(&a, "r");
+        assert_eq!(f.len(), 1, "{:#?}", a.findings);
+        f[0].clone()
+    };
+    // The box from x = 1 m on: the part judged is 1 m to 2 m, downstream
+    // of the bar, and the bar clears it.
+    let downstream = run_with(1.0, 3.0, "web_charge", "fail: 1 uC/m^2");
+    assert_relative_eq!(downstream.value, 5e-6 * 0.05, max_relative = 1e-12);
+    assert_eq!(downstream.verdict, Verdict::Pass);
+    assert!(
+        downstream
+            .note
+            .contains("judged on the part inside the zone only: 1 m to 2 m along the span"),
+        "{}",
+        downstream.note
+    );
+    // The box from x = 0.2 m: the part before the bar is inside, so the
+    // span fails on its first 0.3 m whatever the bar does.
+    let upstream = run_with(0.2, 3.0, "web_charge", "fail: 1 uC/m^2");
+    assert_relative_eq!(upstream.value, 5e-6, max_relative = 1e-12);
+    assert_eq!(upstream.verdict, Verdict::Fail);
+    // The whole span in the box: no part note, the span's maximum.
+    let whole = run_with(-1.0, 3.0, "web_charge", "fail: 1 uC/m^2");
+    assert_relative_eq!(whole.value, 5e-6, max_relative = 1e-12);
+    assert!(!whole.note.contains("judged on the part"), "{}", whole.note);
+    // A meter rule over the downstream part reads the neutralised web: on
+    // a wide span far from everything E_n ≈ σ/(2ε0) (Gauss's law), so the
+    // reading at 1 in is below σ·d/(2ε0) of the upstream charge by far.
+    let meter_down = run_with(1.0, 3.0, "meter_reading", "fail: 5 kV");
+    let meter_whole = run_with(-1.0, 3.0, "meter_reading", "fail: 5 kV");
+    let sheet = |sigma: f64| sigma * 0.0254 / (2.0 * EPS0);
+    assert!(
+        meter_whole.value > 0.5 * sheet(5e-6),
+        "{} V against {} V",
+        meter_whole.value,
+        sheet(5e-6)
+    );
+    assert!(
+        meter_down.value < 0.2 * meter_whole.value,
+        "{} V against {} V",
+        meter_down.value,
+        meter_whole.value
+    );
+    assert!(
+        meter_down.note.contains("1 m to 2 m"),
+        "{}",
+        meter_down.note
+    );
+}
+
 // ------------------------------------------------------- point checks
 
 fn straight_with(points: &str, zones: &str, sigma: &str, extra_web: &str) -> Line {

@@ -125,6 +125,14 @@ fn r8_demo_line_results_match_the_copy_stored_before_the_scene() {
             continue;
         }
         if let Some(g) = got_f.iter().find(|g| key(g) == key(f)) {
+            // A zone-bound span rule now judges only the part of the span
+            // inside the zone (issue #12): another stretch, another value.
+            if g["note"]
+                .as_str()
+                .is_some_and(|n| n.contains("judged on the part inside the zone"))
+            {
+                continue;
+            }
             same(&g["value"], &f["value"], &key(f), 1e-12);
             compared += 1;
         }

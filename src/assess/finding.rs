@@ -154,6 +154,9 @@ pub struct GapBreakdown {
 pub enum FindingNote {
     /// The subject is in these zones (indices into `line.zones`).
     InZones(Vec<usize>),
+    /// A span rule bound to zones judged only these parts of the span, the
+    /// ones inside its zones: `(u0, u1)` along the span from its start [m].
+    ZoneParts(Vec<(f64, f64)>),
     /// The operator's capacitance [F]; `assumed`: the default body model.
     Capacitance {
         /// C [F].

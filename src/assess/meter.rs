@@ -36,6 +36,9 @@
 //!   meter is held clear of the rollers; a span shorter than 4d gets its
 //!   midpoint only), 3 positions across (the centreline and 2d inside each
 //!   edge, the centreline only on a web narrower than 4d), on both sides.
+//!   A rule bound to zones judges only the part of the span inside them
+//!   ([`span_part_worst`]: the stations spread over that part, clear of
+//!   the ends as above).
 //! - **Near an item** ([`near_item`]): the largest over 3 × 3 places around
 //!   the span's point nearest the item (± max(d, 10 mm) along and across,
 //!   clamped to the span), on the item's side; where none of those can
@@ -190,10 +193,35 @@ pub fn span_worst(
     d: Meters,
 ) -> Result<Option<MeterEquivalent>, FieldError> {
     let length = line.path.spans[k].length;
-    let (a, b) = if length > 4.0 * d {
+    span_part_worst(line, model, k, d, 0.0, length)
+}
+
+/// The largest meter-equivalent reading at distance `d` over the part
+/// `[from, to]` of span `k` (distances from its start [m]): the stations of
+/// [`span_worst`] that fall in the part, [`ALONG`] of them spread evenly
+/// over it; where the part lies wholly within 2d of an end, one station at
+/// the nearest place a meter is held (2d from that end). `None` when no
+/// station can hold a meter.
+pub fn span_part_worst(
+    line: &Line,
+    model: &dyn FieldAt,
+    k: usize,
+    d: Meters,
+    from: Meters,
+    to: Meters,
+) -> Result<Option<MeterEquivalent>, FieldError> {
+    let length = line.path.spans[k].length;
+    let (lo, hi) = if length > 4.0 * d {
         (2.0 * d, length - 2.0 * d)
     } else {
         (0.5 * length, 0.5 * length)
+    };
+    let (a, b) = (from.max(lo), to.min(hi));
+    let (a, b, count) = if a < b {
+        (a, b, ALONG)
+    } else {
+        let m = (0.5 * (from + to)).clamp(lo, hi);
+        (m, m, 1)
     };
     let half = line.web.width / 2.0;
     let across: Vec<Meters> = if half > 2.0 * d {
@@ -201,9 +229,13 @@ pub fn span_worst(
     } else {
         vec![0.0]
     };
-    let mut places = Vec::with_capacity(ALONG * across.len() * 2);
-    for i in 0..ALONG {
-        let u = a + (b - a) * i as f64 / (ALONG - 1) as f64;
+    let mut places = Vec::with_capacity(count * across.len() * 2);
+    for i in 0..count {
+        let u = if count > 1 {
+            a + (b - a) * i as f64 / (count - 1) as f64
+        } else {
+            a
+        };
         for &y in &across {
             for side in [Side::Above, Side::Below] {
                 places.push((u, y, side));

@@ -27,7 +27,11 @@
 //!   relaxation $σ_c ∝ e^{-s/(vτ)}$ only lowers |σc| along a piece, so its
 //!   start is its largest value. Subjects: every span, or the spans whose
 //!   charged rectangle touches the box of a matching zone
-//!   (`Zone::touches_span`).
+//!   (`Zone::touches_span`). A zone-bound span rule (this one and
+//!   **meter_reading**) judges only the part of the span inside the
+//!   matching zones (`Zone::span_part`, the segment clipped to the box):
+//!   a box over half a span judges that half, so a bar upstream of a zone
+//!   clears it; the finding then says which part was judged.
 //! - **field_at_points** — $x = |\mathbf E|$ at points of the kind
 //!   (optionally only inside a matching zone).
 //! - **body_voltage** — $x = |V|$ at operator points: the operator is taken

@@ -10,7 +10,7 @@ use super::finding::{Assumption, Finding, FindingNote, Subject};
 use super::meter::{self, DEFAULT_METER_DISTANCE, MeterEquivalent};
 use super::{
     Check, DEFAULT_BODY_CAPACITANCE, Rule, Subjects, ThresholdProfile, Verdict, WEB_OFFSET,
-    span_peak_sigma, stored_energy, verdict_for,
+    stored_energy, verdict_for,
 };
 use crate::charge::ChargeProfile;
 use crate::field::{ConductorResult, FieldAt, FieldError, PointField, SpanContribution};
@@ -159,17 +159,41 @@ impl<'a> Run<'a> {
         self.out.worst = self.out.worst.max(margin);
     }
 
-    /// Matching zones the span touches; `None` when the rule wants zones and
-    /// there is none.
-    fn span_zones(&self, rule: &Rule, span: &Span) -> Option<Vec<usize>> {
+    /// Where on `span` the rule applies: the matching zones it touches and
+    /// the parts of it inside them (the whole span for a rule not bound to
+    /// zones); `None` when the rule wants zones and the span touches none.
+    fn span_zones(&self, rule: &Rule, span: &Span) -> Option<SpanScope> {
         if !rule.applies.in_zone {
-            return Some(Vec::new());
+            return Some(SpanScope {
+                zones: Vec::new(),
+                parts: vec![(0.0, span.length)],
+                whole: true,
+            });
         }
         let width = self.line.web.width;
-        let zones = zone_indices(self.line, |z| {
-            rule.applies.zones.matches(z) && z.touches_span(span, width)
-        });
-        (!zones.is_empty()).then_some(zones)
+        let mut zones = Vec::new();
+        let mut parts = Vec::new();
+        for (i, z) in self.line.zones.iter().enumerate() {
+            if !rule.applies.zones.matches(z) {
+                continue;
+            }
+            if let Some(p) = z.span_part(span, width) {
+                zones.push(i);
+                parts.push(p);
+            }
+        }
+        if zones.is_empty() {
+            return None;
+        }
+        let parts = merge_parts(parts);
+        let whole = parts.len() == 1
+            && parts[0].0 <= PART_SLACK * span.length
+            && parts[0].1 >= (1.0 - PART_SLACK) * span.length;
+        Some(SpanScope {
+            zones,
+            parts,
+            whole,
+        })
     }
 
     /// Points of the rule's kind (with their index and field) and the
@@ -217,21 +241,29 @@ impl<'a> Run<'a> {
         Ok(())
     }
 
+    /// The largest |σ| on each span the rule applies to, over the part of
+    /// it inside the rule's zones (the whole span for a rule not bound to
+    /// zones).
     fn web_charge(&mut self, profile: &ThresholdProfile, rule: &Rule) {
         self.assume(Assumption::WebCharge);
         for (i, span) in self.line.path.spans.iter().enumerate() {
-            let Some(zones) = self.span_zones(rule, span) else {
+            let Some(scope) = self.span_zones(rule, span) else {
                 continue;
             };
+            let value = scope
+                .parts
+                .iter()
+                .map(|&(a, b)| part_peak_sigma(self.charge, span.s_start + a, span.s_start + b))
+                .fold(0.0, f64::max);
             self.push(
                 profile,
                 rule,
                 Found {
                     subject: Subject::Span(i),
-                    value: span_peak_sigma(span, self.charge),
+                    value,
                     warn: rule.warn,
                     fail: rule.fail,
-                    notes: || in_zones(zones),
+                    notes: || scope.notes(),
                     contributions: Vec::new,
                 },
             );
@@ -244,10 +276,18 @@ impl<'a> Run<'a> {
         self.assume(Assumption::MeterReading);
         let d = rule.meter_distance.unwrap_or(DEFAULT_METER_DISTANCE);
         for (i, span) in self.line.path.spans.iter().enumerate() {
-            let Some(zones) = self.span_zones(rule, span) else {
+            let Some(scope) = self.span_zones(rule, span) else {
                 continue;
             };
-            let Some(m) = meter::span_worst(self.line, self.model, i, d)? else {
+            let mut worst: Option<MeterEquivalent> = None;
+            for &(a, b) in &scope.parts {
+                if let Some(m) = meter::span_part_worst(self.line, self.model, i, d, a, b)?
+                    && worst.is_none_or(|w| m.reading() > w.reading())
+                {
+                    worst = Some(m);
+                }
+            }
+            let Some(m) = worst else {
                 continue;
             };
             self.push(
@@ -260,7 +300,7 @@ impl<'a> Run<'a> {
                     fail: rule.fail,
                     notes: || {
                         let mut notes = vec![FindingNote::Meter(m)];
-                        notes.extend(in_zones(zones));
+                        notes.extend(scope.notes());
                         notes
                     },
                     contributions: Vec::new,
@@ -455,7 +495,7 @@ impl<'a> Run<'a> {
             .spans
             .iter()
             .enumerate()
-            .filter_map(|(i, s)| self.span_zones(rule, s).map(|z| (i, z)))
+            .filter_map(|(i, s)| self.span_zones(rule, s).map(|z| (i, z.zones)))
             .collect();
         if subjects.is_empty() {
             return;
@@ -519,6 +559,58 @@ impl<'a> Run<'a> {
                 },
             );
         }
+    }
+}
+
+/// Parts of a span closer to its ends than this fraction of its length
+/// count as reaching the end (round-off of the clipping) [1].
+const PART_SLACK: f64 = 1e-9;
+
+/// Where on a span a rule applies.
+struct SpanScope {
+    /// The matching zones the span touches (empty for a rule not bound to
+    /// zones).
+    zones: Vec<usize>,
+    /// The parts judged, `(u0, u1)` along the span from its start [m],
+    /// sorted and disjoint.
+    parts: Vec<(f64, f64)>,
+    /// Whether the parts make up the whole span.
+    whole: bool,
+}
+
+impl SpanScope {
+    /// The finding's notes: the zones, and the parts judged when they are
+    /// not the whole span.
+    fn notes(&self) -> Vec<FindingNote> {
+        let mut notes = in_zones(self.zones.clone());
+        if !self.whole {
+            notes.push(FindingNote::ZoneParts(self.parts.clone()));
+        }
+        notes
+    }
+}
+
+/// Intervals sorted and overlapping ones joined.
+fn merge_parts(mut parts: Vec<(f64, f64)>) -> Vec<(f64, f64)> {
+    parts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut out: Vec<(f64, f64)> = Vec::with_capacity(parts.len());
+    for (a, b) in parts {
+        match out.last_mut() {
+            Some(last) if a <= last.1 => last.1 = last.1.max(b),
+            _ => out.push((a, b)),
+        }
+    }
+    out
+}
+
+/// Largest |σ| on the path between arc lengths `s0` ≤ `s1` [m], across-web
+/// peak included [C/m²] (`ChargeProfile::peak_between`; a part of zero
+/// length, where a box only touches the span, takes |σc| there).
+fn part_peak_sigma(charge: &ChargeProfile, s0: f64, s1: f64) -> f64 {
+    if s1 > s0 {
+        charge.peak_between(s0, s1)
+    } else {
+        charge.sigma_c(s0).abs() * charge.across.max_abs()
     }
 }
 

@@ -332,10 +332,24 @@ impl Zone {
     /// Whether any part of a span's charged rectangle lies inside the box:
     /// the segment `[start, end]` in x-z, extruded over y ∈ [−w/2, w/2].
     pub fn touches_span(&self, span: &Span, width: Meters) -> bool {
+        self.span_part(span, width).is_some()
+    }
+
+    /// The part of a span's charged rectangle inside the box, as distances
+    /// `(u0, u1)` along the span from its start [m], `None` when no part is.
+    ///
+    /// The rectangle is the segment `[start, end]` in x-z extruded over
+    /// y ∈ [−w/2, w/2], so its part inside an axis-aligned box is the
+    /// segment clipped against the x and z slabs (Liang–Barsky: with
+    /// p(t) = p0 + t·Δp, t ∈ [0, 1], each slab lo ≤ p ≤ hi keeps
+    /// t ∈ [min(a, b), max(a, b)], a = (lo − p0)/Δp, b = (hi − p0)/Δp), kept
+    /// whole across the web when the box overlaps y ∈ [−w/2, w/2]; then
+    /// u = t·L. Reference: Y.-D. Liang and B. A. Barsky, "A new concept and
+    /// method for line clipping", ACM Trans. Graphics 3(1), 1984.
+    pub fn span_part(&self, span: &Span, width: Meters) -> Option<(Meters, Meters)> {
         if self.max[1] < -width / 2.0 || self.min[1] > width / 2.0 {
-            return false;
+            return None;
         }
-        // Clip the segment against the x and z slabs (Liang–Barsky).
         let (x0, z0) = (span.start[0], span.start[1]);
         let (dx, dz) = (span.end[0] - x0, span.end[1] - z0);
         let mut t0: f64 = 0.0;
@@ -346,7 +360,7 @@ impl Zone {
         ] {
             if d == 0.0 {
                 if p0 < lo || p0 > hi {
-                    return false;
+                    return None;
                 }
             } else {
                 let (a, b) = ((lo - p0) / d, (hi - p0) / d);
@@ -354,7 +368,7 @@ impl Zone {
                 t1 = t1.min(a.max(b));
             }
         }
-        t0 <= t1
+        (t0 <= t1).then_some((t0 * span.length, t1 * span.length))
     }
 
     /// A label such as `Z1 (coating head enclosure, zone 1 IIA)`.

@@ -233,6 +233,14 @@ pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
                 .collect::<Vec<_>>()
                 .join(", ")
         ),
+        FindingNote::ZoneParts(parts) => format!(
+            "judged on the part inside the zone only: {} along the span",
+            parts
+                .iter()
+                .map(|&(a, b)| format!("{} to {}", len(a), len(b)))
+                .collect::<Vec<_>>()
+                .join(" and ")
+        ),
         FindingNote::Capacitance {
             assumed: true, ..
         } => "C = 150 pF (IEC 61000-4-2 body model)".to_string(),
