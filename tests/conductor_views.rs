@@ -381,3 +381,55 @@ fn the_side_view_draws_a_conductor_where_it_is() {
         &stray[..stray.len().min(5)]
     );
 }
+
+/// The gravure test line (tests/fixtures/lines/gravure.yaml): a grounded
+/// 300 mm cylinder CYL beside the path, under span S5 (R4-R5), not on the
+/// web path. No bar the planner searches or proposes comes within three bar
+/// distances of it, and the positions that would are listed as refused.
+/// The distance is checked independently of the planner's convex test: the
+/// bar is a segment across the web (|y| ≤ 0.5 m) parallel to the cylinder's
+/// axis (y, 1.4 m long, so it covers the bar), hence its distance is the
+/// side-view distance from the bar to the axis minus the radius.
+#[test]
+fn no_planned_bar_faces_the_grounded_cylinder_beside_the_path() {
+    use websigma::model::geometry::meter_geometry;
+    let text = include_str!("fixtures/lines/gravure.yaml");
+    let line = parse_line(text).unwrap();
+    let to_cylinder = |c: &Candidate| {
+        let (at, _) = meter_geometry(&line.path.spans[c.span], c.along, 0.0, c.distance, c.side);
+        (at[0] - 3.1).hypot(at[2] - 0.8) - 0.15
+    };
+    let st = PlanSettings::new();
+    let (cands, refused) = candidates_and_refusals(&line, &st);
+    assert!(
+        refused.len() >= 2,
+        "positions under S5 near CYL are refused: {refused:#?}"
+    );
+    for r in &refused {
+        let d = to_cylinder(&r.candidate);
+        assert!(d < 0.12, "refused at {d} m from CYL: {r:#?}");
+        let Refusal::NearConductor {
+            conductor,
+            distance,
+            ..
+        } = r.reason;
+        assert_eq!(conductor.id(&line), "CYL");
+        assert!((distance - d).abs() < 1e-5, "{distance} against {d}");
+    }
+    for c in &cands {
+        assert!(to_cylinder(c) >= 0.12 - 1e-9, "{c:#?}");
+    }
+    let scene = Scene::new(&line, SolverSettings::default()).unwrap();
+    let profiles: Vec<_> = line
+        .assess
+        .iter()
+        .map(|n| websigma::assess::profile::load_profile(n).unwrap())
+        .collect();
+    let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
+    assert!(!p.options.is_empty());
+    for o in &p.options {
+        for &b in &o.bars {
+            assert!(to_cylinder(&p.candidates[b]) >= 0.12 - 1e-9);
+        }
+    }
+}
