@@ -31,6 +31,77 @@
 //! σ = 2ε0·E (isolated sheet) and σ = ε0·E (all field on one side, Gauss's
 //! law) are shown beside the result.
 //!
+//! ## Passive devices: the self-consistent fit
+//!
+//! A passive device (tinsel, brush) leaves, for the centreline density σ
+//! arriving,
+//!
+//! $$ σ' = \operatorname{sign}σ\,\min\big(|σ|,\ \max(|σ|(1-η),\ σ_{res})\big) $$
+//!
+//! when the field at its tips, |E_tip|, reaches its onset E_on, and σ′ = σ
+//! otherwise (J. A. McInally, IEEE Trans. Ind. Appl. IA-13(3), 1977; K.
+//! Robinson, PFFC). E_tip comes from the charge as it arrives (upstream
+//! devices applied, this one and later passive ones not), so it too depends
+//! on x. When such a device lies downstream of a fitted segment, every
+//! amplitude downstream of it, and so every reading whose meter sees that
+//! charge, is a piecewise-affine function of x, discontinuous where a
+//! device switches on: the linear rows above no longer hold for all x.
+//!
+//! Each passive device is in one of five *regimes*: off; on with
+//! |σ| ≤ σ_res (σ′ = σ); on at its floor (σ′ = ±σ_res); on proportional
+//! (σ′ = σ(1 − η)); powered bars are affine always. With every regime R
+//! fixed, the response is affine, so A(x) = A0(R) + Σ_j x_j T_j(R) holds
+//! *exactly* (A0 = A(0), T_j = A(e_j) − A(0) built in regime R), and the
+//! rows r = b(R) + M(R) x are exact on the set X_R of x whose own regimes
+//! are R. The fit (semi-smooth Newton on the regimes):
+//!
+//! 1. R_0 = the regimes at the charge entries' own prediction;
+//! 2. x_i = the weighted least-squares solution of the rows of R_i;
+//! 3. R_{i+1} = the regimes at x_i (tip fields and arriving densities from
+//!    the nonlinear model built from x_i); if R_{i+1} = R_i, stop;
+//! 4. stop also on a regime seen before (a cycle) or after
+//!    [`fit::MAX_ITERATIONS`] solves.
+//!
+//! **What is proven.** At a stop in step 3, x lies in X_R and the exact
+//! model coincides with the affine one there, so the residuals at x are
+//! those of the exact model and x minimises the weighted squared residual
+//! over X_R (the quadratic's minimiser lies in X_R). When the readings
+//! determine as many densities as there are readings and the affine system
+//! is solvable, the residuals are zero: x reproduces every reading, the
+//! global optimum. The iteration visits finitely many regimes (5 per
+//! device), and the cycle check makes it stop. **What is checked.** That
+//! the stop was in step 3 ([`FitMethod::self_consistent`]) and, in every
+//! case, each reading against the final profile (below).
+//!
+//! **Fallback** (a cycle, or the cap): with one reading and one unknown,
+//! h(x) = r̂(x) − r is continuous on every interval where no device switches
+//! on or off (with the activity fixed every σ′(σ) above is continuous and
+//! nondecreasing, so every amplitude A_k(x) is too; h is then monotone when
+//! the meter's own segment outweighs the others — checked by the residual,
+//! not proven). Two
+//! visited points with h of opposite signs bracket either a root of h or a
+//! switch of a device; bisection to adjacent doubles returns it (by the
+//! intermediate value theorem, a root if h is continuous on the bracket).
+//! A root is then polished by one solve in its regime. A switch leaves a
+//! residual: no x reproduces the reading (an *onset gap*: at the density
+//! where the device starts to ionise the reading jumps). Otherwise the
+//! visited point with the least exact weighted squared residual is kept.
+//!
+//! **Residuals.** Every residual is the reading minus what the final
+//! profile gives at the meter: n̂·E of `scene.web(final charge)` at the
+//! meter face (the field `field --at` gives there), or the final density
+//! for a density reading. A reading with |residual| > u_m is *not
+//! reproduced* ([`ReadingNote::NotReproduced`]); the assessment fails it.
+//! For several readings on one segment this flags readings farther than
+//! their tolerance from the weighted fit (two equal-tolerance readings:
+//! exactly when their tolerance intervals, mapped through the model, do not
+//! overlap).
+//!
+//! **Bounds** are those of the affine model of the final regime (the box
+//! |δr_m| ≤ u_m through P, at every distance corner): exact while the
+//! reading errors keep every device in its regime; an error that moves a
+//! device across its onset or its floor is not covered.
+//!
 //! Conductors: when the scene holds them, G_km includes the charge that
 //! segment k induces on them, so the fit already accounts for their
 //! screening. Each field reading also reports the screening factor
@@ -47,6 +118,10 @@
 //! | G_km | normal field at meter m per unit A_k | V/m per C/m² |
 //! | u_m | reading uncertainty | V/m |
 //! | k_m | screening factor of meter m | 1 |
+//! | σ, σ′ | density arriving at and leaving a device | C/m² |
+//! | η, σ_res | a device's efficiency, residual density | 1, C/m² |
+//! | E_tip, E_on | field at a passive device's tips, its onset | V/m |
+//! | R, X_R | regimes of every device; the x where they hold | —, C/m² |
 //! | ε0 | vacuum permittivity | F/m |
 //!
 //! Assumptions: the meter reads the undisturbed field at its sensing point
@@ -55,7 +130,11 @@
 //!
 //! ## Reference
 //! Least squares: Å. Björck, *Numerical Methods for Least Squares Problems*
-//! (SIAM, 1996), ch. 1. Infinite-sheet rule: Gauss's law (FACTS.md). Field
+//! (SIAM, 1996), ch. 1. Regime iteration for piecewise-affine equations:
+//! the active-set / semi-smooth Newton idea (J. Nocedal, S. J. Wright,
+//! *Numerical Optimization*, 2nd ed., Springer 2006, ch. 16 — the chapter
+//! from memory); bisection: the intermediate value theorem. Passive devices: J. A.
+//! McInally 1977 (above). Infinite-sheet rule: Gauss's law (FACTS.md). Field
 //! meter practice (reading ÷ calibrated distance, mid-span readings): K.
 //! Robinson, PFFC "Static Beat" 2010 and 2019; NFPA 77 (2000) 5.4.
 

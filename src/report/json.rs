@@ -253,9 +253,10 @@ pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
         num(x.at[0]),
         num(x.at[1]),
         num(x.at[2]),
-        num(x.normal[0]),
-        num(x.normal[1]),
-        num(x.normal[2]),
+        // + 0.0: a zero component reads 0, not -0.
+        num(x.normal[0] + 0.0),
+        num(x.normal[1] + 0.0),
+        num(x.normal[2] + 0.0),
         // What the final profile gives at the meter: n̂·E [V/m] for a
         // field reading, the density [C/m²] for a density reading.
         match x.model_field {
