@@ -283,6 +283,15 @@ fn a_reading_in_the_onset_gap_is_an_error() {
             .any(|l| l.contains("FAIL") && l.contains("readings/reproduced")),
         "{out}"
     );
+    // The report says what to do about it, and marks the reading.
+    let md =
+        std::fs::read_to_string(crate::util::only_report(&d.path().join("out")).join("report.md"))
+            .unwrap();
+    assert!(
+        md.contains("does not give back a reading on span S4 (R3-R4)"),
+        "{md}"
+    );
+    assert!(md.contains("NOT REPRODUCED"));
     let out = websigma()
         .args(["readings", path.to_str().unwrap()])
         .assert()
