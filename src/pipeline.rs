@@ -100,7 +100,18 @@ pub fn evaluate(
         &points,
         conductors.as_deref(),
         profiles,
-    )?;
+    )?
+    // The readings' own checks: every reading reproduced by the fitted
+    // charge, every passive device's onset.
+    .with_findings(
+        crate::assess::readings_fit::reading_fit_findings(line, &readings)
+            .into_iter()
+            .chain(crate::assess::eliminators::onset_findings(
+                line,
+                &readings.eliminators,
+            ))
+            .collect(),
+    );
     Ok(Evaluation {
         readings,
         charge,

@@ -18,6 +18,8 @@
 //! - `mutations`: mutated demo lines through `check` and `assess`;
 //! - `hardening_outputs`: reports that cannot be forged, `plan --apply` whole
 //!   or not at all, CSV cells that are no formulas, report ids and leftovers.
+//! - `readings_nonlinear`: the readings fit with a passive device between the
+//!   charge and the meters (self-consistent, its onset gap, the onset check);
 //! - `hardening_reads`: inputs read with bounded memory (devices, pipes, long
 //!   rows, oversize lists), point files as CSV, the 1 µm rule, bounded flags.
 
@@ -40,6 +42,7 @@ mod pipeline;
 mod plan;
 mod plots;
 mod readings;
+mod readings_nonlinear;
 mod reports;
 mod solver;
 mod util;

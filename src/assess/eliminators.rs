@@ -14,6 +14,18 @@
 //! - **opposite bars**: two bars on opposite sides of a span closer along it
 //!   than twice their distance neutralise each other's ions; value =
 //!   2·d / offset, warning at 1 (K. Robinson, PFFC; common practice);
+//! - **onset** (passive devices): a passive device ionises only when the
+//!   field of the web's charge at its tips reaches its onset E_on; below,
+//!   it neutralises nothing. value = E_on / E_tip, warning at 1 (a bar that
+//!   does not work leaves the charge as it is, which the other checks then
+//!   judge; it is no hazard by itself). E_tip is |E| at the tips from the
+//!   charge arriving (upstream devices applied), as the readings stage
+//!   computes it. Since the field is linear in the charge, the device
+//!   would ionise with about E_on/E_tip times the charge arriving (every
+//!   density scaled together) (J. A. McInally, IEEE Trans. Ind. Appl.
+//!   IA-13(3), 1977: a passive device works by corona from its tips, which
+//!   needs a threshold field; K. Robinson, PFFC "Static Beat": passive
+//!   devices need a charged web to work; the default onset is from memory);
 //! - **zone approval**: a powered bar inside a zone 0 or 1 must be of a type
 //!   approved for that zone — a caution, not a computed risk (IEC 60079-0
 //!   equipment requirements; common practice).
@@ -24,6 +36,7 @@
 //! | v | web speed | m/s |
 //! | I′, I_ion | web current and bar ion output per metre | A/m |
 //! | d | bar-to-web distance | m |
+//! | E_tip, E_on | field at a passive device's tips, its onset | V/m |
 //!
 //! ## Reference
 //! K. Robinson, PFFC "Static Beat" columns (2010, 2019); FACTS.md "Static
@@ -101,6 +114,15 @@ static OPPOSITE_BARS: LazyLock<BuiltIn> = LazyLock::new(|| {
         Confidence::CommonPractice,
     )
 });
+static ONSET: LazyLock<BuiltIn> = LazyLock::new(|| {
+    built_in(
+        "onset",
+        "E_on/E_tip",
+        "field at a passive device's tips from the charge arriving, against the onset it needs to ionise",
+        "J. A. McInally, IEEE Trans. Ind. Appl. IA-13(3), 1977: a passive device ionises by corona at its tips only above an onset field; K. Robinson, PFFC \"Static Beat\" (the default onset is from memory)",
+        Confidence::Confirmed,
+    )
+});
 static ZONE_APPROVAL: LazyLock<BuiltIn> = LazyLock::new(|| {
     built_in(
         "zone-approval",
@@ -161,6 +183,50 @@ pub fn eliminator_findings(line: &Line, charge: &ChargeProfile) -> Vec<Finding> 
     each_check(line, charge, |rule, subject, value, warn, fail, note| {
         out.push(finding(rule, subject, value, warn, fail, note))
     });
+    out
+}
+
+/// The onset findings of the passive devices, from what the readings
+/// stage decided (`states`, one per eliminator, with the field at each
+/// passive device's tips): value = E_on / E_tip, warning at 1 (the device
+/// does not ionise). A device no charge reaches (E_tip = 0) or without an
+/// onset gives none.
+pub fn onset_findings(line: &Line, states: &[crate::readings::EliminatorState]) -> Vec<Finding> {
+    let mut out = Vec::new();
+    for st in states {
+        let Some(e) = line.eliminators.get(st.index) else {
+            continue;
+        };
+        let (Some(tip), Some(onset)) = (st.tip_field, e.onset) else {
+            continue;
+        };
+        if e.kind != EliminatorKind::Passive || tip.is_nan() || tip <= 0.0 {
+            continue;
+        }
+        let value = onset / tip;
+        let mut f = finding(
+            &ONSET,
+            Subject::Eliminator(st.index),
+            value,
+            Some(1.0),
+            None,
+            FindingNote::Onset {
+                eliminator: st.index,
+                active: st.active,
+                tip_field: tip,
+                onset,
+                sigma_in: st.sigma_in,
+                distance: e.distance,
+            },
+        );
+        // Whether it ionises is the solver's decision (E_tip ≥ E_on).
+        f.verdict = if st.active {
+            super::Verdict::Pass
+        } else {
+            super::Verdict::Warn
+        };
+        out.push(f);
+    }
     out
 }
 

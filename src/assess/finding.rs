@@ -256,6 +256,33 @@ pub enum FindingNote {
     WebPotential(Volts),
     /// The profile's own note on the rule.
     Rule(Arc<str>),
+    /// A passive device's tip field against its onset.
+    Onset {
+        /// Index into `line.eliminators`.
+        eliminator: usize,
+        /// Whether it ionises (the solver's decision, E_tip ≥ E_on).
+        active: bool,
+        /// |E| at the tips from the charge arriving [V/m].
+        tip_field: VoltsPerMeter,
+        /// The field needed to ionise [V/m].
+        onset: VoltsPerMeter,
+        /// Centreline density arriving [C/m²].
+        sigma_in: f64,
+        /// Tips to web [m].
+        distance: Meters,
+    },
+    /// A meter reading against what the fitted charge gives there.
+    ReadingFit {
+        /// Index into `line.readings`.
+        reading: usize,
+        /// Reading minus what the final charge profile gives at the meter
+        /// (V/m, or C/m² for a density reading).
+        residual: f64,
+        /// The reading's tolerance u = accuracy·|r| + offset (same unit).
+        tolerance: f64,
+        /// Whether the reading is a density (C/m²).
+        density: bool,
+    },
 }
 
 /// A modelling assumption a rule used.

@@ -169,6 +169,7 @@ mod finding;
 pub mod gap;
 pub mod meter;
 pub mod profile;
+pub mod readings_fit;
 mod rules;
 
 pub use finding::{

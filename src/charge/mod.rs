@@ -228,14 +228,111 @@ pub fn charge_profile_with(
     overrides: &[(usize, f64)],
     active: &[bool],
 ) -> ChargeProfile {
-    build(line, overrides, active)
+    charge_profile_arrivals(line, overrides, active).0
 }
 
-fn build(line: &Line, overrides: &[(usize, f64)], active: &[bool]) -> ChargeProfile {
+/// [`charge_profile_with`], and the density arriving at every eliminator
+/// [C/m²] (after the charge entries at the same place; 0 for one at the
+/// path's start).
+pub fn charge_profile_arrivals(
+    line: &Line,
+    overrides: &[(usize, f64)],
+    active: &[bool],
+) -> (ChargeProfile, Vec<CoulombsPerSquareMeter>) {
+    build(line, overrides, &mut |i, e, sigma| {
+        let on = active.get(i).copied().unwrap_or(true);
+        (neutralise(e, sigma, on), on)
+    })
+}
+
+/// Which piece of its response an eliminator works on, for the density σ
+/// arriving [C/m²] (see [`neutralise`]). Within one regime the response is
+/// affine, σ′ = α·σ + β ([`Regime::affine`]), so a profile built with every
+/// regime fixed is affine in the imposed densities.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
+pub enum Regime {
+    /// A powered bar: σ′ = σ·(1 − η) + σ_off.
+    Powered,
+    /// A passive device that does not ionise: σ′ = σ.
+    Inactive,
+    /// A passive device that ionises with |σ| ≤ σ_res: σ′ = σ.
+    PassThrough,
+    /// A passive device that ionises with |σ|·(1 − η) ≤ σ_res < |σ|:
+    /// σ′ = sign(σ)·σ_res (`true` for σ > 0).
+    Floor(bool),
+    /// A passive device that ionises with |σ|·(1 − η) > σ_res:
+    /// σ′ = σ·(1 − η).
+    Proportional,
+}
+
+impl Regime {
+    /// The regime of eliminator `e` for the arriving density σ [C/m²],
+    /// working (`active`) or not.
+    pub fn of(e: &Eliminator, sigma: CoulombsPerSquareMeter, active: bool) -> Regime {
+        match e.kind {
+            EliminatorKind::Powered => Regime::Powered,
+            EliminatorKind::Passive if !active => Regime::Inactive,
+            EliminatorKind::Passive => {
+                let a = sigma.abs();
+                if a <= e.residual {
+                    Regime::PassThrough
+                } else if a * (1.0 - e.efficiency) <= e.residual {
+                    Regime::Floor(sigma > 0.0)
+                } else {
+                    Regime::Proportional
+                }
+            }
+        }
+    }
+
+    /// (α [1], β [C/m²]) of σ′ = α·σ + β for eliminator `e` in this regime;
+    /// equal to [`neutralise`] wherever [`Regime::of`] gives this regime.
+    pub fn affine(self, e: &Eliminator) -> (f64, CoulombsPerSquareMeter) {
+        match self {
+            Regime::Powered => (1.0 - e.efficiency, e.residual),
+            Regime::Inactive | Regime::PassThrough => (1.0, 0.0),
+            Regime::Floor(positive) => (0.0, if positive { e.residual } else { -e.residual }),
+            Regime::Proportional => (1.0 - e.efficiency, 0.0),
+        }
+    }
+
+    /// Whether the device ionises in this regime.
+    pub fn active(self) -> bool {
+        self != Regime::Inactive
+    }
+}
+
+/// The charge profile with some starting densities imposed (as in
+/// [`charge_profile_with`]) and every eliminator held in the given regime
+/// (`regimes[i]` for `line.eliminators[i]`): σ′ = α·σ + β with (α, β) of
+/// [`Regime::affine`], whatever σ arrives. The amplitudes are then affine
+/// in the imposed densities. Also returns the density arriving at every
+/// eliminator [C/m²] (after the charge entries at the same place).
+pub fn charge_profile_in_regimes(
+    line: &Line,
+    overrides: &[(usize, f64)],
+    regimes: &[Regime],
+) -> (ChargeProfile, Vec<CoulombsPerSquareMeter>) {
+    build(line, overrides, &mut |i, e, sigma| {
+        let r = regimes.get(i).copied().unwrap_or(Regime::Powered);
+        let (alpha, beta) = r.affine(e);
+        (alpha * sigma + beta, r.active())
+    })
+}
+
+/// The profile and the density arriving at every eliminator [C/m²] (0 for
+/// one the path never reaches), with `respond(i, e, σ) = (σ′, ionises)`
+/// giving what eliminator i leaves.
+fn build(
+    line: &Line,
+    overrides: &[(usize, f64)],
+    respond: &mut dyn FnMut(usize, &Eliminator, f64) -> (f64, bool),
+) -> (ChargeProfile, Vec<CoulombsPerSquareMeter>) {
     let lambda = line.web.decay_length();
     let total = line.path.total_length;
     let starts = segment_starts(line);
     let mut segments: Vec<ChargeSegment> = Vec::with_capacity(starts.len());
+    let mut arriving = vec![0.0; line.eliminators.len()];
     let mut carried = 0.0;
     for (k, &s0) in starts.iter().enumerate() {
         let s1 = starts.get(k + 1).copied().unwrap_or(total);
@@ -255,8 +352,11 @@ fn build(line: &Line, overrides: &[(usize, f64)], active: &[bool]) -> ChargeProf
             .enumerate()
             .filter(|(_, e)| e.s == s0)
         {
-            let on = active.get(i).copied().unwrap_or(true);
-            a = neutralise(e, a, on);
+            if let Some(slot) = arriving.get_mut(i) {
+                *slot = a;
+            }
+            let (out, on) = respond(i, e, a);
+            a = out;
             origin = SegmentOrigin::Eliminator {
                 eliminator: i,
                 active: on,
@@ -278,11 +378,14 @@ fn build(line: &Line, overrides: &[(usize, f64)], active: &[bool]) -> ChargeProf
         });
         carried = a * decay(s1 - s0, lambda);
     }
-    ChargeProfile {
-        segments,
-        decay_length: lambda,
-        across: line.across.clone(),
-    }
+    (
+        ChargeProfile {
+            segments,
+            decay_length: lambda,
+            across: line.across.clone(),
+        },
+        arriving,
+    )
 }
 
 /// The charge the entries state with no eliminator at all (for the
@@ -291,4 +394,56 @@ pub fn charge_without_eliminators(line: &Line) -> ChargeProfile {
     let mut bare = line.clone();
     bare.eliminators.clear();
     charge_profile(&bare)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{Eliminator, EliminatorKind, Side};
+
+    fn passive(efficiency: f64, residual: f64) -> Eliminator {
+        Eliminator {
+            id: "T".into(),
+            kind: EliminatorKind::Passive,
+            span: 0,
+            along: 0.0,
+            s: 0.0,
+            distance: 0.05,
+            side: Side::Above,
+            efficiency,
+            residual,
+            onset: Some(80e3),
+            ion_output: 0.0,
+        }
+    }
+
+    /// The affine piece of every regime equals the piecewise response
+    /// (McInally 1977: σ′ = sign σ·min(|σ|, max(|σ|(1 − η), σ_res))) on
+    /// the densities of that regime, on both sides of every breakpoint.
+    #[test]
+    fn each_regime_is_the_response_where_it_holds() {
+        let e = passive(0.8, 1.5e-6);
+        let mut seen = std::collections::HashSet::new();
+        for i in -400..=400 {
+            let sigma = i as f64 * 0.05e-6;
+            for active in [false, true] {
+                let r = Regime::of(&e, sigma, active);
+                seen.insert(r);
+                let (a, b) = r.affine(&e);
+                let exact = neutralise(&e, sigma, active);
+                assert!(
+                    (a * sigma + b - exact).abs() <= 1e-18,
+                    "σ {sigma}: {r:?} gives {} against {exact}",
+                    a * sigma + b
+                );
+                assert_eq!(r.active(), active);
+            }
+        }
+        // Breakpoints: |σ| = σ_res and |σ|(1 − η) = σ_res (7.5 µC/m²).
+        assert_eq!(Regime::of(&e, 1.5e-6, true), Regime::PassThrough);
+        assert_eq!(Regime::of(&e, 1.6e-6, true), Regime::Floor(true));
+        assert_eq!(Regime::of(&e, -7.4e-6, true), Regime::Floor(false));
+        assert_eq!(Regime::of(&e, 7.6e-6, true), Regime::Proportional);
+        assert_eq!(seen.len(), 5, "{seen:?}");
+    }
 }

@@ -31,6 +31,77 @@
 //! σ = 2ε0·E (isolated sheet) and σ = ε0·E (all field on one side, Gauss's
 //! law) are shown beside the result.
 //!
+//! ## Passive devices: the self-consistent fit
+//!
+//! A passive device (tinsel, brush) leaves, for the centreline density σ
+//! arriving,
+//!
+//! $$ σ' = \operatorname{sign}σ\,\min\big(|σ|,\ \max(|σ|(1-η),\ σ_{res})\big) $$
+//!
+//! when the field at its tips, |E_tip|, reaches its onset E_on, and σ′ = σ
+//! otherwise (J. A. McInally, IEEE Trans. Ind. Appl. IA-13(3), 1977; K.
+//! Robinson, PFFC). E_tip comes from the charge as it arrives (upstream
+//! devices applied, this one and later passive ones not), so it too depends
+//! on x. When such a device lies downstream of a fitted segment, every
+//! amplitude downstream of it, and so every reading whose meter sees that
+//! charge, is a piecewise-affine function of x, discontinuous where a
+//! device switches on: the linear rows above no longer hold for all x.
+//!
+//! Each passive device is in one of five *regimes*: off; on with
+//! |σ| ≤ σ_res (σ′ = σ); on at its floor (σ′ = ±σ_res); on proportional
+//! (σ′ = σ(1 − η)); powered bars are affine always. With every regime R
+//! fixed, the response is affine, so A(x) = A0(R) + Σ_j x_j T_j(R) holds
+//! *exactly* (A0 = A(0), T_j = A(e_j) − A(0) built in regime R), and the
+//! rows r = b(R) + M(R) x are exact on the set X_R of x whose own regimes
+//! are R. The fit (semi-smooth Newton on the regimes):
+//!
+//! 1. R_0 = the regimes at the charge entries' own prediction;
+//! 2. x_i = the weighted least-squares solution of the rows of R_i;
+//! 3. R_{i+1} = the regimes at x_i (tip fields and arriving densities from
+//!    the nonlinear model built from x_i); if R_{i+1} = R_i, stop;
+//! 4. stop also on a regime seen before (a cycle) or after
+//!    [`fit::MAX_ITERATIONS`] solves.
+//!
+//! **What is proven.** At a stop in step 3, x lies in X_R and the exact
+//! model coincides with the affine one there, so the residuals at x are
+//! those of the exact model and x minimises the weighted squared residual
+//! over X_R (the quadratic's minimiser lies in X_R). When the readings
+//! determine as many densities as there are readings and the affine system
+//! is solvable, the residuals are zero: x reproduces every reading, the
+//! global optimum. The iteration visits finitely many regimes (5 per
+//! device), and the cycle check makes it stop. **What is checked.** That
+//! the stop was in step 3 ([`FitMethod::self_consistent`]) and, in every
+//! case, each reading against the final profile (below).
+//!
+//! **Fallback** (a cycle, or the cap): with one reading and one unknown,
+//! h(x) = r̂(x) − r is continuous on every interval where no device switches
+//! on or off (with the activity fixed every σ′(σ) above is continuous and
+//! nondecreasing, so every amplitude A_k(x) is too; h is then monotone when
+//! the meter's own segment outweighs the others — checked by the residual,
+//! not proven). Two
+//! visited points with h of opposite signs bracket either a root of h or a
+//! switch of a device; bisection to adjacent doubles returns it (by the
+//! intermediate value theorem, a root if h is continuous on the bracket).
+//! A root is then polished by one solve in its regime. A switch leaves a
+//! residual: no x reproduces the reading (an *onset gap*: at the density
+//! where the device starts to ionise the reading jumps). Otherwise the
+//! visited point with the least exact weighted squared residual is kept.
+//!
+//! **Residuals.** Every residual is the reading minus what the final
+//! profile gives at the meter: n̂·E of `scene.web(final charge)` at the
+//! meter face (the field `field --at` gives there), or the final density
+//! for a density reading. A reading with |residual| > u_m is *not
+//! reproduced* ([`ReadingNote::NotReproduced`]); the assessment fails it.
+//! For several readings on one segment this flags readings farther than
+//! their tolerance from the weighted fit (two equal-tolerance readings:
+//! exactly when their tolerance intervals, mapped through the model, do not
+//! overlap).
+//!
+//! **Bounds** are those of the affine model of the final regime (the box
+//! |δr_m| ≤ u_m through P, at every distance corner): exact while the
+//! reading errors keep every device in its regime; an error that moves a
+//! device across its onset or its floor is not covered.
+//!
 //! Conductors: when the scene holds them, G_km includes the charge that
 //! segment k induces on them, so the fit already accounts for their
 //! screening. Each field reading also reports the screening factor
@@ -47,6 +118,10 @@
 //! | G_km | normal field at meter m per unit A_k | V/m per C/m² |
 //! | u_m | reading uncertainty | V/m |
 //! | k_m | screening factor of meter m | 1 |
+//! | σ, σ′ | density arriving at and leaving a device | C/m² |
+//! | η, σ_res | a device's efficiency, residual density | 1, C/m² |
+//! | E_tip, E_on | field at a passive device's tips, its onset | V/m |
+//! | R, X_R | regimes of every device; the x where they hold | —, C/m² |
 //! | ε0 | vacuum permittivity | F/m |
 //!
 //! Assumptions: the meter reads the undisturbed field at its sensing point
@@ -55,9 +130,15 @@
 //!
 //! ## Reference
 //! Least squares: Å. Björck, *Numerical Methods for Least Squares Problems*
-//! (SIAM, 1996), ch. 1. Infinite-sheet rule: Gauss's law (FACTS.md). Field
+//! (SIAM, 1996), ch. 1. Regime iteration for piecewise-affine equations:
+//! the active-set / semi-smooth Newton idea (J. Nocedal, S. J. Wright,
+//! *Numerical Optimization*, 2nd ed., Springer 2006, ch. 16 — the chapter
+//! from memory); bisection: the intermediate value theorem. Passive devices: J. A.
+//! McInally 1977 (above). Infinite-sheet rule: Gauss's law (FACTS.md). Field
 //! meter practice (reading ÷ calibrated distance, mid-span readings): K.
 //! Robinson, PFFC "Static Beat" 2010 and 2019; NFPA 77 (2000) 5.4.
+
+mod fit;
 
 use crate::charge::{ChargeProfile, SegmentOrigin, charge_profile_with};
 use crate::field::{FieldError, Scene, WebField};
@@ -102,8 +183,11 @@ pub struct ReadingResult {
     pub s: Meters,
     /// Meter face to web [m].
     pub distance: Meters,
-    /// Meter position [m].
+    /// Meter face: the point where the reading applies [m].
     pub at: [Meters; 3],
+    /// Unit normal n̂ from the web towards the meter [1]; a field reading
+    /// is n̂·E at `at`.
+    pub normal: [f64; 3],
     /// The reading as entered (field, voltage with its calibration, or density).
     pub value: ReadingValue,
     /// The reading as entered, SI (V/m, V or C/m²).
@@ -113,6 +197,11 @@ pub struct ReadingResult {
     pub record: ReadingRecord,
     /// The field the reading implies [V/m]; `None` for a density reading.
     pub field: Option<f64>,
+    /// n̂·E at `at` of the final charge profile (the fitted densities, every
+    /// passive device's response applied), the same field `field --at`
+    /// gives there [V/m]; `None` for a density reading (the final
+    /// profile's density there is `sigma`).
+    pub model_field: Option<f64>,
     /// Geometry-aware density at the meter's foot [C/m²].
     pub sigma: f64,
     /// Lower bound [C/m²].
@@ -125,8 +214,9 @@ pub struct ReadingResult {
     pub sigma_naive_isolated: Option<f64>,
     /// ε0·E [C/m²].
     pub sigma_naive_one_sided: Option<f64>,
-    /// Reading minus the fitted model's prediction, in the reading's unit
-    /// (V/m, or C/m² for a density reading).
+    /// Reading minus what the final charge profile gives at the meter
+    /// (`model_field`, or `sigma` for a density reading), in the reading's
+    /// unit (V/m, or C/m² for a density reading).
     pub residual: f64,
     /// The residual's uncertainty scale u (same unit).
     pub uncertainty: f64,
@@ -140,6 +230,14 @@ pub struct ReadingResult {
     pub screening: Option<f64>,
     /// Problems and flags.
     pub warnings: Vec<ReadingNote>,
+}
+
+impl ReadingResult {
+    /// Whether the final profile reproduces the reading within its
+    /// tolerance: |residual| ≤ u.
+    pub fn reproduced(&self) -> bool {
+        self.residual.abs() <= self.uncertainty
+    }
 }
 
 /// A problem or flag of one reading.
@@ -172,6 +270,20 @@ pub enum ReadingNote {
         /// Whether other readings share the segment (so they disagree).
         shared: bool,
     },
+    /// The final profile does not reproduce the reading within its
+    /// tolerance u: |residual| > u (an error-level finding of the
+    /// assessment).
+    NotReproduced {
+        /// Reading minus what the final profile gives, in the reading's
+        /// unit (V/m, or C/m² for a density reading).
+        residual: f64,
+        /// The reading's tolerance u (same unit).
+        tolerance: f64,
+        /// Whether the reading is a density (C/m²) rather than a field.
+        density: bool,
+        /// Whether other readings share the segment.
+        shared: bool,
+    },
 }
 
 /// How the fit and its bounds were computed.
@@ -190,6 +302,15 @@ pub struct FitMethod {
     /// More meters than [`MAX_CORNER_METERS`]: distances moved one meter
     /// at a time instead of at every corner.
     pub one_at_a_time: bool,
+    /// Passive devices on the line (their response makes the fit
+    /// nonlinear).
+    pub passive: usize,
+    /// Affine solves the regime iteration made.
+    pub iterations: usize,
+    /// Whether the regime of every passive device at the fitted densities
+    /// is the one they were solved in (the fit is then exact for the
+    /// nonlinear model).
+    pub self_consistent: bool,
 }
 
 /// A charge segment whose starting density the readings determine.
@@ -244,18 +365,6 @@ pub enum ReadingsError {
     },
 }
 
-struct Row {
-    reading: usize,
-    /// Unknown-independent part b_m.
-    b: f64,
-    /// Coefficients M_mj.
-    m: Vec<f64>,
-    /// The reading r_m (V/m, or C/m² for density rows).
-    r: f64,
-    /// Uncertainty u_m.
-    u: f64,
-}
-
 /// The field the reading implies [V/m], and whether the calibration was assumed.
 fn implied_field(r: &Reading) -> (Option<f64>, bool) {
     match r.value {
@@ -273,149 +382,6 @@ fn unit_profile(base: &ChargeProfile, k: usize) -> ChargeProfile {
         g.amplitude = if i == k { 1.0 } else { 0.0 };
     }
     p
-}
-
-/// Builds the least-squares rows for meters at `distances`.
-fn rows(
-    line: &Line,
-    base: &ChargeProfile,
-    unknowns: &[usize],
-    distances: &[f64],
-    active: &[bool],
-    models: &[WebField<'_>],
-) -> Result<Vec<Row>, FieldError> {
-    // A(x) = A0 + Σ_j x_j T_j.
-    let zero: Vec<(usize, f64)> = unknowns.iter().map(|&k| (k, 0.0)).collect();
-    let a0: Vec<f64> = charge_profile_with(line, &zero, active)
-        .segments
-        .iter()
-        .map(|g| g.amplitude)
-        .collect();
-    let t: Vec<Vec<f64>> = unknowns
-        .iter()
-        .map(|&kj| {
-            let ov: Vec<(usize, f64)> = unknowns
-                .iter()
-                .map(|&k| (k, if k == kj { 1.0 } else { 0.0 }))
-                .collect();
-            charge_profile_with(line, &ov, active)
-                .segments
-                .iter()
-                .zip(&a0)
-                .map(|(g, a)| g.amplitude - a)
-                .collect()
-        })
-        .collect();
-    let m = line.meter;
-    let mut out = Vec::new();
-    for (i, r) in line.readings.iter().enumerate() {
-        let span = &line.path.spans[r.span];
-        let s = span.s_start + r.along;
-        let k_own = base.segment_at(s);
-        match implied_field(r).0 {
-            Some(e) => {
-                let (at, n) = meter_geometry(span, r.along, r.across, distances[i], r.side);
-                let mut g = Vec::with_capacity(models.len());
-                for model in models {
-                    let f = model.at(at, false)?;
-                    g.push(f.e[0] * n[0] + f.e[1] * n[1] + f.e[2] * n[2]);
-                }
-                let b: f64 = a0.iter().zip(&g).map(|(a, g)| a * g).sum();
-                let coeffs = t
-                    .iter()
-                    .map(|tj| tj.iter().zip(&g).map(|(a, g)| a * g).sum())
-                    .collect();
-                out.push(Row {
-                    reading: i,
-                    b,
-                    m: coeffs,
-                    r: e,
-                    u: m.accuracy * e.abs() + m.offset,
-                });
-            }
-            None => {
-                let ReadingValue::Sigma(sig) = r.value else {
-                    continue;
-                };
-                let seg = &base.segments[k_own];
-                let shape = crate::charge::decay(s - seg.s_start, base.decay_length)
-                    * base.across.f(r.across);
-                out.push(Row {
-                    reading: i,
-                    b: a0[k_own] * shape,
-                    m: t.iter().map(|tj| tj[k_own] * shape).collect(),
-                    r: sig,
-                    u: m.accuracy * sig.abs() + EPS0 * m.offset,
-                });
-            }
-        }
-    }
-    Ok(out)
-}
-
-/// Solves the weighted normal equations; returns x̂ and P = (MᵀWM)⁻¹MᵀW.
-fn solve(rows: &[Row], n: usize) -> Option<(Vec<f64>, Vec<Vec<f64>>)> {
-    let mut a = vec![vec![0.0; n]; n];
-    for r in rows {
-        let w = 1.0 / (r.u * r.u);
-        for (ai, mi) in a.iter_mut().zip(&r.m) {
-            for (aij, mj) in ai.iter_mut().zip(&r.m) {
-                *aij += w * mi * mj;
-            }
-        }
-    }
-    let inv = invert(a)?;
-    // P = inv · Mᵀ W
-    let p: Vec<Vec<f64>> = (0..n)
-        .map(|i| {
-            rows.iter()
-                .map(|r| (0..n).map(|j| inv[i][j] * r.m[j]).sum::<f64>() / (r.u * r.u))
-                .collect()
-        })
-        .collect();
-    let x = (0..n)
-        .map(|i| {
-            rows.iter()
-                .zip(&p[i])
-                .map(|(r, pij)| pij * (r.r - r.b))
-                .sum()
-        })
-        .collect();
-    Some((x, p))
-}
-
-/// Gauss–Jordan inversion with partial pivoting; `None` when singular.
-fn invert(mut a: Vec<Vec<f64>>) -> Option<Vec<Vec<f64>>> {
-    let n = a.len();
-    let scale = a.iter().flatten().fold(0.0f64, |m, v| m.max(v.abs()));
-    let mut inv: Vec<Vec<f64>> = (0..n)
-        .map(|i| (0..n).map(|j| if i == j { 1.0 } else { 0.0 }).collect())
-        .collect();
-    for c in 0..n {
-        let p = (c..n).max_by(|&i, &j| a[i][c].abs().total_cmp(&a[j][c].abs()))?;
-        if a[p][c].abs().is_nan() || a[p][c].abs() <= 1e-14 * scale {
-            return None;
-        }
-        a.swap(c, p);
-        inv.swap(c, p);
-        let d = a[c][c];
-        for j in 0..n {
-            a[c][j] /= d;
-            inv[c][j] /= d;
-        }
-        for i in 0..n {
-            if i != c {
-                let f = a[i][c];
-                if f != 0.0 {
-                    for j in 0..n {
-                        a[i][j] -= f * a[c][j];
-                        inv[i][j] -= f * inv[c][j];
-                    }
-                }
-            }
-        }
-    }
-    Some(inv)
 }
 
 /// What an eliminator does on this line.
@@ -507,10 +473,10 @@ fn screening_factor(f: &crate::field::PointField, n: [f64; 3]) -> Option<f64> {
 /// returned (with the passive devices' activity decided by the solver) and
 /// an empty table.
 pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, ReadingsError> {
-    let (mut active, mut tips) = passive_activity(line, &[], scene)?;
-    let model = charge_profile_with(line, &[], &active);
+    let (active0, tips0) = passive_activity(line, &[], scene)?;
+    let model = charge_profile_with(line, &[], &active0);
     if line.readings.is_empty() {
-        let eliminators = eliminator_states(line, &model, &active, &tips);
+        let eliminators = eliminator_states(line, &model, &active0, &tips0);
         return Ok(ReadingsResult {
             charge: model,
             readings: Vec::new(),
@@ -536,10 +502,10 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
             0.5 * d
         }
     };
-    // Distance sets: nominal, then every combination of ± tolerance per
-    // meter (up to MAX_CORNER_METERS meters), else one meter at a time.
+    // Distance sets: every combination of ± tolerance per meter (up to
+    // MAX_CORNER_METERS meters), else one meter at a time.
     let m = d0.len();
-    let mut sets: Vec<Vec<f64>> = vec![d0.clone()];
+    let mut sets: Vec<Vec<f64>> = Vec::new();
     if tol > 0.0 {
         if m <= MAX_CORNER_METERS {
             for mask in 0..(1usize << m) {
@@ -564,34 +530,51 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
     };
     // The unit-density field of every segment, charged once (with
     // conductors, each is a back-substitution) and reused at every set of
-    // meter distances.
+    // meter distances and by the forward model.
     let models: Vec<WebField<'_>> = (0..model.segments.len())
         .map(|k| scene.web(&unit_profile(&model, k)))
         .collect();
-    let r0 = rows(line, &model, &unknowns, &d0, &active, &models)?;
-    let (x, _) = solve(&r0, n).ok_or_else(|| singular(unknowns[0]))?;
+    let problem = fit::Problem::new(line, &unknowns, &models, &model)?;
+    let probes = problem.probes(&d0)?;
+    // Start in the regimes of the charge entries' own prediction.
+    let x_model: Vec<f64> = unknowns
+        .iter()
+        .map(|&k| model.segments[k].amplitude)
+        .collect();
+    let start = problem.state(&x_model).regimes;
+    let result = problem
+        .fit(&probes, start)
+        .ok_or_else(|| singular(unknowns[0]))?;
+    let x = result.x.clone();
+    let regimes = result.state.regimes.clone();
+    // Bounds in the final regime: the exact box of reading errors
+    // |δr_m| ≤ u_m mapped through P, at the nominal distances and at every
+    // corner of the distance tolerance.
     let mut lo = x.clone();
     let mut hi = x.clone();
-    for d in &sets {
-        let rr = rows(line, &model, &unknowns, d, &active, &models)?;
-        let Some((xd, pd)) = solve(&rr, n) else {
+    for (i, d) in std::iter::once(&d0).chain(&sets).enumerate() {
+        let pr = if i == 0 {
+            probes.clone()
+        } else {
+            problem.probes(d)?
+        };
+        let rr = problem.rows(&pr, &regimes);
+        let Some((xd, pd)) = fit::solve(&rr, n) else {
             continue;
         };
         for j in 0..n {
-            // Exact worst case of the reading errors at these distances.
             let dx: f64 = pd[j].iter().zip(&rr).map(|(pj, r)| pj.abs() * r.u).sum();
             lo[j] = lo[j].min(xd[j] - dx);
             hi[j] = hi[j].max(xd[j] + dx);
         }
     }
     let overrides: Vec<(usize, f64)> = unknowns.iter().copied().zip(x.iter().copied()).collect();
-    // The fitted charge may change what a passive device downstream sees.
-    let (active2, tips2) = passive_activity(line, &overrides, scene)?;
-    if active2 != active {
-        active = active2;
-    }
-    tips = tips2;
+    let active = result.state.active.clone();
+    let tips = result.state.tips.clone();
     let charge = charge_profile_with(line, &overrides, &active);
+    // What the final profile gives at every meter: the same field as
+    // `field --at` there.
+    let web = scene.web(&charge);
 
     let segments = unknowns
         .iter()
@@ -621,26 +604,35 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
         let shape = crate::charge::decay(s - model.segments[k].s_start, model.decay_length)
             * model.across.f(r.across);
         let (b1, b2) = (lo[j] * shape, hi[j] * shape);
-        let row = r0.iter().find(|row| row.reading == i);
-        let predicted =
-            row.map(|row| row.b + row.m.iter().zip(&x).map(|(m, x)| m * x).sum::<f64>());
         let (field, assumed_cal) = implied_field(r);
         let reading = match r.value {
             ReadingValue::Field(e) => e,
             ReadingValue::Voltage(v, _) => v,
             ReadingValue::Sigma(sg) => sg,
         };
-        let residual = match (row, predicted) {
-            (Some(row), Some(pred)) => row.r - pred,
-            _ => 0.0,
+        let (at, normal) = meter_geometry(span, r.along, r.across, r.distance, r.side);
+        let sigma = charge.sigma(s, r.across);
+        let model_field = match field {
+            Some(_) => {
+                let e = web.at(at, false)?.e;
+                Some(e[0] * normal[0] + e[1] * normal[1] + e[2] * normal[2])
+            }
+            None => None,
         };
-        let uncertainty = row.map(|r| r.u).unwrap_or(0.0);
+        let residual = match (field, model_field) {
+            (Some(e), Some(f)) => e - f,
+            _ => reading - sigma,
+        };
+        let uncertainty = probes
+            .iter()
+            .find(|p| p.reading == i)
+            .map(|p| p.u)
+            .unwrap_or(0.0);
         let mut warnings = Vec::new();
         let near = |node: usize| matches!(line.path.nodes[node].kind, NodeKind::Roller { .. });
         let clearance = ROLLER_CLEARANCE * r.distance;
-        let at = meter_geometry(span, r.along, r.across, r.distance, r.side);
         let screening = match (field, scene.conductors()) {
-            (Some(_), Some(_)) => screening_factor(&models[k].at(at.0, true)?, at.1),
+            (Some(_), Some(_)) => screening_factor(&models[k].at(at, true)?, normal),
             _ => None,
         };
         if (r.along < clearance && near(span.from_node))
@@ -669,18 +661,28 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
                 shared: others > 1,
             });
         }
+        if residual.abs().is_nan() || residual.abs() > uncertainty {
+            warnings.push(ReadingNote::NotReproduced {
+                residual,
+                tolerance: uncertainty,
+                density: field.is_none(),
+                shared: others > 1,
+            });
+        }
         results.push(ReadingResult {
             id: r.id.clone(),
             span: span.label(),
             position: r.along,
             s,
             distance: r.distance,
-            at: at.0,
+            at,
+            normal,
             value: r.value,
             reading,
             record: r.record.clone(),
             field,
-            sigma: charge.sigma(s, r.across),
+            model_field,
+            sigma,
             sigma_low: b1.min(b2),
             sigma_high: b1.max(b2),
             sigma_model: model.sigma(s, r.across),
@@ -693,6 +695,11 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
         });
     }
     let eliminators = eliminator_states(line, &charge, &active, &tips);
+    let passive = line
+        .eliminators
+        .iter()
+        .filter(|e| e.kind == crate::model::EliminatorKind::Passive)
+        .count();
     Ok(ReadingsResult {
         eliminators,
         charge,
@@ -705,6 +712,9 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
             offset: line.meter.offset,
             distance_tolerance: tol,
             one_at_a_time: m > MAX_CORNER_METERS,
+            passive,
+            iterations: result.iterations,
+            self_consistent: result.self_consistent,
         }),
     })
 }

@@ -503,6 +503,10 @@ fn recommendations(line: &Line, findings: &[FindingRow]) -> Vec<String> {
                 "{urgency}: where span {} leaves its grounded roller the web carries more charge than the opening gap holds: gap discharges must occur there (they cap the charge the web carries off the roller) — neutralise the web before it reaches the roller, or keep a flammable atmosphere away from the separation line ({}).",
                 f.subject, f.note
             )),
+            SubjectKind::Span if f.rule == "reproduced" => push(format!(
+                "{urgency}: the charge fitted to the meter readings does not give back a reading on span {} ({}): until it does, the charge assessed is not the charge the meters saw — check the reading, the meter's position, side and distance, readings that disagree, and any passive device between the charge and the meter (one switching at its onset leaves a gap no charge reproduces); re-measure.",
+                f.subject, f.note
+            )),
             SubjectKind::Span => push(format!(
                 "{urgency}: reduce the charge on span {} ({}) — neutralise it with a static eliminator on the free span upstream, after the last charging point, where a meter would read the web's field; re-measure after fitting.",
                 f.subject, f.check

@@ -189,12 +189,12 @@ pub fn plan_csv(plan: &crate::plan::Plan, line: &crate::model::Line) -> String {
 /// The readings conversion as CSV, SI units.
 pub fn readings_csv(readings: &[crate::readings::ReadingResult]) -> String {
     let mut s = String::from(
-        "id,span,position_m,distance_m,reading_SI,field_V_per_m,sigma_C_per_m2,sigma_low_C_per_m2,sigma_high_C_per_m2,sigma_naive_isolated_C_per_m2,sigma_naive_one_sided_C_per_m2,sigma_model_C_per_m2,residual_SI,warnings,as_entered,meter,calibrated_on,relative_humidity_fraction,speed_m_per_s\n",
+        "id,span,position_m,distance_m,reading_SI,field_V_per_m,sigma_C_per_m2,sigma_low_C_per_m2,sigma_high_C_per_m2,sigma_naive_isolated_C_per_m2,sigma_naive_one_sided_C_per_m2,sigma_model_C_per_m2,residual_SI,tolerance_SI,reproduced,at_x_m,at_y_m,at_z_m,normal_x,normal_y,normal_z,model_field_V_per_m,warnings,as_entered,meter,calibrated_on,relative_humidity_fraction,speed_m_per_s\n",
     );
     let opt = |x: Option<f64>| x.map(|v| format!("{v:?}")).unwrap_or_default();
     for x in readings {
         s.push_str(&format!(
-            "{},{},{:?},{:?},{:?},{},{:?},{:?},{:?},{},{},{:?},{:?},{},{},{},{},{},{}\n",
+            "{},{},{:?},{:?},{:?},{},{:?},{:?},{:?},{},{},{:?},{:?},{:?},{},{:?},{:?},{:?},{:?},{:?},{:?},{},{},{},{},{},{},{}\n",
             text_cell(&x.id),
             text_cell(&x.span),
             x.position,
@@ -208,6 +208,15 @@ pub fn readings_csv(readings: &[crate::readings::ReadingResult]) -> String {
             opt(x.sigma_naive_one_sided),
             x.sigma_model,
             x.residual,
+            x.uncertainty,
+            x.reproduced(),
+            x.at[0],
+            x.at[1],
+            x.at[2],
+            x.normal[0],
+            x.normal[1],
+            x.normal[2],
+            opt(x.model_field),
             text_cell(&super::notes::reading_notes(&x.warnings)),
             text_cell(&super::readings_text::as_entered(&x.record)),
             text_cell(x.record.meter.as_deref().unwrap_or("")),

@@ -202,6 +202,8 @@ fn reading_table(r: &Report) -> Block {
             "naive 2ε0E",
             "naive ε0E",
             "charge entries predict",
+            "fitted charge gives",
+            "residual (tolerance)",
             "flags",
         ],
         r.readings
@@ -219,6 +221,28 @@ fn reading_table(r: &Report) -> Block {
                     ratio(x.sigma_naive_isolated, x.sigma),
                     ratio(x.sigma_naive_one_sided, x.sigma),
                     sd(x.sigma_model),
+                    // What the final profile gives at the meter face: n̂·E,
+                    // or the density for a density reading.
+                    match x.model_field {
+                        Some(f) => format_quantity(f, Dim::Field),
+                        None => sd(x.sigma),
+                    },
+                    {
+                        let q = |v: f64| match x.field {
+                            Some(_) => format_quantity(v, Dim::Field),
+                            None => sd(v),
+                        };
+                        format!(
+                            "{} ({}){}",
+                            q(x.residual),
+                            q(x.uncertainty),
+                            if x.reproduced() {
+                                ""
+                            } else {
+                                " NOT REPRODUCED"
+                            }
+                        )
+                    },
                     if x.warnings.is_empty() {
                         "—".into()
                     } else {

@@ -229,7 +229,7 @@ pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
         .map(|w| string(&super::notes::reading_note(w)))
         .collect();
     format!(
-        "{{\"id\": {}, \"span\": {}, \"position\": {}, \"distance\": {}, \"reading\": {}, \"field\": {}, \"sigma\": {}, \"sigma_low\": {}, \"sigma_high\": {}, \"sigma_naive_isolated\": {}, \"sigma_naive_one_sided\": {}, \"sigma_model\": {}, \"residual\": {}{}, \"recorded\": {}, \"warnings\": [{}]}}",
+        "{{\"id\": {}, \"span\": {}, \"position\": {}, \"distance\": {}, \"reading\": {}, \"field\": {}, \"sigma\": {}, \"sigma_low\": {}, \"sigma_high\": {}, \"sigma_naive_isolated\": {}, \"sigma_naive_one_sided\": {}, \"sigma_model\": {}, \"residual\": {}, \"tolerance\": {}, \"reproduced\": {}{}, \"at\": [{}, {}, {}], \"normal\": [{}, {}, {}]{}, \"recorded\": {}, \"warnings\": [{}]}}",
         string(&x.id),
         string(&x.span),
         num(x.position),
@@ -243,11 +243,26 @@ pub fn reading_object(x: &crate::readings::ReadingResult) -> String {
         opt(x.sigma_naive_one_sided),
         num(x.sigma_model),
         num(x.residual),
+        num(x.uncertainty),
+        x.reproduced(),
         // Only with the conductors' solve: what the meter reads ÷ the
         // field of the web's charge alone there.
         x.screening
             .map(|k| format!(", \"screening\": {}", num(k)))
             .unwrap_or_default(),
+        num(x.at[0]),
+        num(x.at[1]),
+        num(x.at[2]),
+        // + 0.0: a zero component reads 0, not -0.
+        num(x.normal[0] + 0.0),
+        num(x.normal[1] + 0.0),
+        num(x.normal[2] + 0.0),
+        // What the final profile gives at the meter: n̂·E [V/m] for a
+        // field reading, the density [C/m²] for a density reading.
+        match x.model_field {
+            Some(f) => format!(", \"model_field\": {}", num(f)),
+            None => format!(", \"model_sigma\": {}", num(x.sigma)),
+        },
         recorded_object(&x.record),
         warnings.join(", ")
     )

@@ -52,6 +52,28 @@ pub fn reading_note(n: &ReadingNote) -> String {
                 )
             )
         }
+        ReadingNote::NotReproduced {
+            residual,
+            tolerance,
+            density,
+            shared,
+        } => {
+            let d = if *density {
+                Dim::SurfaceChargeDensity
+            } else {
+                Dim::Field
+            };
+            let why = if *shared {
+                "the readings on this stretch of web disagree by more than their tolerances, or the model misses something between them"
+            } else {
+                "no charge at this meter's segment gives this reading (a passive device may switch on at its onset in between): check the reading, the meter position and the devices downstream"
+            };
+            format!(
+                "NOT REPRODUCED: the fitted charge gives a residual of {} at this meter, more than the reading's tolerance {}: {why}",
+                format_quantity(*residual, d),
+                format_quantity(*tolerance, d)
+            )
+        }
     }
 }
 
@@ -144,8 +166,27 @@ pub fn fit_method(m: &FitMethod) -> String {
         format_quantity(m.accuracy, Dim::Percent),
         format_quantity(m.offset, Dim::Field),
         format_quantity(m.distance_tolerance, Dim::Length),
-        " (one meter at a time beyond 8 meters)"
-    )
+        " (one meter at a time beyond 8 meters)",
+    ) + &passive_fit(m)
+}
+
+/// With passive devices: how their piecewise response entered the fit;
+/// empty without them.
+fn passive_fit(m: &FitMethod) -> String {
+    if m.passive == 0 {
+        return String::new();
+    }
+    if m.self_consistent {
+        format!(
+            "; {} passive device(s): each device's regime (off, on and passing |σ| ≤ residual, on at its floor, on proportional) fixed and solved exactly, until the regimes at the fitted densities are the ones solved in ({} solve(s)); bounds in that regime",
+            m.passive, m.iterations
+        )
+    } else {
+        format!(
+            "; {} passive device(s): NO self-consistent fit: the regimes do not settle after {} solve(s) (a device switches at its onset between the solutions); the closest fit is shown and its residuals are from the final profile",
+            m.passive, m.iterations
+        )
+    }
 }
 
 /// A reading as entered, in words (`5 kV at 25 mm (assumed)`).
@@ -399,6 +440,72 @@ pub fn finding_note(line: &Line, n: &crate::assess::FindingNote) -> String {
             zone_label(line, *zone)
         ),
         FindingNote::Rule(n) => n.to_string(),
+        FindingNote::Onset {
+            eliminator,
+            active,
+            tip_field,
+            onset,
+            sigma_in,
+            distance,
+        } => {
+            let id = line
+                .eliminators
+                .get(*eliminator)
+                .map(|e| e.id.as_str())
+                .unwrap_or("the device");
+            let field = |v: f64| format_quantity(v, Dim::Field);
+            let pct = |v: f64| format_quantity(v, Dim::Percent);
+            if *active {
+                format!(
+                    "{id} ionises at {}: tip field {} is {} of its onset {}",
+                    len(*distance),
+                    field(*tip_field),
+                    pct(tip_field / onset),
+                    field(*onset)
+                )
+            } else {
+                format!(
+                    "{id} does not ionise at {}: it neutralises nothing; tip field {} is {} of its onset {}; it would ionise with about {:.2}× the charge arriving ({} instead of {}; the field scales with the charge)",
+                    len(*distance),
+                    field(*tip_field),
+                    pct(tip_field / onset),
+                    field(*onset),
+                    onset / tip_field,
+                    format_quantity(sigma_in * onset / tip_field, Dim::SurfaceChargeDensity),
+                    format_quantity(*sigma_in, Dim::SurfaceChargeDensity)
+                )
+            }
+        }
+        FindingNote::ReadingFit {
+            reading,
+            residual,
+            tolerance,
+            density,
+        } => {
+            let id = line
+                .readings
+                .get(*reading)
+                .map(|r| r.id.as_str())
+                .unwrap_or("the reading");
+            let d = if *density {
+                Dim::SurfaceChargeDensity
+            } else {
+                Dim::Field
+            };
+            if residual.abs() <= *tolerance {
+                format!(
+                    "{id}: the fitted charge gives it back to {} (tolerance {})",
+                    format_quantity(*residual, d),
+                    format_quantity(*tolerance, d)
+                )
+            } else {
+                format!(
+                    "{id} is NOT reproduced: the fitted charge leaves a residual of {} against the reading's tolerance {} — the charge assessed is not the charge the meter saw (check the reading, the meter position, readings that disagree, or a passive device switching at its onset)",
+                    format_quantity(*residual, d),
+                    format_quantity(*tolerance, d)
+                )
+            }
+        }
     }
 }
 

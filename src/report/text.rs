@@ -155,10 +155,12 @@ pub fn readings_table(r: &crate::readings::ReadingsResult) -> String {
                 } else {
                     sd(x.residual)
                 },
-                if x.warnings.is_empty() {
-                    "—".into()
-                } else {
-                    format!("{} warning(s)", x.warnings.len())
+                match (x.warnings.is_empty(), x.reproduced()) {
+                    (true, _) => "—".into(),
+                    (false, true) => format!("{} warning(s)", x.warnings.len()),
+                    (false, false) => {
+                        format!("NOT REPRODUCED, {} warning(s)", x.warnings.len())
+                    }
                 },
             ]
         })
