@@ -20,6 +20,8 @@
 //!   or not at all, CSV cells that are no formulas, report ids and leftovers.
 //! - `hardening_reads`: inputs read with bounded memory (devices, pipes, long
 //!   rows, oversize lists), point files as CSV, the 1 µm rule, bounded flags.
+//! - `plan_agree`: one planner, one answer (`assess --plan`, `demo`, `plan`),
+//!   side variants as one plan, the ranking, a dead end explained.
 
 mod analytic;
 mod assess;
@@ -38,6 +40,7 @@ mod inputs;
 mod mutations;
 mod pipeline;
 mod plan;
+mod plan_agree;
 mod plots;
 mod readings;
 mod reports;

@@ -29,11 +29,13 @@ fn bar(c: &Candidate, sides: &[Side], line: &Line) -> String {
 }
 
 /// The candidate settings: kind, distance [m], spacing [m] (null for a
-/// given list), sides, the most bars searched and the ranking rule.
+/// given list), sides, the bars asked for (`bars`: exactly so many, or
+/// null for the fewest up to `max_bars`), the most bars searched and the
+/// ranking rule.
 fn settings(plan: &Plan) -> String {
     let st = &plan.settings;
     format!(
-        "{{\"kind\": {}, \"distance\": {}, \"spacing\": {}, \"sides\": [\"above\", \"below\"], \"given_list\": {}, \"max_bars\": {}, \"text\": {}, \"ranking\": {}}}",
+        "{{\"kind\": {}, \"distance\": {}, \"spacing\": {}, \"sides\": [\"above\", \"below\"], \"given_list\": {}, \"bars\": {}, \"max_bars\": {}, \"searched_up_to\": {}, \"text\": {}, \"ranking\": {}}}",
         string(st.kind.text()),
         num(st.distance),
         if st.candidates.is_some() {
@@ -42,6 +44,8 @@ fn settings(plan: &Plan) -> String {
             num(st.spacing)
         },
         st.candidates.is_some(),
+        st.bars.map_or("null".into(), |n| n.to_string()),
+        st.max_bars,
         plan.max_bars,
         string(&super::plan_words::settings_text(plan)),
         string(super::plan_words::RANKING)
@@ -131,7 +135,8 @@ pub fn plan_json(plan: &Plan, line: &Line) -> String {
                 .collect();
             let [pass, warn, fail] = o.counts;
             format!(
-                "    {{\"bars\": [{}], {}, \"worst_margin\": {}}}",
+                "    {{\"text\": {}, \"bars\": [{}], {}, \"worst_margin\": {}}}",
+                string(&super::plan_words::option_bars_text(plan, o, line)),
                 bars.join(", "),
                 counts(VerdictCounts { pass, warn, fail }),
                 num(o.worst_margin)
