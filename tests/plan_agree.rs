@@ -544,3 +544,58 @@ fn after_findings_are_named_from_the_placed_line() {
         "{text}"
     );
 }
+
+/// A dead end that more bars would open: on the small line at a lower
+/// charge, one bar cannot pass while a bar at every allowed position does;
+/// no finding blocks, and the words say more bars are needed. (The charge
+/// levels are tried in turn; at least one must be such a line.)
+#[test]
+fn dead_end_without_blockers_asks_for_more_bars() {
+    let mut found = false;
+    for (sigma, adds) in [("4", "2"), ("8", "4"), ("12", "8"), ("16", "12")] {
+        let text = SMALL
+            .replace("sigma: 40 uC/m^2", &format!("sigma: {sigma} uC/m^2"))
+            .replace("adds: 30 uC/m^2", &format!("adds: {adds} uC/m^2"));
+        let line = parse_line(&text).unwrap();
+        let profiles = profiles(&line);
+        let scene = Scene::new(&line, SolverSettings::new(1e-8).unwrap()).unwrap();
+        let mut st = PlanSettings::new();
+        st.spacing = 0.5;
+        st.bars = Some(1);
+        let p = plan(&line, &profiles, &st, &scene, &|_, _| {}).unwrap();
+        if p.options[0].counts[2] == 0 {
+            assert!(p.dead_end.is_none());
+            continue;
+        }
+        let d = p.dead_end.as_ref().unwrap();
+        // Confirm with the full model: the blockers are exactly the
+        // findings, other than the bars' own, that fail with a bar at
+        // every allowed position.
+        let mut seen = Vec::new();
+        let all: Vec<Candidate> = p
+            .candidates
+            .iter()
+            .filter(|c| {
+                let k = (c.span, c.along.to_bits());
+                let new = !seen.contains(&k);
+                seen.push(k);
+                new
+            })
+            .cloned()
+            .collect();
+        assert_eq!(all.len(), d.positions);
+        let a = full_assessment(&scene, &apply(&line, &all), &profiles).unwrap();
+        let failing = a
+            .findings
+            .iter()
+            .filter(|f| f.verdict == Verdict::Fail && &*f.profile != "eliminators")
+            .count();
+        assert_eq!(failing, d.blockers.len());
+        if d.blockers.is_empty() {
+            let words = websigma::report::plan_words::dead_end_intro(d, p.max_bars);
+            assert!(words.contains("not with 1 bar(s) or fewer"), "{words}");
+            found = true;
+        }
+    }
+    assert!(found, "no charge level where only more bars help");
+}

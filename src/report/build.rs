@@ -287,7 +287,7 @@ impl PlanSection {
                 _ => Vec::new(),
             };
             (
-                words::dead_end_intro(d),
+                words::dead_end_intro(d, plan.max_bars),
                 d.blockers
                     .iter()
                     .map(|b| words::blocker_text(b, line))

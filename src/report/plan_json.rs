@@ -104,7 +104,7 @@ fn dead_end(plan: &Plan, line: &Line) -> String {
         d.positions,
         d.fails_full,
         d.fails_fast,
-        string(&super::plan_words::dead_end_intro(d)),
+        string(&super::plan_words::dead_end_intro(d, plan.max_bars)),
         blockers.join(",\n")
     )
 }

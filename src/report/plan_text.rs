@@ -57,7 +57,7 @@ pub fn plan_text(plan: &Plan, line: &Line) -> String {
         }
     }
     if let Some(d) = &plan.dead_end {
-        s.push_str(&format!("\n{}\n", words::dead_end_intro(d)));
+        s.push_str(&format!("\n{}\n", words::dead_end_intro(d, plan.max_bars)));
         for b in &d.blockers {
             s.push_str(&format!("  - {}\n", words::blocker_text(b, line)));
         }

@@ -127,11 +127,21 @@ pub fn option_bars_text(plan: &Plan, o: &PlanOption, line: &Line) -> String {
         .join("; ")
 }
 
-/// The sentence before the blockers of a dead end.
-pub fn dead_end_intro(d: &DeadEnd) -> String {
+/// The sentence before the blockers of a dead end; `max_bars` is the most
+/// bars searched.
+pub fn dead_end_intro(d: &DeadEnd, max_bars: usize) -> String {
+    if d.blockers.is_empty() {
+        return format!(
+            "With a bar at every one of the {} allowed position(s) at once, no finding other than the bars' own fails: the charge can be brought within the limits from the allowed positions, but not with {max_bars} bar(s) or fewer; search more bars.",
+            d.positions
+        );
+    }
     format!(
-        "Why no placement passes: with a bar at every one of the {} allowed position(s) at once (the most any placement can neutralise), {} finding(s) still fail by the full model ({} by the superposition the search uses, which leaves out the conductors' solve):",
-        d.positions, d.fails_full, d.fails_fast
+        "Why no placement passes: with a bar at every one of the {} allowed position(s) at once (the most any placement can neutralise), {} finding(s) still fail, listed below (with the bars' own findings, the full model counts {} failing, the superposition the search uses, without the conductors' solve, {}):",
+        d.positions,
+        d.blockers.len(),
+        d.fails_full,
+        d.fails_fast
     )
 }
 
