@@ -379,9 +379,10 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     if let Some(n) = job.plan
         && assessment.verdict == crate::assess::Verdict::Fail
     {
+        // The `plan` command's defaults, asking what `plan --max-bars N`
+        // asks: one planner, one answer.
         let mut st = crate::plan::PlanSettings::new();
         st.max_bars = n;
-        st.spacing = 0.25;
         let plan = crate::plan::plan(line, &profiles, &st, scene, &|_, _| {})?;
         if let Some(placed) = plan.placed_line(line, scene)? {
             let placed_charge = line_charge(&placed, scene)?.charge;

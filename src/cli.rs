@@ -73,8 +73,10 @@ pub struct AssessArgs {
         allow_negative_numbers = true
     )]
     pub map_resolution: usize,
-    /// When a limit fails, also plan up to N powered bars, 1 to 8
-    /// (candidates every 250 mm at 40 mm), and add the plan to the report.
+    /// When a limit fails, also plan the fewest powered bars, up to N (1 to
+    /// 8), that pass, and add the plan to the report: the same search and
+    /// answer as `websigma plan --max-bars N` with its defaults (candidates
+    /// every 100 mm on both sides of the web, 40 mm from it).
     #[arg(long, value_name = "N", allow_negative_numbers = true)]
     pub plan: Option<usize>,
 }

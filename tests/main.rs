@@ -22,6 +22,8 @@
 //!   charge and the meters (self-consistent, its onset gap, the onset check);
 //! - `hardening_reads`: inputs read with bounded memory (devices, pipes, long
 //!   rows, oversize lists), point files as CSV, the 1 µm rule, bounded flags.
+//! - `plan_agree`: one planner, one answer (`assess --plan`, `demo`, `plan`),
+//!   side variants as one plan, the ranking, a dead end explained.
 
 mod analytic;
 mod assess;
@@ -40,6 +42,7 @@ mod inputs;
 mod mutations;
 mod pipeline;
 mod plan;
+mod plan_agree;
 mod plots;
 mod readings;
 mod readings_nonlinear;

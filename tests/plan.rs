@@ -223,6 +223,7 @@ fn outcome_without_a_passing_plan_names_the_first_failure() {
     let PlanOutcome::NoPass {
         fails,
         first_failing: Some(named),
+        ..
     } = &p.outcome
     else {
         panic!("expected a failing outcome, got {:?}", p.outcome);

@@ -3,8 +3,26 @@
 //! After the assessment: `(Line, profiles) → Plan`. Candidate bar positions
 //! are laid along the free spans (or read from a list); each placement of N
 //! bars is assessed with every rule in force and ranked by, in order: the
-//! number of failing findings, the worst margin (value ÷ limit over every
-//! finding), the number of bars, and how far upstream the bars sit.
+//! number of failing findings, the number of bars, the worst margin (value
+//! ÷ limit over every finding), then the simplest installation — fewest
+//! distinct spans, then the largest clearance from rollers and grounded
+//! conductors, then the bars farthest upstream (`search` gives the exact
+//! rule). Placements that differ only in the side of some bars and score
+//! the same are one plan listing both sides.
+//!
+//! `plan`, `assess --plan N` and `demo` use the same [`PlanSettings::new`]
+//! defaults (powered bars 40 mm from the web, candidates every 100 mm on
+//! both sides), and `assess --plan N` asks what `plan --max-bars N` asks:
+//! the fewest bars, up to N, that pass. When no size passes, the best
+//! partial plan is chosen over every size searched.
+//!
+//! ## A dead end
+//! When no placement passes, the planner puts a bar at every allowed
+//! candidate position at once (one per position: the most any placement can
+//! neutralise), scores it with the superposition and assesses it with the
+//! full model; every finding that still fails is a [`Blocker`] with its
+//! typed cause (charge upstream of every allowed bar position, a point's
+//! field, a charged conductor, a property of the web).
 //!
 //! ## Superposition makes each placement cheap
 //! The field is linear in the density, and a bar multiplies what arrives by
@@ -49,10 +67,10 @@
 //! Superposition (Coulomb's law); bar models and placement rules: K.
 //! Robinson, PFFC "Static Beat" (FACTS.md "Static eliminators").
 
-use crate::assess::{Assessment, ThresholdProfile, Verdict};
+use crate::assess::{Assessment, Finding, Subject, ThresholdProfile, Verdict};
 use crate::field::{FieldAt, FieldError, FieldMap, Scene};
-use crate::model::{EliminatorKind, Line};
-use crate::units::Meters;
+use crate::model::{EliminatorKind, Line, NodeKind, Side};
+use crate::units::{Dim, Meters};
 
 mod apply;
 mod candidates;
@@ -62,9 +80,10 @@ mod search;
 pub use apply::{apply_to_yaml, planning_line};
 pub use candidates::{
     CONDUCTOR_CLEARANCE, Candidate, GroundedConductor, MAX_CANDIDATES, MAX_CANDIDATES_FILE_BYTES,
-    Refusal, Refused, apply, candidates, candidates_and_refusals, read_candidates, refusal,
+    Refusal, Refused, apply, candidates, candidates_and_refusals, clearance, read_candidates,
+    refusal,
 };
-pub use search::{MAX_EXHAUSTIVE, binomial, combinations};
+pub use search::{CLEARANCE_CAP, MAX_EXHAUSTIVE, binomial, combinations};
 
 use influence::{Fast, Influence};
 use search::{Score, Scored};
@@ -115,14 +134,52 @@ impl Default for PlanSettings {
 /// A placement and how it fares.
 #[derive(Debug, Clone, PartialEq)]
 pub struct PlanOption {
-    /// Indices into `Plan::candidates`.
+    /// Indices into `Plan::candidates`, ordered by span, position and side.
     pub bars: Vec<usize>,
+    /// For each bar of `bars`, the sides it may take with the same score
+    /// (the plan holds every combination; its own side first).
+    pub sides: Vec<Vec<Side>>,
     /// Findings by verdict: pass, warn, fail.
     pub counts: [usize; 3],
     /// The largest margin over every finding.
     pub worst_margin: f64,
     /// The full assessment with these bars fitted.
     pub assessment: Assessment,
+    /// The line the assessment is of (the planner's line with these bars
+    /// placed): its subjects index into this line.
+    pub placed: Line,
+}
+
+/// Whether two subjects, of `a_line` and `b_line`, are the same thing
+/// (eliminators compared by id, as placing bars renumbers them).
+fn same_subject(a_line: &Line, a: &Subject, b_line: &Line, b: &Subject) -> bool {
+    fn id(l: &Line, i: usize) -> Option<&str> {
+        l.eliminators.get(i).map(|e| e.id.as_str())
+    }
+    match (*a, *b) {
+        (Subject::Eliminator(i), Subject::Eliminator(j)) => {
+            id(a_line, i).is_some() && id(a_line, i) == id(b_line, j)
+        }
+        (Subject::EliminatorPair(i, k), Subject::EliminatorPair(j, m)) => {
+            id(a_line, i).is_some()
+                && id(a_line, k).is_some()
+                && id(a_line, i) == id(b_line, j)
+                && id(a_line, k) == id(b_line, m)
+        }
+        (a, b) => a == b,
+    }
+}
+
+impl PlanOption {
+    /// This plan's finding for the same rule and subject as `f`, a finding
+    /// of the assessment of `line` (the line without new bars).
+    pub fn after(&self, line: &Line, f: &Finding) -> Option<&Finding> {
+        self.assessment.findings.iter().find(|g| {
+            g.profile == f.profile
+                && g.rule == f.rule
+                && same_subject(line, &f.subject, &self.placed, &g.subject)
+        })
+    }
 }
 
 /// The planner's answer.
@@ -136,6 +193,8 @@ pub struct Plan {
     pub before: Assessment,
     /// Number of bars in the best plan.
     pub bars: usize,
+    /// The most bars searched.
+    pub max_bars: usize,
     /// Placements evaluated.
     pub evaluated: usize,
     /// Whether the search was exhaustive (the optimum over the candidates).
@@ -146,6 +205,81 @@ pub struct Plan {
     /// (empty for a given candidate list, which is refused as a whole
     /// instead: [`PlanError::CandidateNearConductor`]).
     pub refused: Vec<Refused>,
+    /// The settings searched with (kind, distance, spacing of the grid,
+    /// or the given list).
+    pub settings: PlanSettings,
+    /// When no placement passes: what blocks every placement.
+    pub dead_end: Option<DeadEnd>,
+}
+
+/// Why no placement passes: the findings that still fail with a bar at
+/// every allowed candidate position at once.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DeadEnd {
+    /// Bars placed for the test: one at every allowed candidate position.
+    pub positions: usize,
+    /// Failing findings with them, by the superposition the search uses
+    /// (without the conductors' solve) …
+    pub fails_fast: usize,
+    /// … and by the full model.
+    pub fails_full: usize,
+    /// The failing findings, each with its cause (the eliminators' own
+    /// findings about so many bars left out).
+    pub blockers: Vec<Blocker>,
+}
+
+/// A finding no placement can bring within its failure limit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Blocker {
+    /// Which finding.
+    pub finding: FindingRef,
+    /// Its value with a bar at every allowed position, SI [unit of `dim`].
+    pub value: f64,
+    /// Its failure limit, SI.
+    pub limit: f64,
+    /// Dimension of value and limit.
+    pub dim: Dim,
+    /// Why the bars cannot help.
+    pub cause: BlockerCause,
+}
+
+/// Why a finding fails whatever the bars.
+#[derive(Debug, Clone, PartialEq)]
+pub enum BlockerCause {
+    /// The charge on the first stretch of a span, between the node that
+    /// charges it and the first allowed bar position, exceeds the limit.
+    UpstreamOfBars {
+        /// Span index.
+        span: usize,
+        /// Length of the stretch [m]: to the first allowed bar position on
+        /// the span, or the whole span when none is allowed there.
+        stretch: Meters,
+        /// Whether a bar is allowed anywhere on the span.
+        bar_on_span: bool,
+        /// How close to the node a bar may come by the placement rules
+        /// (three bar distances from a conducting roller) [m], if a rule
+        /// applies.
+        keep_clear: Option<Meters>,
+        /// The largest density on the stretch (across-web peak) [C/m²].
+        density: f64,
+        /// The id of the node the span leaves, if it has one.
+        node: Option<String>,
+        /// Where the charge entry that charges the stretch applies, as the
+        /// line names it (`R3`, `start`), if one does.
+        charged_at: Option<String>,
+    },
+    /// A point's field or what follows from it; `span` is the span with
+    /// the largest share of the field there (its label).
+    PointField {
+        /// The span with the largest share, if known.
+        span: Option<String>,
+    },
+    /// A roller or conductor charged by the web.
+    ChargedConductor,
+    /// A property of the web itself, which bars do not change.
+    WebProperty,
+    /// Another finding the allowed bar positions do not reach.
+    NotReached,
 }
 
 impl Plan {
@@ -176,12 +310,15 @@ pub enum PlanOutcome {
     /// The best plan brings every rule within its failure limit.
     AllPass,
     /// No placement searched passes; the best one leaves `fails` failing
-    /// findings, the first of them `first_failing`.
+    /// findings, the first of them `first_failing` (subjects of the best
+    /// plan's placed line).
     NoPass {
         /// Failing findings with the best plan.
         fails: usize,
         /// The first failing finding with the best plan.
         first_failing: Option<FindingRef>,
+        /// Every failing finding with the best plan.
+        failing: Vec<FindingRef>,
     },
     /// No placement could be evaluated.
     Nothing,
@@ -299,6 +436,15 @@ pub fn full_assessment(
     Ok(crate::pipeline::evaluate(scene, line, profiles)?.assessment)
 }
 
+/// A finding's reference.
+fn finding_ref(f: &Finding) -> FindingRef {
+    FindingRef {
+        profile: f.profile.clone(),
+        rule: f.rule.clone(),
+        subject: f.subject,
+    }
+}
+
 /// Searches placements. `progress` is called with (done, total) now and then.
 pub fn plan(
     line: &Line,
@@ -307,6 +453,7 @@ pub fn plan(
     scene: &Scene,
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> Result<Plan, PlanError> {
+    let original = line;
     let planning = planning_line(line, scene)?;
     let line = &planning;
     let (cands, refused) = match &st.candidates {
@@ -325,6 +472,10 @@ pub fn plan(
     if cands.is_empty() {
         return Err(PlanError::NoCandidatePositions);
     }
+    let clearances: Vec<f64> = cands
+        .iter()
+        .map(|c| clearance(line, c, CLEARANCE_CAP))
+        .collect();
     let before = full_assessment(scene, line, profiles)?;
     // Every point the rules ask for, then the superposition over them.
     let points = influence::sampled_points(line, scene, profiles)?;
@@ -353,11 +504,13 @@ pub fn plan(
                 .ok()?,
         };
         let sc = crate::assess::score(placed, &charge, &fast, &pts, profiles).ok()?;
-        Some((
+        Some(search::score_of(
             sc.fails,
             sc.worst_margin,
-            bars.len(),
-            search::upstream(bars, &cands, line),
+            bars,
+            &cands,
+            &clearances,
+            line,
         ))
     };
     let evaluate = |bars: &[usize]| -> Option<Score> { evaluate_in(&mut line.clone(), bars) };
@@ -368,73 +521,230 @@ pub fn plan(
         Some(n) => vec![n],
         None => (1..=st.max_bars.max(1)).collect(),
     };
+    // Every size searched goes into one list: when no size passes, the
+    // best partial plan is the best over all of them.
     let mut ranked: Vec<Scored> = Vec::new();
     let mut evaluated = 0usize;
     let mut exhaustive = true;
-    let mut chosen_size = 0;
+    let mut max_size = 0;
     for &n in &sizes {
-        let (mut found, count) = if search::is_exhaustive(n, n_cand) {
-            search::exhaustive(n, n_cand, keep, line, &evaluate_in, progress)
+        // Room for every side variant of the `keep` best plans.
+        let room = keep.saturating_mul(1 << n.min(3));
+        let (found, count) = if search::is_exhaustive(n, n_cand) {
+            search::exhaustive(n, n_cand, room, line, &evaluate_in, progress)
         } else {
             exhaustive = false;
             search::greedy(n, n_cand, &evaluate)
         };
         evaluated += count;
-        found.sort_by(|a, b| search::order(&a.1, &b.1));
-        found.truncate(keep);
-        let passes = found.first().is_some_and(|f| f.1.0 == 0);
-        ranked = found;
-        chosen_size = n;
+        max_size = n;
+        let passes = found.iter().any(|f| f.1.fails == 0);
+        ranked.extend(found);
         if st.bars.is_none() && passes {
             break;
         }
     }
+    ranked.sort_by(search::order);
+    let mut merged = search::merge_sides(&ranked, &cands);
+    merged.truncate(keep);
     // Re-assess the best plans with the full model.
-    let mut options: Vec<PlanOption> = Vec::new();
-    for (bars, _) in &ranked {
+    let mut options: Vec<(Score, PlanOption)> = Vec::new();
+    for m in merged {
         let placed = apply(
             line,
-            &bars.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
+            &m.bars.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
         );
         let a = full_assessment(scene, &placed, profiles)?;
-        options.push(PlanOption {
-            bars: bars.clone(),
-            counts: a.counts().as_array(),
-            worst_margin: a.worst_margin(),
-            assessment: a,
-        });
+        options.push((
+            search::score(&a, &m.bars, &cands, &clearances, line),
+            PlanOption {
+                bars: m.bars,
+                sides: m.sides,
+                counts: a.counts().as_array(),
+                worst_margin: a.worst_margin(),
+                assessment: a,
+                placed,
+            },
+        ));
     }
+    // A stable sort: ties keep the search's order.
     options.sort_by(|a, b| {
-        search::order(
-            &search::score(&a.assessment, &a.bars, &cands, line),
-            &search::score(&b.assessment, &b.bars, &cands, line),
-        )
+        if search::better(&a.0, &b.0) {
+            std::cmp::Ordering::Less
+        } else if search::better(&b.0, &a.0) {
+            std::cmp::Ordering::Greater
+        } else {
+            std::cmp::Ordering::Equal
+        }
     });
+    let options: Vec<PlanOption> = options.into_iter().map(|(_, o)| o).collect();
     let outcome = match options.first() {
         Some(best) if best.counts[2] == 0 => PlanOutcome::AllPass,
-        Some(best) => PlanOutcome::NoPass {
-            fails: best.counts[2],
-            first_failing: best
+        Some(best) => {
+            let failing: Vec<FindingRef> = best
                 .assessment
                 .findings
                 .iter()
-                .find(|f| f.verdict == Verdict::Fail)
-                .map(|f| FindingRef {
-                    profile: f.profile.clone(),
-                    rule: f.rule.clone(),
-                    subject: f.subject,
-                }),
-        },
+                .filter(|f| f.verdict == Verdict::Fail)
+                .map(finding_ref)
+                .collect();
+            PlanOutcome::NoPass {
+                fails: best.counts[2],
+                first_failing: failing.first().cloned(),
+                failing,
+            }
+        }
         None => PlanOutcome::Nothing,
     };
+    let dead_end = match outcome {
+        PlanOutcome::AllPass => None,
+        _ => Some(dead_end(
+            original, line, &cands, profiles, scene, &evaluate,
+        )?),
+    };
+    let settings = st.clone();
     Ok(Plan {
         candidates: cands,
+        bars: options.first().map_or(0, |o| o.bars.len()),
+        max_bars: max_size,
         options,
         before,
-        bars: chosen_size,
         evaluated,
         exhaustive,
         outcome,
         refused,
+        settings,
+        dead_end,
     })
+}
+
+/// One candidate at every allowed position (the first listed there: above
+/// the web where both sides are allowed), as indices.
+fn one_per_position(cands: &[Candidate]) -> Vec<usize> {
+    let mut seen: Vec<(usize, u64)> = Vec::new();
+    let mut out = Vec::new();
+    for (i, c) in cands.iter().enumerate() {
+        let key = (c.span, c.along.to_bits());
+        if !seen.contains(&key) {
+            seen.push(key);
+            out.push(i);
+        }
+    }
+    out
+}
+
+/// What blocks every placement: a bar at every allowed position at once,
+/// scored by the superposition (`evaluate`) and assessed with the full
+/// model; each finding that still fails (other than the eliminators' own)
+/// with its cause. `original` names the charge entries as the user wrote
+/// them; `line` is the planner's line.
+fn dead_end(
+    original: &Line,
+    line: &Line,
+    cands: &[Candidate],
+    profiles: &[ThresholdProfile],
+    scene: &Scene,
+    evaluate: &dyn Fn(&[usize]) -> Option<Score>,
+) -> Result<DeadEnd, PlanError> {
+    let all = one_per_position(cands);
+    let fails_fast = evaluate(&all).map_or(0, |s| s.fails);
+    let placed = apply(
+        line,
+        &all.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
+    );
+    let a = full_assessment(scene, &placed, profiles)?;
+    let charge = crate::charge::charge_profile(&placed);
+    let blockers = a
+        .findings
+        .iter()
+        .filter(|f| {
+            f.verdict == Verdict::Fail && &*f.profile != crate::assess::eliminators::PROFILE
+        })
+        .map(|f| Blocker {
+            finding: finding_ref(f),
+            value: f.value,
+            limit: f.fail.unwrap_or(f.limit),
+            dim: f.dim,
+            cause: cause(original, line, cands, &charge, f),
+        })
+        .collect();
+    Ok(DeadEnd {
+        positions: all.len(),
+        fails_fast,
+        fails_full: a.counts().fail,
+        blockers,
+    })
+}
+
+/// Why `f` fails with a bar at every allowed position (`charge` is the
+/// charge with them).
+fn cause(
+    original: &Line,
+    line: &Line,
+    cands: &[Candidate],
+    charge: &crate::charge::ChargeProfile,
+    f: &Finding,
+) -> BlockerCause {
+    match f.subject {
+        Subject::Span(k) if f.dim == Dim::SurfaceChargeDensity => {
+            let Some(span) = line.path.spans.get(k) else {
+                return BlockerCause::NotReached;
+            };
+            let first = cands
+                .iter()
+                .filter(|c| c.span == k)
+                .map(|c| c.along)
+                .fold(f64::INFINITY, f64::min);
+            let bar_on_span = first.is_finite();
+            let stretch = if bar_on_span { first } else { span.length };
+            let density = charge.peak_between(span.s_start, span.s_start + stretch);
+            let limit = f.fail.unwrap_or(f.limit);
+            if density < limit {
+                return BlockerCause::NotReached;
+            }
+            let node = line.path.nodes.get(span.from_node);
+            let keep_clear = node.and_then(|n| match n.kind {
+                NodeKind::Roller { roller, .. }
+                    if line.rollers[roller].earthing != crate::model::Earthing::Insulating =>
+                {
+                    cands
+                        .iter()
+                        .map(|c| CONDUCTOR_CLEARANCE * c.distance)
+                        .reduce(f64::min)
+                }
+                _ => None,
+            });
+            // The entry that charges the stretch: the last one at or
+            // before its end, named as the user wrote it.
+            let entry = line
+                .charge
+                .iter()
+                .filter(|e| e.s <= span.s_start + stretch)
+                .max_by(|a, b| a.s.total_cmp(&b.s));
+            let charged_at = entry.map(|e| {
+                original
+                    .charge
+                    .iter()
+                    .find(|o| o.s == e.s)
+                    .map(|o| o.at.clone())
+                    .unwrap_or_else(|| e.at.clone())
+            });
+            BlockerCause::UpstreamOfBars {
+                span: k,
+                stretch,
+                bar_on_span,
+                keep_clear,
+                density,
+                node: node.and_then(|n| n.id.clone()),
+                charged_at,
+            }
+        }
+        Subject::Span(_) => BlockerCause::NotReached,
+        Subject::Point(_) => BlockerCause::PointField {
+            span: f.contributions.first().map(|c| c.span.clone()),
+        },
+        Subject::Roller(_) | Subject::Conductor(_) => BlockerCause::ChargedConductor,
+        Subject::Web => BlockerCause::WebProperty,
+        Subject::Eliminator(_) | Subject::EliminatorPair(..) => BlockerCause::NotReached,
+    }
 }

@@ -1,9 +1,20 @@
 //! # Searching placements (plan stage)
 //!
-//! Ranks placements of N bars among the candidates. A placement is scored
-//! by the tuple (failing findings, worst margin, bars, Σ s_b), compared in
-//! that order, smaller being better; margins within 10⁻⁹ relative count as
-//! equal so that round-off cannot reorder equivalent plans.
+//! Ranks placements of bars among the candidates. A placement's [`Score`]
+//! is compared in this order, the first difference deciding:
+//!
+//! 1. fewer failing findings;
+//! 2. fewer bars;
+//! 3. a lower worst margin (value ÷ limit over every finding; margins within
+//!    10⁻⁹ relative count as equal, so that round-off cannot reorder
+//!    equivalent plans);
+//! 4. the simplest installation: fewer distinct spans carrying bars, then
+//!    the larger clearance (the smallest, over the bars, of the distance
+//!    along the span to a conducting roller at either end and the distance
+//!    to any other grounded conductor, capped at [`CLEARANCE_CAP`]; within
+//!    1 µm counts as equal), then the bars farther upstream (smaller Σ s_b);
+//! 5. the candidates' order (so that the answer never depends on the order
+//!    the search met the placements in).
 //!
 //! For N ≤ 3 and at most [`MAX_EXHAUSTIVE`] placements, every one of the
 //! C(n, N) = n!/(N!(n − N)!) subsets of the n candidates is scored: the
@@ -11,16 +22,41 @@
 //! start (add the best bar one at a time) is improved by one-bar swaps while
 //! they help, which is heuristic (local search; any textbook on
 //! combinatorial optimisation).
+//!
+//! Placements that differ only in the side of some bars and score equally
+//! are one plan ([`merge_sides`]).
 
 use super::Candidate;
 use crate::assess::Assessment;
-use crate::model::Line;
+use crate::model::{Line, Side};
 use rayon::prelude::*;
 use std::cmp::Ordering;
 use std::sync::atomic::{AtomicUsize, Ordering as Atomic};
 
-/// (fails, worst margin, bars, upstream): smaller is better.
-pub(super) type Score = (usize, f64, usize, f64);
+/// How a placement ranks; see the module doc for the order.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(super) struct Score {
+    /// Failing findings.
+    pub fails: usize,
+    /// Bars placed.
+    pub bars: usize,
+    /// The largest margin over every finding [1].
+    pub margin: f64,
+    /// Distinct spans carrying bars.
+    pub spans: usize,
+    /// The smallest clearance of a bar [m] (larger is better).
+    pub clearance: f64,
+    /// Σ s_b, the bars' arc lengths added up [m].
+    pub upstream: f64,
+}
+
+/// Clearances above this count as this [m]: beyond a metre a bar is as
+/// easy to mount whatever the distance.
+pub const CLEARANCE_CAP: f64 = 1.0;
+
+/// Clearances closer than this count as equal [m] (the distance to a
+/// conductor is found to 1 µm).
+const CLEARANCE_EQUAL: f64 = 1e-6;
 
 /// A placement (indices into the candidates, increasing) with its score.
 pub(super) type Scored = (Vec<usize>, Score);
@@ -66,56 +102,181 @@ pub fn combinations(n: usize, k: usize) -> Vec<Vec<usize>> {
     }
 }
 
-/// Σ s_b: the arc lengths of the bars added up [m].
-pub(super) fn upstream(bars: &[usize], cands: &[Candidate], line: &Line) -> f64 {
-    bars.iter().map(|&b| cands[b].s(line)).sum()
+/// The score of a placement of `bars` with `fails` failing findings and
+/// worst margin `margin`; `clearances` holds each candidate's clearance.
+pub(super) fn score_of(
+    fails: usize,
+    margin: f64,
+    bars: &[usize],
+    cands: &[Candidate],
+    clearances: &[f64],
+    line: &Line,
+) -> Score {
+    let mut spans: Vec<usize> = bars.iter().map(|&b| cands[b].span).collect();
+    spans.sort_unstable();
+    spans.dedup();
+    Score {
+        fails,
+        bars: bars.len(),
+        margin,
+        spans: spans.len(),
+        clearance: bars
+            .iter()
+            .map(|&b| clearances[b])
+            .fold(CLEARANCE_CAP, f64::min),
+        upstream: bars.iter().map(|&b| cands[b].s(line)).sum(),
+    }
 }
 
 /// The score of a placement from its full assessment.
-pub(super) fn score(a: &Assessment, bars: &[usize], cands: &[Candidate], line: &Line) -> Score {
-    (
+pub(super) fn score(
+    a: &Assessment,
+    bars: &[usize],
+    cands: &[Candidate],
+    clearances: &[f64],
+    line: &Line,
+) -> Score {
+    score_of(
         a.counts().fail,
         a.worst_margin(),
-        bars.len(),
-        upstream(bars, cands, line),
+        bars,
+        cands,
+        clearances,
+        line,
     )
 }
 
-/// Whether `a` ranks before `b`.
+/// Whether `a` ranks before `b` (the order of the module doc, without the
+/// candidates' order).
 pub(super) fn better(a: &Score, b: &Score) -> bool {
+    if a.fails != b.fails {
+        return a.fails < b.fails;
+    }
+    if a.bars != b.bars {
+        return a.bars < b.bars;
+    }
     // Margins within 1e-9 relative count as equal, so round-off cannot
     // reorder equivalent plans.
-    if a.0 != b.0 {
-        return a.0 < b.0;
+    if (a.margin - b.margin).abs() > 1e-9 * a.margin.abs().max(b.margin.abs()) {
+        return a.margin < b.margin;
     }
-    if (a.1 - b.1).abs() > 1e-9 * a.1.abs().max(b.1.abs()) {
-        return a.1 < b.1;
+    if a.spans != b.spans {
+        return a.spans < b.spans;
     }
-    if a.2 != b.2 {
-        return a.2 < b.2;
+    if (a.clearance - b.clearance).abs() > CLEARANCE_EQUAL {
+        return a.clearance > b.clearance;
     }
-    a.3 < b.3
+    a.upstream < b.upstream
 }
 
-/// Best first, for `sort_by` (a stable sort keeps ties in their order).
-pub(super) fn order(a: &Score, b: &Score) -> Ordering {
-    if better(a, b) {
+/// Whether two scores tie (neither ranks before the other).
+pub(super) fn tie(a: &Score, b: &Score) -> bool {
+    !better(a, b) && !better(b, a)
+}
+
+/// Best first, for `sort_by`; ties by the candidates' order.
+pub(super) fn order(a: &Scored, b: &Scored) -> Ordering {
+    if better(&a.1, &b.1) {
         Ordering::Less
-    } else if better(b, a) {
+    } else if better(&b.1, &a.1) {
         Ordering::Greater
     } else {
-        Ordering::Equal
+        a.0.cmp(&b.0)
     }
+}
+
+/// A plan: placements that differ only in the side of some bars and tie.
+#[derive(Debug, Clone, PartialEq)]
+pub(super) struct Merged {
+    /// The first placement, its bars in the order of `sides`.
+    pub bars: Vec<usize>,
+    /// Its score.
+    pub score: Score,
+    /// For each bar, the sides it may take (the plan holds every
+    /// combination of them).
+    pub sides: Vec<Vec<Side>>,
+}
+
+/// Where a placement's bars are, side aside: (span, position bits) each.
+type PositionKey = Vec<(usize, u64)>;
+
+/// A placement's bars ordered by (span, position, side), with its
+/// position key.
+fn slots(bars: &[usize], cands: &[Candidate]) -> (Vec<usize>, PositionKey) {
+    let mut b = bars.to_vec();
+    let side = |s: Side| u8::from(s != Side::Above);
+    b.sort_by(|&x, &y| {
+        let (p, q) = (&cands[x], &cands[y]);
+        p.span
+            .cmp(&q.span)
+            .then(p.along.total_cmp(&q.along))
+            .then(side(p.side).cmp(&side(q.side)))
+    });
+    let key = b
+        .iter()
+        .map(|&i| (cands[i].span, cands[i].along.to_bits()))
+        .collect();
+    (b, key)
+}
+
+/// Merges the placements of `ranked` (best first) that differ only in the
+/// side of some bars and tie into one plan listing the sides. A group is
+/// merged only when it holds every combination of its sides (so that "above
+/// or below" at each bar is true of every combination); otherwise its
+/// placements stay plans of their own.
+pub(super) fn merge_sides(ranked: &[Scored], cands: &[Candidate]) -> Vec<Merged> {
+    // Groups in the order of their best placement.
+    let mut groups: Vec<(PositionKey, Vec<Scored>)> = Vec::new();
+    for (bars, sc) in ranked {
+        let (b, key) = slots(bars, cands);
+        match groups
+            .iter_mut()
+            .find(|(k, members)| *k == key && tie(&members[0].1, sc))
+        {
+            Some((_, members)) => members.push((b, *sc)),
+            None => groups.push((key, vec![(b, *sc)])),
+        }
+    }
+    let mut out = Vec::new();
+    for (_, members) in groups {
+        let n = members[0].0.len();
+        let sides: Vec<Vec<Side>> = (0..n)
+            .map(|i| {
+                let mut v: Vec<Side> = members.iter().map(|m| cands[m.0[i]].side).collect();
+                v.sort_by_key(|&s| u8::from(s != Side::Above));
+                v.dedup();
+                v
+            })
+            .collect();
+        let product: usize = sides.iter().map(Vec::len).product();
+        if product == members.len() {
+            out.push(Merged {
+                bars: members[0].0.clone(),
+                score: members[0].1,
+                sides,
+            });
+        } else {
+            for (bars, score) in members {
+                let sides = bars.iter().map(|&b| vec![cands[b].side]).collect();
+                out.push(Merged { bars, score, sides });
+            }
+        }
+    }
+    out
 }
 
 /// Inserts a placement into a best-first list of at most `keep` entries.
 fn keep_best(best: &mut Vec<Scored>, c: &[usize], sc: Score, keep: usize) {
-    if best.len() == keep && best.last().is_some_and(|w| !better(&sc, &w.1)) {
+    if best.len() == keep
+        && best
+            .last()
+            .is_some_and(|w| better(&w.1, &sc) || (tie(&w.1, &sc) && w.0.as_slice() < c))
+    {
         return;
     }
     let at = best
         .iter()
-        .position(|b| better(&sc, &b.1) || (!better(&b.1, &sc) && c < b.0.as_slice()))
+        .position(|b| better(&sc, &b.1) || (tie(&b.1, &sc) && c < b.0.as_slice()))
         .unwrap_or(best.len());
     best.insert(at, (c.to_vec(), sc));
     best.truncate(keep);

@@ -221,27 +221,32 @@ impl FindingRow {
 pub struct PlanSection {
     /// What was searched and what the result means.
     pub summary: String,
+    /// The candidate positions searched (kind, distance, spacing, sides).
+    pub settings: String,
     /// The best plans: bars described, fail, warn, pass, worst margin.
     pub options: Vec<(String, [usize; 3], f64)>,
     /// For the best plan, each finding that warns or fails before:
     /// (rule, subject, before, after).
     pub before_after: Vec<(String, String, String, String)>,
+    /// Candidate positions refused, each with its reason.
+    pub refused: Vec<String>,
+    /// When no plan passes: why (the sentence before the list, then one
+    /// entry per blocking finding), and what the best partial plan leaves
+    /// failing.
+    pub dead_end: Option<(String, Vec<String>, Vec<String>)>,
 }
 
 impl PlanSection {
     /// Lays out a plan for the report.
     pub fn from_plan(plan: &crate::plan::Plan, line: &Line) -> Self {
         use super::finding_text::value_text;
+        use super::plan_words as words;
         let options = plan
             .options
             .iter()
             .map(|o| {
                 (
-                    o.bars
-                        .iter()
-                        .map(|&b| super::plan_words::candidate_text(&plan.candidates[b], line))
-                        .collect::<Vec<_>>()
-                        .join("; "),
+                    words::option_bars_text(plan, o, line),
                     o.counts,
                     o.worst_margin,
                 )
@@ -255,10 +260,7 @@ impl PlanSection {
                 .iter()
                 .filter(|f| f.verdict != Verdict::Pass)
             {
-                let after =
-                    best.assessment.findings.iter().find(|g| {
-                        g.profile == f.profile && g.rule == f.rule && g.subject == f.subject
-                    });
+                let after = best.after(line, f);
                 before_after.push((
                     format!("{}/{}", f.profile, f.rule),
                     super::notes::subject_label(line, &f.subject),
@@ -269,10 +271,41 @@ impl PlanSection {
                 ));
             }
         }
+        let dead_end = plan.dead_end.as_ref().map(|d| {
+            let leaves = match (&plan.outcome, plan.options.first()) {
+                (crate::plan::PlanOutcome::NoPass { failing, .. }, Some(best)) => failing
+                    .iter()
+                    .map(|f| {
+                        format!(
+                            "{}/{} on {}",
+                            f.profile,
+                            f.rule,
+                            super::notes::subject_label(&best.placed, &f.subject)
+                        )
+                    })
+                    .collect(),
+                _ => Vec::new(),
+            };
+            (
+                words::dead_end_intro(d, plan.max_bars),
+                d.blockers
+                    .iter()
+                    .map(|b| words::blocker_text(b, line))
+                    .collect(),
+                leaves,
+            )
+        });
         PlanSection {
-            summary: super::plan_words::plan_summary(plan, line),
+            summary: words::plan_summary(plan, line),
+            settings: words::settings_text(plan),
             options,
             before_after,
+            refused: plan
+                .refused
+                .iter()
+                .map(|r| super::notes::candidate_refusal(line, r))
+                .collect(),
+            dead_end,
         }
     }
 }

@@ -169,6 +169,9 @@ pub fn plan_csv(plan: &crate::plan::Plan, line: &crate::model::Line) -> String {
         }
         for (k, &b) in o.bars.iter().enumerate() {
             let c = &plan.candidates[b];
+            let sides = o.sides.get(k).map_or(c.side.text().to_string(), |s| {
+                super::plan_words::sides_text(s)
+            });
             let span = &line.path.spans[c.span];
             s.push_str(&format!(
                 "{lead},{},{},{},{},{:?},{},{:?},{:?}\n",
@@ -177,7 +180,7 @@ pub fn plan_csv(plan: &crate::plan::Plan, line: &crate::model::Line) -> String {
                 text_cell(&span.name),
                 text_cell(&span.label()),
                 c.along,
-                c.side.text(),
+                sides,
                 c.distance,
                 c.efficiency
             ));

@@ -762,8 +762,10 @@ pub fn layout(r: &Report) -> Vec<Section> {
     if let Some(p) = &r.plan {
         let mut blocks = vec![
             Block::Para(format!(
-                "{}. Plans are ranked by failing findings, then the worst margin, then the number of bars, then how far upstream they sit; each is re-assessed with the full model. Bars are proposed only where the placement rules allow (not within three bar distances of a roller the web touches).",
-                p.summary
+                "{}. {} {}",
+                p.summary,
+                p.settings,
+                super::plan_words::RANKING
             )),
             table(
                 &["plan", "bars", "fail", "warn", "pass", "worst margin"],
@@ -782,15 +784,32 @@ pub fn layout(r: &Report) -> Vec<Section> {
                     })
                     .collect(),
             ),
-            Block::Para("The best plan, findings that warn or fail without it:".into()),
-            table(
-                &["rule", "subject", "before", "after"],
-                p.before_after
-                    .iter()
-                    .map(|(a, b, c, d)| vec![a.clone(), b.clone(), c.clone(), d.clone()])
-                    .collect(),
-            ),
         ];
+        if !p.refused.is_empty() {
+            blocks.push(Block::Para(format!(
+                "{} candidate position(s) left out for their clearance from grounded conductors:",
+                p.refused.len()
+            )));
+            blocks.push(Block::List(p.refused.clone()));
+        }
+        if let Some((intro, blockers, leaves)) = &p.dead_end {
+            blocks.push(Block::Para(intro.clone()));
+            blocks.push(Block::List(blockers.clone()));
+            if !leaves.is_empty() {
+                blocks.push(Block::Para("The best partial plan leaves failing:".into()));
+                blocks.push(Block::List(leaves.clone()));
+            }
+        }
+        blocks.push(Block::Para(
+            "The best plan, findings that warn or fail without it:".into(),
+        ));
+        blocks.push(table(
+            &["rule", "subject", "before", "after"],
+            p.before_after
+                .iter()
+                .map(|(a, b, c, d)| vec![a.clone(), b.clone(), c.clone(), d.clone()])
+                .collect(),
+        ));
         for pl in r.plots.iter().filter(|p| p.file.contains("planned")) {
             blocks.push(Block::Image {
                 file: pl.file.clone(),

@@ -12,7 +12,13 @@ use crate::units::format_quantity;
 
 /// The `plan` command's table output.
 pub fn plan_text(plan: &Plan, line: &Line) -> String {
-    let mut s = format!("{}\n\n", super::plan_words::plan_summary(plan, line));
+    use super::plan_words as words;
+    let mut s = format!(
+        "{}\n\n{}\n{}\n\n",
+        words::plan_summary(plan, line),
+        words::settings_text(plan),
+        words::RANKING
+    );
     let before = &plan.before;
     let n = before.counts();
     s.push_str(&format!(
@@ -26,11 +32,7 @@ pub fn plan_text(plan: &Plan, line: &Line) -> String {
         .map(|(i, o)| {
             vec![
                 format!("{}", i + 1),
-                o.bars
-                    .iter()
-                    .map(|&b| super::plan_words::candidate_text(&plan.candidates[b], line))
-                    .collect::<Vec<_>>()
-                    .join("; "),
+                words::option_bars_text(plan, o, line),
                 format!("{}", o.counts[2]),
                 format!("{}", o.counts[1]),
                 format!("{}", o.counts[0]),
@@ -54,6 +56,12 @@ pub fn plan_text(plan: &Plan, line: &Line) -> String {
             ));
         }
     }
+    if let Some(d) = &plan.dead_end {
+        s.push_str(&format!("\n{}\n", words::dead_end_intro(d, plan.max_bars)));
+        for b in &d.blockers {
+            s.push_str(&format!("  - {}\n", words::blocker_text(b, line)));
+        }
+    }
     if let Some(best) = plan.options.first() {
         s.push_str("\nbest plan, findings that warn or fail before → after:\n");
         let mut rows = Vec::new();
@@ -62,11 +70,7 @@ pub fn plan_text(plan: &Plan, line: &Line) -> String {
             .iter()
             .filter(|f| f.verdict != Verdict::Pass)
         {
-            let after = best
-                .assessment
-                .findings
-                .iter()
-                .find(|g| g.profile == f.profile && g.rule == f.rule && g.subject == f.subject);
+            let after = best.after(line, f);
             rows.push(vec![
                 format!("{}/{}", f.profile, f.rule),
                 super::notes::subject_label(line, &f.subject),
@@ -86,24 +90,39 @@ pub fn plan_text(plan: &Plan, line: &Line) -> String {
                     .unwrap_or_else(|| "—".into()),
             ]);
         }
-        for g in best
-            .assessment
-            .findings
-            .iter()
-            .filter(|g| &*g.profile == eliminators::PROFILE && g.verdict != Verdict::Pass)
-        {
+        // The eliminators' own findings with the plan (new bars included),
+        // named from the placed line.
+        for g in best.assessment.findings.iter().filter(|g| {
+            &*g.profile == eliminators::PROFILE
+                && g.verdict != Verdict::Pass
+                && !before.findings.iter().any(|f| {
+                    f.verdict != Verdict::Pass
+                        && best.after(line, f).is_some_and(|a| std::ptr::eq(a, *g))
+                })
+        }) {
             rows.push(vec![
                 format!("{}/{}", g.profile, g.rule),
-                super::notes::subject_label(line, &g.subject),
+                super::notes::subject_label(&best.placed, &g.subject),
                 "—".into(),
                 format!(
                     "{} {}",
                     g.verdict.text().to_uppercase(),
-                    super::notes::finding_notes(line, g)
+                    super::notes::finding_notes(&best.placed, g)
                 ),
             ]);
         }
         s.push_str(&text::table(&["rule", "subject", "before", "after"], &rows));
+        if let crate::plan::PlanOutcome::NoPass { failing, .. } = &plan.outcome {
+            s.push_str("\nthe best partial plan leaves failing:\n");
+            for f in failing {
+                s.push_str(&format!(
+                    "  - {}/{} on {}\n",
+                    f.profile,
+                    f.rule,
+                    super::notes::subject_label(&best.placed, &f.subject)
+                ));
+            }
+        }
     }
     s.push_str(&format!("\ncaution: {}\n", crate::CAUTIONS));
     s
