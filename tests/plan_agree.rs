@@ -307,19 +307,22 @@ fn ranking_tie_breaks() {
         );
     }
     // Fewest bars: the best, with one bar, leaves as many failures as a
-    // plan of more bars listed after it, whose worst margin is no higher.
+    // plan of more bars listed after it.
     assert_eq!(ranks[0].1, 1);
     let more = ranks
         .iter()
         .find(|r| r.1 > 1)
         .expect("plans of more bars listed");
     assert_eq!(more.0, ranks[0].0);
-    assert!(more.2 <= ranks[0].2 * (1.0 + 1e-9), "{ranks:?}");
-    // Margin, spans tie between plans 1 and 2 (one bar each on S4); the
-    // clearance decides.
+    // Plans 1 and 2 have one bar each on S4 and as many failures; the
+    // lower worst margin (here the passive T1's onset check downstream),
+    // else the clearance, decides.
     assert_eq!((ranks[1].0, ranks[1].1, ranks[1].3), (ranks[0].0, 1, 1));
-    assert!((ranks[1].2 - ranks[0].2).abs() <= 1e-9 * ranks[0].2);
-    assert!(ranks[0].4 > ranks[1].4 + 1e-6, "{ranks:?}");
+    let tie = (ranks[1].2 - ranks[0].2).abs() <= 1e-9 * ranks[0].2;
+    assert!(
+        (tie && ranks[0].4 > ranks[1].4 + 1e-6) || (!tie && ranks[0].2 < ranks[1].2),
+        "{ranks:?}"
+    );
     // When no size passes, the best partial plan is chosen over every size
     // searched, not only the last.
     assert_eq!(p.max_bars, 3);
@@ -393,7 +396,7 @@ fn dead_end_names_the_span_the_stretch_and_the_nip() {
     assert_eq!(blocker["charged_at"], "R3");
     let words = blocker["text"].as_str().unwrap();
     for part in [
-        "S4 carries 3.667 µC/m² on its first 167.1 mm after R3",
+        "S4 carries 3.643 µC/m² on its first 167.1 mm after R3",
         "a bar keeps 120 mm from R3",
         "upstream of every allowed bar position",
         "reduce charging at R3",
