@@ -30,6 +30,7 @@
 //! - [`pipeline`]: the stages chained;
 //! - [`report`]: every word and picture a person sees; writers that only
 //!   format;
+//! - [`progress`]: long work announced to a sink the command line installs;
 //! - [`safe_text`]: the characters refused in user text, and user text made
 //!   safe to echo;
 //! - [`units`]: SI inside, units parsed and formatted at the edges;
@@ -52,6 +53,7 @@ pub mod physics;
 pub mod pipeline;
 pub mod plan;
 pub mod points;
+pub mod progress;
 pub mod read;
 pub mod readings;
 pub mod report;
