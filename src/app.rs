@@ -13,6 +13,7 @@ use crate::error::Outcome;
 use crate::field::{PointField, Scene, SolverSettings, WebField};
 use crate::model::{Line, load_line, parse_line};
 use crate::points::{self, PointFile};
+use crate::progress::{Task, Tracker};
 use crate::readings::{ReadingsResult, invert_readings};
 use crate::report::field_out::{self, FieldFormat, FieldWriter};
 use crate::report::{
@@ -32,6 +33,10 @@ const CHUNK: usize = 4096;
 
 /// Runs one command.
 pub fn run(cli: Cli) -> Result<Outcome> {
+    use std::io::IsTerminal;
+    if !cli.quiet && std::io::stderr().is_terminal() {
+        crate::progress::install(Box::new(crate::report::progress_bar::TerminalBars::new()));
+    }
     match cli.command {
         Command::Check(a) => check(&a),
         Command::Field(a) => field(&a),
@@ -247,18 +252,21 @@ fn field(a: &FieldArgs) -> Result<Outcome> {
         }
         // Second pass: evaluate the good rows and write chunk by chunk.
         emit(&mut out, &w.header(&spans))?;
+        let progress = Tracker::new(Task::Points, count as u64);
         PointFile::open(path)?.for_each_chunk(CHUNK, |chunk| {
+            let rows = (chunk.points.len() + chunk.bad.len()) as u64;
             let good: Vec<PointRequest> = chunk
                 .points
                 .iter()
                 .filter(|q| line.point_problem(q.at).is_none())
                 .cloned()
                 .collect();
-            if good.is_empty() {
-                return Ok(());
+            if !good.is_empty() {
+                let res = evaluate(&model, &good, a.contributions)?;
+                emit(&mut out, &w.rows(&good, &res))?;
             }
-            let res = evaluate(&model, &good, a.contributions)?;
-            emit(&mut out, &w.rows(&good, &res))
+            progress.advance(rows);
+            Ok(())
         })?;
     } else {
         let reqs: Vec<PointRequest> = if a.at.is_empty() {

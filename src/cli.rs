@@ -14,6 +14,10 @@ use std::path::PathBuf;
 #[derive(Debug, Parser)]
 #[command(name = "websigma", version, propagate_version = true)]
 pub struct Cli {
+    /// No progress bars (they are drawn on stderr only when it is a
+    /// terminal, for work longer than about a second).
+    #[arg(long, global = true)]
+    pub quiet: bool,
     /// What to do.
     #[command(subcommand)]
     pub command: Command,

@@ -87,6 +87,7 @@
 //! grounded plane and do not overlap (not checked here: the caller validates
 //! placement).
 
+use crate::progress::{Task, Tracker};
 use faer::Mat;
 use faer::linalg::solvers::{DenseSolveCore, PartialPivLu, Solve};
 use rayon::prelude::*;
@@ -426,9 +427,12 @@ impl Bem {
         let row_scale: Vec<f64> = iso.iter().map(|&k| meshed[k].area.sqrt()).collect();
         let n = panels.len();
         let size = n + iso.len();
-        // Column-major assembly, one column (source panel) per task.
+        // Column-major assembly, one column (source panel) per task; the
+        // factorisation counts as a tenth of the work on the progress bar.
+        let progress = Tracker::new(Task::Conductors, (size + size / 10 + 1) as u64);
         let mut data = vec![0.0; size * size];
         data.par_chunks_mut(size).enumerate().for_each(|(j, col)| {
+            progress.advance(1);
             if j < n {
                 let pj = &panels[j];
                 for (i, pi) in panels.iter().enumerate() {
@@ -458,6 +462,8 @@ impl Bem {
         });
         let a = faer::MatRef::from_column_major_slice(&data, size, size);
         let lu = PartialPivLu::new(a);
+        progress.advance((size / 10 + 1) as u64);
+        drop(progress);
         drop(data);
         let diag = lu.U().diagonal();
         let (mut lo, mut hi) = (f64::INFINITY, 0.0_f64);
@@ -812,6 +818,11 @@ impl Induced {
             e[2] += q * f[2];
         }
         (e, v)
+    }
+
+    /// q̃_j = σ_j/(4πε₀) of every panel [V/m] (in [`Bem::panels`] order).
+    pub fn scaled_densities(&self) -> &[f64] {
+        &self.q
     }
 
     /// Surface charge density of every panel [C/m²].

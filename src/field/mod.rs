@@ -41,6 +41,7 @@ pub mod integrate;
 pub mod kernels;
 pub mod panels;
 pub mod scene;
+pub mod tree;
 
 pub use scene::{ConductorAccuracy, ConductorResult, Scene, WebField};
 

@@ -31,14 +31,17 @@ use super::bem::{Bem, BemSettings, ConductorSpec, Earthing, Induced};
 use super::integrate::{Patch, patch_field};
 use super::kernels::{LocalField, QuadPiece};
 use super::panels::Shape;
+use super::tree::{self, PanelTree};
 use super::{FieldAt, FieldError, FieldMap, PointField, SolverSettings, SpanContribution};
 use crate::charge::ChargeProfile;
 use crate::model::Line;
 use crate::model::Span;
 use crate::model::geometry::{on_web, span_frame};
+use crate::progress::{Task, Tracker};
 use crate::units::{Meters, VoltsPerMeter};
 use rayon::prelude::*;
 use std::cell::Cell;
+use std::sync::OnceLock;
 
 thread_local! {
     static BUILT: Cell<usize> = const { Cell::new(0) };
@@ -200,6 +203,7 @@ impl Scene {
             patches,
             induced: Ok(None),
             charges: Vec::new(),
+            tree: OnceLock::new(),
         };
         if let Some(bem) = &self.bem {
             web.charges = bem
@@ -246,6 +250,11 @@ impl Scene {
 /// body and the lumped feet-to-floor capacitance (default 100 pF) brings it
 /// to the 150–170 pF of the usual body models (NFPA 77: people 100–300 pF).
 pub const PERSON_SOLE_GAP: Meters = 0.05;
+
+/// From this many points on, [`WebField::solve`] sums the conductors'
+/// charge by clusters: building the tree costs about as much as a few
+/// hundred points panel by panel.
+pub const TREE_POINTS: usize = 2000;
 
 fn conductor_solve(line: &Line, panel: f64, given: bool) -> Result<Option<Bem>, FieldError> {
     use crate::model::{
@@ -402,6 +411,8 @@ pub struct WebField<'s> {
     induced: Result<Option<Induced>, FieldError>,
     /// Net charge of each isolated conductor: given plus wrap charge [C].
     charges: Vec<f64>,
+    /// The induced charge sorted into clusters, built at the first point asked for.
+    tree: OnceLock<PanelTree>,
 }
 
 /// How much the conductors' results change when the panels are twice as
@@ -694,21 +705,69 @@ impl WebField<'_> {
     }
 
     /// Field and potential at every point (in parallel), in input order.
+    /// From [`TREE_POINTS`] points on (or once a call has built the tree:
+    /// the chunks of a long point list), the conductors' charge is summed by
+    /// clusters ([`super::tree`], error within [`tree::DEFAULT_TOL`] of the
+    /// sum of the panels' contribution magnitudes) instead of panel by panel.
     pub fn solve(
         &self,
         points: &[[Meters; 3]],
         contributions: bool,
     ) -> Result<FieldMap, FieldError> {
+        let many = points.len() >= TREE_POINTS || self.tree.get().is_some();
         let points = points
             .par_iter()
-            .map(|&p| self.at(p, contributions))
+            .map(|&p| {
+                if many {
+                    self.at_clustered(p, contributions)
+                } else {
+                    self.at(p, contributions)
+                }
+            })
             .collect::<Result<Vec<_>, _>>()?;
         Ok(FieldMap { points })
+    }
+
+    /// As [`WebField::at`], with the conductors' charge summed by clusters
+    /// (the tree is built at the first call).
+    pub fn at_clustered(
+        &self,
+        at: [Meters; 3],
+        contributions: bool,
+    ) -> Result<PointField, FieldError> {
+        let induced = self.induced.as_ref().map_err(Clone::clone)?;
+        let (Some(induced), Some(bem)) = (induced, &self.scene.bem) else {
+            return self.at(at, contributions);
+        };
+        let mut f = self.web_at(at, contributions)?;
+        let tree = self.tree.get_or_init(|| {
+            PanelTree::new(
+                bem.panels(),
+                induced.scaled_densities(),
+                bem.ground(),
+                tree::DEFAULT_TOL,
+            )
+        });
+        let (e, v) = tree.at(at);
+        for (fk, ek) in f.e.iter_mut().zip(e) {
+            *fk += ek;
+        }
+        f.v += v;
+        if contributions {
+            f.contributions.push(SpanContribution {
+                span: "charge induced on conductors".to_string(),
+                name: "conductors".to_string(),
+                e,
+                v,
+            });
+        }
+        Ok(f)
     }
 
     /// |E| on a regular grid in the side-view plane at across position `y`:
     /// `nx × nz` points over `x ∈ [x0, x1]`, `z ∈ [z0, z1]`, row-major by z
     /// (`values[iz * nx + ix]`) [V/m]. Points on the web (within 1 µm) are NaN.
+    /// The conductors' charge is summed by clusters ([`WebField::at_clustered`]).
     pub fn side_view_grid(
         &self,
         x: [Meters; 2],
@@ -726,11 +785,13 @@ impl WebField<'_> {
         };
         let xs: Vec<f64> = (0..nx).map(|i| step(x[0], x[1], nx, i)).collect();
         let zs: Vec<f64> = (0..nz).map(|i| step(z[0], z[1], nz, i)).collect();
+        let progress = Tracker::new(Task::Map, (nx * nz) as u64);
         let values: Vec<f64> = (0..nx * nz)
             .into_par_iter()
             .map(|k| {
                 let p = [xs[k % nx], y, zs[k / nx]];
-                self.at(p, false)
+                progress.advance(1);
+                self.at_clustered(p, false)
                     .map(|f| f.e_magnitude())
                     .unwrap_or(f64::NAN)
             })

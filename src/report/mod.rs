@@ -24,6 +24,7 @@ pub mod plan_text;
 pub mod plan_words;
 pub mod plot;
 pub mod profiles_text;
+pub mod progress_bar;
 pub mod readings_text;
 pub mod summary;
 pub mod table;
