@@ -2,6 +2,7 @@
 //!
 //! - `analytic`: the field solver against closed forms and published results;
 //! - `bem`: the conductor solve against published capacitances and image solutions;
+//! - `clusters`: the conductors' charge summed by clusters in maps and point lists;
 //! - `assess`: threshold profiles and the rules applied to small lines;
 //! - `assess_conductors`: the assessment with the conductors' solve;
 //! - `reports`: writer snapshots, the HTML, PNGs, folders, `assess` exit codes;
@@ -31,6 +32,7 @@ mod assess_conductors;
 mod bem;
 mod bem_published;
 mod cli;
+mod clusters;
 mod conductor_views;
 mod conductors;
 mod eliminators;
