@@ -75,6 +75,7 @@ use crate::assess::{Assessment, Finding, Subject, ThresholdProfile, Verdict};
 use crate::field::{FieldError, Scene};
 use crate::model::{EliminatorKind, Line, NodeKind, Side};
 use crate::units::{Dim, Meters};
+use rayon::prelude::*;
 
 mod apply;
 mod candidates;
@@ -483,9 +484,13 @@ pub fn plan(
         .iter()
         .map(|c| clearance(line, c, CLEARANCE_CAP))
         .collect();
-    let before = full_assessment(scene, line, profiles)?;
-    // Every point the rules ask for, then the superposition over them.
-    let points = influence::sampled_points(line, scene, profiles)?;
+    // The assessment without new bars and, beside it, every point the
+    // rules ask for; then the superposition over them.
+    let (before, points) = rayon::join(
+        || full_assessment(scene, line, profiles),
+        || influence::sampled_points(line, scene, profiles),
+    );
+    let (before, points) = (before?, points?);
     let mut inf = Influence::build(line, points, &cands, scene)?;
     inf.learn_order(|fast| placement::ask_all(line, fast, profiles));
 
@@ -534,26 +539,29 @@ pub fn plan(
     ranked.sort_by(search::order);
     let mut merged = search::merge_sides(&ranked, &cands);
     merged.truncate(keep);
-    // Re-assess the best plans with the full model.
-    let mut options: Vec<(Score, PlanOption)> = Vec::new();
-    for m in merged {
-        let placed = apply(
-            line,
-            &m.bars.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
-        );
-        let a = full_assessment(scene, &placed, profiles)?;
-        options.push((
-            search::score(&a, &m.bars, &cands, &clearances, line),
-            PlanOption {
-                bars: m.bars,
-                sides: m.sides,
-                counts: a.counts().as_array(),
-                worst_margin: a.worst_margin(),
-                assessment: a,
-                placed,
-            },
-        ));
-    }
+    // Re-assess the best plans with the full model (in parallel, kept in
+    // the search's order).
+    let mut options: Vec<(Score, PlanOption)> = merged
+        .into_par_iter()
+        .map(|m| -> Result<(Score, PlanOption), PlanError> {
+            let placed = apply(
+                line,
+                &m.bars.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
+            );
+            let a = full_assessment(scene, &placed, profiles)?;
+            Ok((
+                search::score(&a, &m.bars, &cands, &clearances, line),
+                PlanOption {
+                    bars: m.bars,
+                    sides: m.sides,
+                    counts: a.counts().as_array(),
+                    worst_margin: a.worst_margin(),
+                    assessment: a,
+                    placed,
+                },
+            ))
+        })
+        .collect::<Result<Vec<_>, _>>()?;
     // A stable sort: ties keep the search's order.
     options.sort_by(|a, b| {
         if search::better(&a.0, &b.0) {
