@@ -146,7 +146,6 @@ use crate::model::geometry::meter_geometry;
 use crate::model::{Line, NodeKind, Reading, ReadingRecord, ReadingValue};
 use crate::physics::AIR_BREAKDOWN_FIELD;
 use crate::units::{EPS0, Meters, VoltsPerMeter};
-use rayon::prelude::*;
 
 pub use crate::model::DEFAULT_CALIBRATION;
 
@@ -533,7 +532,6 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
     // conductors, each is a back-substitution) and reused at every set of
     // meter distances and by the forward model.
     let models: Vec<WebField<'_>> = (0..model.segments.len())
-        .into_par_iter()
         .map(|k| scene.web(&unit_profile(&model, k)))
         .collect();
     let problem = fit::Problem::new(line, &unknowns, &models, &model)?;
@@ -554,13 +552,12 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
     // corner of the distance tolerance.
     let mut lo = x.clone();
     let mut hi = x.clone();
-    // The probes at every set of distances, in parallel (each set is a few
-    // field evaluations per segment, independent of the others).
-    let moved_probes = sets
-        .par_iter()
-        .map(|d| problem.probes(d))
-        .collect::<Result<Vec<_>, _>>()?;
-    for pr in std::iter::once(probes.clone()).chain(moved_probes) {
+    for (i, d) in std::iter::once(&d0).chain(&sets).enumerate() {
+        let pr = if i == 0 {
+            probes.clone()
+        } else {
+            problem.probes(d)?
+        };
         let rr = problem.rows(&pr, &regimes);
         let Some((xd, pd)) = fit::solve(&rr, n) else {
             continue;
