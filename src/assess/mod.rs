@@ -344,11 +344,31 @@ pub fn score(
     points: &FieldMap,
     profiles: &[ThresholdProfile],
 ) -> Result<Score, FieldError> {
-    let out = rules::apply_all(line, charge, model, &points.points, None, profiles, false)?;
+    let rules = profile_score(line, charge, model, points, profiles)?;
     let (fails, worst) = eliminators::eliminator_score(line, charge);
     Ok(Score {
-        fails: out.fails + fails,
-        worst_margin: out.worst.max(worst),
+        fails: rules.fails + fails,
+        worst_margin: rules.worst_margin.max(worst),
+    })
+}
+
+/// The part of [`score`] from the threshold profiles' rules alone, without
+/// the built-in eliminator checks ([`eliminators::eliminator_score`] gives
+/// those): [`score`] is this part's fails plus theirs and the larger of the
+/// two margins. The rules read the eliminators only through `charge` and
+/// `model` (not their sides or ids), which lets the planner score the
+/// rules once for placements that differ only in the sides of bars.
+pub fn profile_score(
+    line: &Line,
+    charge: &ChargeProfile,
+    model: &dyn FieldAt,
+    points: &FieldMap,
+    profiles: &[ThresholdProfile],
+) -> Result<Score, FieldError> {
+    let out = rules::apply_all(line, charge, model, &points.points, None, profiles, false)?;
+    Ok(Score {
+        fails: out.fails,
+        worst_margin: out.worst,
     })
 }
 

@@ -32,9 +32,12 @@ use crate::assess::{ThresholdProfile, assess};
 use crate::charge::decay;
 use crate::field::{FieldAt, FieldError, FieldMap, PointField, Scene, WebField};
 use crate::model::{ChargeMode, Eliminator, Line};
+use crate::progress::{Task, Tracker};
 use rayon::prelude::*;
 use std::collections::HashMap;
+use std::hash::{BuildHasherDefault, Hasher};
 use std::sync::Mutex;
+use std::sync::atomic::{AtomicUsize, Ordering::Relaxed};
 
 /// Every point a full assessment of `line` asks the field at (the places
 /// of interest and the points the rules sample), sorted and without
@@ -91,6 +94,46 @@ fn key(p: [f64; 3]) -> [u64; 3] {
     [p[0].to_bits(), p[1].to_bits(), p[2].to_bits()]
 }
 
+/// A multiplicative hash of a point's bit pattern (one rotate, xor and
+/// multiply per 8 bytes): the lookup runs once per point and placement,
+/// and the keys are exact coordinates, not adversarial input.
+#[derive(Debug, Default, Clone, Copy)]
+struct PointHasher(u64);
+
+impl PointHasher {
+    /// An odd constant with well-mixed bits (2⁶⁴ divided by the golden ratio).
+    const SEED: u64 = 0x9e37_79b9_7f4a_7c15;
+
+    fn add(&mut self, word: u64) {
+        self.0 = (self.0.rotate_left(5) ^ word).wrapping_mul(Self::SEED);
+    }
+}
+
+impl Hasher for PointHasher {
+    fn write(&mut self, bytes: &[u8]) {
+        for chunk in bytes.chunks(8) {
+            let mut b = [0u8; 8];
+            b[..chunk.len()].copy_from_slice(chunk);
+            self.add(u64::from_le_bytes(b));
+        }
+    }
+
+    fn write_u64(&mut self, word: u64) {
+        self.add(word);
+    }
+
+    fn write_usize(&mut self, word: usize) {
+        self.add(word as u64);
+    }
+
+    fn finish(&self) -> u64 {
+        self.0
+    }
+}
+
+/// Point index by position bits.
+type PointIndex = HashMap<[u64; 3], usize, BuildHasherDefault<PointHasher>>;
+
 /// A source of charge: an entry with its place and value.
 #[derive(Debug, Clone)]
 struct Source {
@@ -103,17 +146,26 @@ pub(super) struct Influence {
     starts: Vec<f64>,
     /// Sources (charge entries, folded by place).
     sources: Vec<Source>,
-    /// prefix[i][p][e] = Σ_{e' < e} c_ie' G_e'(p), as [Ex, Ey, Ez, V].
+    /// prefix[i][e][p] = Σ_{e' < e} c_ie' G_e'(p), as [Ex, Ey, Ez, V]: the
+    /// points of one source and piece are contiguous, so one placement is a
+    /// few vector operations over all points.
     prefix: Vec<Vec<Vec<[f64; 4]>>>,
     /// Piece index where each source starts.
     source_piece: Vec<usize>,
     /// Point index by position bits.
-    index: HashMap<[u64; 3], usize>,
+    index: PointIndex,
+    /// The point indices in the order the scoring of the line without new
+    /// bars asked for them ([`Influence::learn_order`]): the scoring of a
+    /// placement asks in much the same order, so [`Fast`] tries the next
+    /// one of these before the hash lookup.
+    order: Vec<usize>,
     points: Vec<[f64; 3]>,
 }
 
 impl Influence {
     /// The prefix sums for `points`, with pieces cut at every candidate.
+    /// Announces its field evaluations (pieces × points) as
+    /// [`Task::Influences`].
     pub(super) fn build(
         line: &Line,
         points: Vec<[f64; 3]>,
@@ -144,6 +196,7 @@ impl Influence {
             .enumerate()
             .map(|(e, &a)| (a, starts.get(e + 1).copied().unwrap_or(total)))
             .collect();
+        let tracker = Tracker::new(Task::Influences, (pieces.len() * points.len()) as u64);
         // The conductors' panel factors at every point, once: each piece's
         // induced field there is then a dot product.
         let factors = scene.panel_factors(&points);
@@ -151,16 +204,19 @@ impl Influence {
             .par_iter()
             .map(|&(a, b)| {
                 let m = scene.unit_piece(&base, a, b);
-                points
+                let out = points
                     .iter()
                     .enumerate()
                     .map(|(k, &p)| {
                         m.at_with(p, factors.as_ref().map(|f| f[k].as_slice()))
                             .map(|f| [f.e[0], f.e[1], f.e[2], f.v])
                     })
-                    .collect::<Result<Vec<_>, _>>()
+                    .collect::<Result<Vec<_>, _>>();
+                tracker.advance(points.len() as u64);
+                out
             })
             .collect::<Result<Vec<_>, _>>()?;
+        drop(tracker);
         // Per source: the density it puts at each piece start (before any bar).
         let unit_entries = |i: usize| -> Vec<f64> {
             let s_i = sources[i].s;
@@ -190,27 +246,25 @@ impl Influence {
         let mut prefix = Vec::with_capacity(sources.len());
         for i in 0..sources.len() {
             let c = unit_entries(i);
-            let mut per_point = Vec::with_capacity(points.len());
-            #[allow(clippy::needless_range_loop)]
-            for p in 0..points.len() {
-                let mut acc = [0.0; 4];
-                let mut v = Vec::with_capacity(pieces.len() + 1);
-                v.push(acc);
-                for e in 0..pieces.len() {
+            let mut acc = vec![[0.0; 4]; points.len()];
+            let mut per_piece = Vec::with_capacity(pieces.len() + 1);
+            per_piece.push(acc.clone());
+            for (e, ge) in g.iter().enumerate() {
+                for (a, gp) in acc.iter_mut().zip(ge) {
                     for k in 0..4 {
-                        acc[k] += c[e] * g[e][p][k];
+                        a[k] += c[e] * gp[k];
                     }
-                    v.push(acc);
                 }
-                per_point.push(v);
+                per_piece.push(acc.clone());
             }
-            prefix.push(per_point);
+            prefix.push(per_piece);
         }
-        let index = points
+        let index: PointIndex = points
             .iter()
             .enumerate()
             .map(|(i, &p)| (key(p), i))
             .collect();
+        let order = Vec::new();
         let source_piece = sources
             .iter()
             .map(|src| starts.partition_point(|&a| a < src.s))
@@ -221,6 +275,7 @@ impl Influence {
             sources,
             prefix,
             index,
+            order,
             points,
         })
     }
@@ -230,30 +285,46 @@ impl Influence {
         self.starts.partition_point(|&a| a < s)
     }
 
-    /// The field at point `p` with bars `(arc length, η, piece index)`
-    /// sorted along the path.
-    fn field(&self, p: usize, bars: &[(f64, f64, usize)]) -> [f64; 4] {
+    /// Notes the order in which `ask` (the scoring of a placement, run once
+    /// on the line without new bars) asks for the points, for [`Fast`] to
+    /// try first. Only the speed of the lookups depends on it.
+    pub(super) fn learn_order(&mut self, ask: impl FnOnce(&Fast<'_>)) {
+        let asked = {
+            let fast = Fast::recording(self, &[]);
+            ask(&fast);
+            fast.asked.map(|m| m.into_inner().unwrap_or_default())
+        };
+        self.order = asked.unwrap_or_default();
+    }
+
+    /// The field at every point with bars `(arc length, η, piece index)`
+    /// sorted along the path, as [Ex, Ey, Ez, V] by point index. Each
+    /// point's sum is formed in the same order as the formula of the module
+    /// doc (source by source, range by range), so the result does not
+    /// depend on how many points there are.
+    fn fields(&self, bars: &[(f64, f64, usize)]) -> Vec<[f64; 4]> {
         let n = self.starts.len();
-        let mut out = [0.0; 4];
+        let mut out = vec![[0.0; 4]; self.points.len()];
+        let mut add = |factor: f64, a: &[[f64; 4]], b: &[[f64; 4]]| {
+            for ((o, a), b) in out.iter_mut().zip(a).zip(b) {
+                for k in 0..4 {
+                    o[k] += factor * (a[k] - b[k]);
+                }
+            }
+        };
         for (i, src) in self.sources.iter().enumerate() {
-            let pre = &self.prefix[i][p];
+            let pre = &self.prefix[i];
             let mut factor = 1.0;
             let mut from = self.source_piece[i];
             for &(sb, eta, to) in bars {
                 if sb < src.s {
                     continue;
                 }
-                let (a, b) = (&pre[to], &pre[from]);
-                for k in 0..4 {
-                    out[k] += factor * (a[k] - b[k]);
-                }
+                add(factor, &pre[to], &pre[from]);
                 factor *= 1.0 - eta;
                 from = to.max(from);
             }
-            let (a, b) = (&pre[n], &pre[from]);
-            for k in 0..4 {
-                out[k] += factor * (a[k] - b[k]);
-            }
+            add(factor, &pre[n], &pre[from]);
         }
         out
     }
@@ -262,27 +333,62 @@ impl Influence {
 /// The superposition answering the assessment's field questions.
 pub(super) struct Fast<'a> {
     inf: &'a Influence,
-    /// (arc length, η, piece index), sorted.
-    bars: Vec<(f64, f64, usize)>,
+    /// The field at every precomputed point with the bars fitted.
+    fields: Vec<[f64; 4]>,
+    /// Position in `inf.order` of the question expected next.
+    next: AtomicUsize,
+    /// The point indices asked for, in order, when recording.
+    asked: Option<Mutex<Vec<usize>>>,
 }
 
 impl<'a> Fast<'a> {
     /// The field with `eliminators` (sorted along the path) fitted.
     pub(super) fn new(inf: &'a Influence, eliminators: &[Eliminator]) -> Self {
-        let bars = eliminators
+        let bars: Vec<(f64, f64, usize)> = eliminators
             .iter()
             .map(|e| (e.s, e.efficiency, inf.piece_at(e.s)))
             .collect();
-        Fast { inf, bars }
+        Fast {
+            inf,
+            fields: inf.fields(&bars),
+            next: AtomicUsize::new(0),
+            asked: None,
+        }
+    }
+
+    /// [`Fast::new`], noting every point index asked for.
+    fn recording(inf: &'a Influence, eliminators: &[Eliminator]) -> Self {
+        Fast {
+            asked: Some(Mutex::new(Vec::new())),
+            ..Fast::new(inf, eliminators)
+        }
     }
 }
 
 impl FieldAt for Fast<'_> {
     fn field_at(&self, at: [f64; 3], _contributions: bool) -> Result<PointField, FieldError> {
-        let Some(&i) = self.inf.index.get(&key(at)) else {
-            return Err(FieldError::NotPrecomputed { at });
+        // The question expected next, checked bit for bit; else the hash
+        // lookup (the answer is the same either way).
+        let k = key(at);
+        let c = self.next.load(Relaxed);
+        let i = match self.inf.order.get(c) {
+            Some(&i) if key(self.inf.points[i]) == k => {
+                self.next.store(c + 1, Relaxed);
+                i
+            }
+            _ => {
+                let Some(&i) = self.inf.index.get(&k) else {
+                    return Err(FieldError::NotPrecomputed { at });
+                };
+                i
+            }
         };
-        let f = self.inf.field(i, &self.bars);
+        if let Some(m) = &self.asked
+            && let Ok(mut v) = m.lock()
+        {
+            v.push(i);
+        }
+        let f = self.fields[i];
         Ok(PointField {
             at: self.inf.points[i],
             e: [f[0], f[1], f[2]],

@@ -59,23 +59,31 @@
 //! position is refused as a whole ([`PlanError::CandidateNearConductor`]).
 //!
 //! Search: every combination for N ≤ 3 (the proven optimum over the
-//! candidate set); for larger N a greedy start (add the best bar one at a
+//! candidate set), the profiles' rules computed once for the placements
+//! that differ only in the sides of bars (`search` and `placement` say why
+//! that is exact); for larger N a greedy start (add the best bar one at a
 //! time) with local improvement (swap one bar for another while it helps),
-//! which is heuristic.
+//! which is heuristic. The precomputed influences and the exhaustive search
+//! announce their progress ([`crate::progress::Task::Influences`],
+//! [`crate::progress::Task::Plan`]).
 //!
 //! ## Reference
 //! Superposition (Coulomb's law); bar models and placement rules: K.
 //! Robinson, PFFC "Static Beat" (FACTS.md "Static eliminators").
 
 use crate::assess::{Assessment, Finding, Subject, ThresholdProfile, Verdict};
-use crate::field::{FieldAt, FieldError, FieldMap, Scene};
+use crate::field::{FieldError, Scene};
 use crate::model::{EliminatorKind, Line, NodeKind, Side};
 use crate::units::{Dim, Meters};
+use rayon::prelude::*;
 
 mod apply;
 mod candidates;
 mod influence;
+mod placement;
 mod search;
+#[cfg(test)]
+mod tests;
 
 pub use apply::{apply_to_yaml, planning_line};
 pub use candidates::{
@@ -85,7 +93,7 @@ pub use candidates::{
 };
 pub use search::{CLEARANCE_CAP, MAX_EXHAUSTIVE, binomial, combinations};
 
-use influence::{Fast, Influence};
+use influence::Influence;
 use search::{Score, Scored};
 
 /// Checked planner settings.
@@ -476,44 +484,28 @@ pub fn plan(
         .iter()
         .map(|c| clearance(line, c, CLEARANCE_CAP))
         .collect();
-    let before = full_assessment(scene, line, profiles)?;
-    // Every point the rules ask for, then the superposition over them.
-    let points = influence::sampled_points(line, scene, profiles)?;
-    let inf = Influence::build(line, points, &cands, scene)?;
+    // The assessment without new bars and, beside it, every point the
+    // rules ask for; then the superposition over them.
+    let (before, points) = rayon::join(
+        || full_assessment(scene, line, profiles),
+        || influence::sampled_points(line, scene, profiles),
+    );
+    let (before, points) = (before?, points?);
+    let mut inf = Influence::build(line, points, &cands, scene)?;
+    inf.learn_order(|fast| placement::ask_all(line, fast, profiles));
 
-    // One placement: `placed` is a scratch copy of the line whose
-    // eliminators are replaced (so no line is cloned per placement).
-    let base_elims = line.eliminators.clone();
-    let evaluate_in = |placed: &mut Line, bars: &[usize]| -> Option<Score> {
-        placed.eliminators.clear();
-        placed.eliminators.extend(base_elims.iter().cloned());
-        for (i, &b) in bars.iter().enumerate() {
-            placed
-                .eliminators
-                .push(cands[b].eliminator(line, &format!("PB{}", i + 1)));
-        }
-        placed.eliminators.sort_by(|a, b| a.s.total_cmp(&b.s));
-        let charge = crate::charge::charge_profile(placed);
-        let fast = Fast::new(&inf, &placed.eliminators);
-        let pts = FieldMap {
-            points: placed
-                .points
-                .iter()
-                .map(|p| fast.field_at(p.at, false))
-                .collect::<Result<Vec<_>, _>>()
-                .ok()?,
-        };
-        let sc = crate::assess::score(placed, &charge, &fast, &pts, profiles).ok()?;
-        Some(search::score_of(
-            sc.fails,
-            sc.worst_margin,
-            bars,
-            &cands,
-            &clearances,
-            line,
-        ))
+    let scorer = placement::Scorer {
+        line,
+        cands: &cands,
+        clearances: &clearances,
+        inf: &inf,
+        profiles,
     };
-    let evaluate = |bars: &[usize]| -> Option<Score> { evaluate_in(&mut line.clone(), bars) };
+    let class = placement::side_classes(&cands);
+    let shared = |placed: &mut Line, bars: &[usize]| scorer.shared(placed, bars);
+    let finish =
+        |placed: &mut Line, bars: &[usize], sh: &placement::Shared| scorer.finish(placed, bars, sh);
+    let evaluate = |bars: &[usize]| -> Option<Score> { scorer.score(&mut line.clone(), bars) };
     let keep = st.top.max(1);
 
     let n_cand = cands.len();
@@ -531,7 +523,7 @@ pub fn plan(
         // Room for every side variant of the `keep` best plans.
         let room = keep.saturating_mul(1 << n.min(3));
         let (found, count) = if search::is_exhaustive(n, n_cand) {
-            search::exhaustive(n, n_cand, room, line, &evaluate_in, progress)
+            search::exhaustive(n, &class, room, line, &shared, &finish, progress)
         } else {
             exhaustive = false;
             search::greedy(n, n_cand, &evaluate)
@@ -547,26 +539,29 @@ pub fn plan(
     ranked.sort_by(search::order);
     let mut merged = search::merge_sides(&ranked, &cands);
     merged.truncate(keep);
-    // Re-assess the best plans with the full model.
-    let mut options: Vec<(Score, PlanOption)> = Vec::new();
-    for m in merged {
-        let placed = apply(
-            line,
-            &m.bars.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
-        );
-        let a = full_assessment(scene, &placed, profiles)?;
-        options.push((
-            search::score(&a, &m.bars, &cands, &clearances, line),
-            PlanOption {
-                bars: m.bars,
-                sides: m.sides,
-                counts: a.counts().as_array(),
-                worst_margin: a.worst_margin(),
-                assessment: a,
-                placed,
-            },
-        ));
-    }
+    // Re-assess the best plans with the full model (in parallel, kept in
+    // the search's order).
+    let mut options: Vec<(Score, PlanOption)> = merged
+        .into_par_iter()
+        .map(|m| -> Result<(Score, PlanOption), PlanError> {
+            let placed = apply(
+                line,
+                &m.bars.iter().map(|&b| cands[b].clone()).collect::<Vec<_>>(),
+            );
+            let a = full_assessment(scene, &placed, profiles)?;
+            Ok((
+                search::score(&a, &m.bars, &cands, &clearances, line),
+                PlanOption {
+                    bars: m.bars,
+                    sides: m.sides,
+                    counts: a.counts().as_array(),
+                    worst_margin: a.worst_margin(),
+                    assessment: a,
+                    placed,
+                },
+            ))
+        })
+        .collect::<Result<Vec<_>, _>>()?;
     // A stable sort: ties keep the search's order.
     options.sort_by(|a, b| {
         if search::better(&a.0, &b.0) {

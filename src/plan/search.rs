@@ -25,10 +25,31 @@
 //!
 //! Placements that differ only in the side of some bars and score equally
 //! are one plan ([`merge_sides`]).
+//!
+//! ## The exhaustive search visits side classes
+//! Candidates equal in everything but their side form a side class
+//! ([`super::placement::side_classes`]). The search enumerates every
+//! multiset of N classes (taking no class more often than it has members,
+//! [`class_multisets`]) and, for each, every placement whose bars fall in
+//! those classes ([`members_of`]): each of the C(n, N) placements belongs
+//! to exactly one multiset, so every placement is still scored, none twice
+//! (a test checks the union against [`combinations`]). The expensive part
+//! of the score — the profiles' rules over the superposition's field — does
+//! not read the bars' sides, so it is computed once per multiset and the
+//! cheap part (the built-in eliminator checks, which do read the sides) per
+//! placement ([`super::placement`] gives the argument). Nothing is pruned:
+//! the scores are the ones a placement-by-placement evaluation gives, bit
+//! for bit, and the best `keep` are kept by the total order of [`order`],
+//! which does not depend on the order the placements are met in; the result
+//! is therefore exactly that of scoring every placement on its own (a test
+//! compares the whole ranking with such a brute force on random candidate
+//! lists). On the planner's grid, with both sides at every position, this
+//! computes the rules about 2ᴺ times less often.
 
 use super::Candidate;
 use crate::assess::Assessment;
 use crate::model::{Line, Side};
+use crate::progress::{Task, Tracker};
 use rayon::prelude::*;
 use std::cmp::Ordering;
 use std::sync::atomic::{AtomicUsize, Ordering as Atomic};
@@ -112,14 +133,19 @@ pub(super) fn score_of(
     clearances: &[f64],
     line: &Line,
 ) -> Score {
-    let mut spans: Vec<usize> = bars.iter().map(|&b| cands[b].span).collect();
-    spans.sort_unstable();
-    spans.dedup();
+    // Distinct spans: the bars whose span no earlier bar has (no
+    // allocation per placement).
+    let spans = (0..bars.len())
+        .filter(|&i| {
+            let k = cands[bars[i]].span;
+            !bars[..i].iter().any(|&b| cands[b].span == k)
+        })
+        .count();
     Score {
         fails,
         bars: bars.len(),
         margin,
-        spans: spans.len(),
+        spans,
         clearance: bars
             .iter()
             .map(|&b| clearances[b])
@@ -282,45 +308,162 @@ fn keep_best(best: &mut Vec<Scored>, c: &[usize], sc: Score, keep: usize) {
     best.truncate(keep);
 }
 
-/// Every placement of `n` bars among `n_cand` candidates, in parallel; the
-/// best `keep`, best first, and the number evaluated. `evaluate_in` scores
-/// a placement using a scratch copy of `scratch` it may overwrite (one per
-/// worker, so no line is cloned per placement); `progress` is called with
-/// (done, total) now and then.
-pub(super) fn exhaustive(
+/// The candidates of each side class (increasing), the classes in the
+/// order of their first candidate; `class[b]` is the first candidate of
+/// b's class ([`super::placement::side_classes`]).
+pub(super) fn class_members(class: &[usize]) -> Vec<Vec<usize>> {
+    let mut slot = vec![usize::MAX; class.len()];
+    let mut out: Vec<Vec<usize>> = Vec::new();
+    for (b, &c) in class.iter().enumerate() {
+        let Some(s) = slot.get_mut(c) else {
+            continue;
+        };
+        if *s == usize::MAX {
+            *s = out.len();
+            out.push(Vec::new());
+        }
+        out[*s].push(b);
+    }
+    out
+}
+
+/// Every multiset of `n` classes (class indices nondecreasing) that takes
+/// no class more often than it has members (`sizes[k]`).
+pub(super) fn class_multisets(sizes: &[usize], n: usize) -> Vec<Vec<usize>> {
+    fn grow(
+        sizes: &[usize],
+        n: usize,
+        from: usize,
+        cur: &mut Vec<usize>,
+        out: &mut Vec<Vec<usize>>,
+    ) {
+        if cur.len() == n {
+            out.push(cur.clone());
+            return;
+        }
+        for (k, &size) in sizes.iter().enumerate().skip(from) {
+            if cur.iter().filter(|&&c| c == k).count() >= size {
+                continue;
+            }
+            cur.push(k);
+            grow(sizes, n, k, cur, out);
+            cur.pop();
+        }
+    }
+    let mut out = Vec::new();
+    grow(sizes, n, 0, &mut Vec::with_capacity(n), &mut out);
+    out
+}
+
+/// The placements whose bars fall in the classes of `multiset`: every
+/// choice of as many members of each class as it appears, each placement
+/// increasing.
+pub(super) fn members_of(multiset: &[usize], members: &[Vec<usize>]) -> Vec<Vec<usize>> {
+    let mut out: Vec<Vec<usize>> = vec![Vec::with_capacity(multiset.len())];
+    let mut i = 0;
+    while i < multiset.len() {
+        let k = multiset[i];
+        let m = multiset[i..].iter().take_while(|&&c| c == k).count();
+        let Some(class) = members.get(k) else {
+            return Vec::new();
+        };
+        let picks = combinations(class.len(), m);
+        out = out
+            .iter()
+            .flat_map(|prefix| {
+                picks.iter().map(move |p| {
+                    let mut v = prefix.clone();
+                    v.extend(p.iter().map(|&j| class[j]));
+                    v
+                })
+            })
+            .collect();
+        i += m;
+    }
+    for v in &mut out {
+        v.sort_unstable();
+    }
+    out
+}
+
+/// Placements scored between two reports to the progress tracker.
+const BATCH: usize = 1000;
+
+/// The old-style progress callback is called about every this many
+/// placements.
+const CALLBACK_EVERY: usize = 20_000;
+
+/// Every placement of `n` bars among the candidates (`class` gives each
+/// candidate's side class), in parallel; the best `keep`, best first, and
+/// the number evaluated. The placements are visited class multiset by class
+/// multiset: `shared` computes the part of the score the placements of one
+/// multiset have in common, once, for its first placement; `finish` then
+/// scores each placement of the multiset (see [`super::placement`] for why
+/// the shared part is the same for all of them). Both use a scratch copy
+/// of `scratch` they may overwrite (one per worker, so no line is cloned
+/// per placement). The work is announced as [`Task::Plan`], advanced in
+/// batches of about [`BATCH`] placements; `progress` is called with (done,
+/// total) now and then.
+pub(super) fn exhaustive<R>(
     n: usize,
-    n_cand: usize,
+    class: &[usize],
     keep: usize,
     scratch: &Line,
-    evaluate_in: &(dyn Fn(&mut Line, &[usize]) -> Option<Score> + Sync),
+    shared: &(dyn Fn(&mut Line, &[usize]) -> Option<R> + Sync),
+    finish: &(dyn Fn(&mut Line, &[usize], &R) -> Score + Sync),
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> (Vec<Scored>, usize) {
-    let combos = combinations(n_cand, n);
-    let total = combos.len();
+    let members = class_members(class);
+    let sizes: Vec<usize> = members.iter().map(Vec::len).collect();
+    let multisets = class_multisets(&sizes, n);
+    let total = binomial(class.len(), n).round() as usize;
+    let tracker = Tracker::new(Task::Plan, total as u64);
     let done = AtomicUsize::new(0);
-    let found = combos
+    let report = |pending: usize| {
+        if pending == 0 {
+            return;
+        }
+        tracker.advance(pending as u64);
+        let before = done.fetch_add(pending, Atomic::Relaxed);
+        if before / CALLBACK_EVERY != (before + pending) / CALLBACK_EVERY {
+            progress(before + pending, total);
+        }
+    };
+    multisets
         .par_iter()
         .fold(
-            || (scratch.clone(), Vec::new()),
-            |(mut placed, mut best): (Line, Vec<Scored>), c| {
-                let d = done.fetch_add(1, Atomic::Relaxed);
-                if d.is_multiple_of(20000) {
-                    progress(d, total);
+            || (scratch.clone(), Vec::new(), 0usize, 0usize),
+            |(mut placed, mut best, mut pending, mut count): (Line, Vec<Scored>, usize, usize),
+             m| {
+                let group = members_of(m, &members);
+                pending += group.len();
+                count += group.len();
+                if let Some(sh) = group.first().and_then(|g| shared(&mut placed, g)) {
+                    for c in &group {
+                        let sc = finish(&mut placed, c, &sh);
+                        keep_best(&mut best, c, sc, keep);
+                    }
                 }
-                if let Some(sc) = evaluate_in(&mut placed, c) {
-                    keep_best(&mut best, c, sc, keep);
+                if pending >= BATCH {
+                    report(pending);
+                    pending = 0;
                 }
-                (placed, best)
+                (placed, best, pending, count)
             },
         )
-        .map(|(_, best)| best)
-        .reduce(Vec::new, |mut a, b| {
-            for (c, sc) in b {
-                keep_best(&mut a, &c, sc, keep);
-            }
-            a
-        });
-    (found, total)
+        .map(|(_, best, pending, count)| {
+            report(pending);
+            (best, count)
+        })
+        .reduce(
+            || (Vec::new(), 0),
+            |(mut a, na), (b, nb)| {
+                for (c, sc) in b {
+                    keep_best(&mut a, &c, sc, keep);
+                }
+                (a, na + nb)
+            },
+        )
 }
 
 /// Greedy start and one-bar swaps while they improve; the placement found
