@@ -1,6 +1,7 @@
 //! The one integration-test binary: every test module is compiled here.
 //!
 //! - `analytic`: the field solver against closed forms and published results;
+//! - `fast_path`: the fast Gauss–Kronrod patch integral against the reference rule;
 //! - `bem`: the conductor solve against published capacitances and image solutions;
 //! - `assess`: threshold profiles and the rules applied to small lines;
 //! - `assess_conductors`: the assessment with the conductors' solve;
@@ -34,6 +35,7 @@ mod cli;
 mod conductor_views;
 mod conductors;
 mod eliminators;
+mod fast_path;
 mod findings_terms;
 mod geometry;
 mod hardening_outputs;
