@@ -299,10 +299,16 @@ fn most_cases_take_the_fast_path_within_target() {
             let want = patch_field_numerical(&pt, p, REF_TOL).unwrap();
             worst = worst.max(worst_ratio(&pt, p, &got, &want, TOL));
         } else if std::env::var("FAST_PATH_MISSES").is_ok() {
-            println!("miss: L/λ = {:.3}, p = {p:?}, {pt:?}", pt.len / pt.decay_length);
+            println!(
+                "miss: L/λ = {:.3}, p = {p:?}, {pt:?}",
+                pt.len / pt.decay_length
+            );
         }
     }
     println!("fast path: {fast} of {total} cases; worst error {worst:.2e} of the target");
     assert!(worst <= 1.0, "{worst}");
-    assert!(fast * 10 >= total * 7, "only {fast} of {total} by the fast path");
+    assert!(
+        fast * 10 >= total * 7,
+        "only {fast} of {total} by the fast path"
+    );
 }

@@ -19,7 +19,9 @@
 //! n-point Gauss rule errs like ρ^{−2n} (Trefethen, *Approximation Theory and
 //! Approximation Practice*, SIAM 2013, Thm 19.3). The interval is cut into
 //! equal pieces of at most [`PIECE_15`] (one 15-point rule: 1 m from a 1 m
-//! patch) or [`PIECE_31`] (31-point rules) in τ; the double-exponential rule
+//! patch) or [`PIECE_31`] (31-point rules) in τ; where an interval misses its
+//! share of the target it is redone with 31-point rules on twice as many
+//! pieces, up to [`MAX_PIECES`]. The double-exponential rule
 //! needs 100–385 points for the same integrals because it is built for end
 //! singularities the substituted integrand does not have.
 //!
@@ -37,15 +39,23 @@
 //! |G − K| is about the error of G, and K, exact for polynomials of degree
 //! 3n + 1 instead of 2n − 1, errs like ρ^{−3n}, far less; the 3/2 power turns
 //! this into an estimate that is still conservative for these analytic
-//! integrands (checked against the double-exponential rule at 1e-13 in the
-//! tests: measured error ≤ claimed target in every sampled case). The
+//! integrands (checked against the double-exponential rule at 1e-12 in
+//! tests/fast_path.rs: over 2000 sampled patches and points, 1 µm to 100 m
+//! away, the measured error was at most 4e-4 of the target). The
 //! summed estimates of each component must be within the targets of
 //! [`super::integrate`] (r·s·S_V, r·s·S_E); otherwise `None`.
 //!
 //! Not used (→ `None`): a point in the plane of the patch beside an end
 //! (c = 0 there, the substitution scale is then not the singularity's), a
 //! density that falls by more than e^[`MAX_DECAY`] over the patch (e^{−a/λ}
-//! then grows on the Bernstein ellipse), more than [`MAX_PIECES`] pieces.
+//! then grows fast on the Bernstein ellipse), an interval still missing its
+//! target with [`MAX_PIECES`] pieces.
+//!
+//! Cost at `rel_tol` = 1e-9, 1 m × 1.25 m patch, λ = 5 m (`cargo bench
+//! --bench solver`, part 2): 15 evaluations at 1 m, 62 at 25 mm, 124 at
+//! 0.5 mm; about 19–24×, 50–66× and 100–160× the uniform closed form at the
+//! same point (the target of issue 13, about 10×, is met nowhere: see
+//! [`super::integrate`]).
 //!
 //! | symbol | meaning | unit |
 //! | --- | --- | --- |
