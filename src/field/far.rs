@@ -162,10 +162,12 @@ fn tensor(patch: &Patch, p: [f64; 3], nodes: &[f64], weights: &[f64]) -> [f64; 4
     let along = &along[..nodes.len()];
     let h2 = p[2] * p[2];
     let mut s = [0.0; 4];
+    let n = nodes.len();
     for piece in &patch.across {
         let half = 0.5 * (piece.y_hi - piece.y_lo);
         let mid = 0.5 * (piece.y_hi + piece.y_lo);
-        for (x, wt) in nodes.iter().zip(weights) {
+        let mut per_node = [[0.0; 4]; FAR_ORDER];
+        for ((x, wt), c) in nodes.iter().zip(weights).zip(per_node.iter_mut()) {
             let yj = mid + half * x;
             let fy = piece.value(yj) * wt * half;
             let ry = p[1] - yj;
@@ -178,10 +180,13 @@ fn tensor(patch: &Patch, p: [f64; 3], nodes: &[f64], weights: &[f64]) -> [f64; 4
                 iu += ru * w3;
                 i3 += w3;
             }
-            s[0] += fy * i1;
-            s[1] += fy * iu;
-            s[2] += fy * ry * i3;
-            s[3] += fy * p[2] * i3;
+            *c = [fy * i1, fy * iu, fy * ry * i3, fy * p[2] * i3];
+        }
+        // Mirror nodes summed first: a profile even about P's y gives E_y = 0 exactly.
+        for j in 0..n / 2 {
+            for k in 0..4 {
+                s[k] += per_node[j][k] + per_node[n - 1 - j][k];
+            }
         }
     }
     s
@@ -200,12 +205,14 @@ fn tensor(patch: &Patch, p: [f64; 3], nodes: &[f64], weights: &[f64]) -> [f64; 4
 pub fn far_field(patch: &Patch, p: [f64; 3]) -> Option<(LocalField, [f64; 4])> {
     let [y_lo, y_hi] = patch.y_range();
     let (l, w) = (patch.len, y_hi - y_lo);
-    if !(l <= FAR_FIELD_DECAY * patch.decay_length) {
+    let short = l <= FAR_FIELD_DECAY * patch.decay_length;
+    if !short {
         return None;
     }
     let half_diag = 0.5 * (l * l + w * w).sqrt();
     let (du, dy) = (p[0] - 0.5 * l, p[1] - 0.5 * (y_lo + y_hi));
-    if !(du * du + dy * dy + p[2] * p[2] >= (FAR_FIELD_RATIO * half_diag).powi(2)) {
+    let far = du * du + dy * dy + p[2] * p[2] >= (FAR_FIELD_RATIO * half_diag).powi(2);
+    if !far {
         return None;
     }
     let fine = tensor(patch, p, &NODES, &WEIGHTS);

@@ -761,15 +761,13 @@ fn fast(
     patch: &Patch,
     p: [f64; 3],
     rel_tol: f64,
+    st: &Setup,
 ) -> Result<Option<(LocalField, FastSum)>, KernelError> {
-    let Some(st) = prepare(patch, p)? else {
-        return Ok(Some((LocalField::default(), FastSum::default())));
-    };
     if st.c_is_end {
         return Ok(None);
     }
     let eps = rel_tol * SAFETY;
-    let mut f = integrand(patch, p, &st);
+    let mut f = integrand(patch, p, st);
     let Some(out) = kronrod::integrate(
         &mut f,
         &st.spans[..st.n_spans],
@@ -778,7 +776,7 @@ fn fast(
     ) else {
         return Ok(None);
     };
-    Ok(Some((finish(patch, &st, out.sum, out.err, eps)?, out)))
+    Ok(Some((finish(patch, st, out.sum, out.err, eps)?, out)))
 }
 
 /// The fast paths, far then near: the far-field tensor rule ([`super::far::far_field`]) where
@@ -801,7 +799,7 @@ fn fast_paths(
         return Ok(Some((LocalField::default(), [0.0; 4], 0)));
     };
     let k = (patch.amplitude * COULOMB).abs();
-    Ok(fast(patch, p, rel_tol)?.map(|(f, s)| {
+    Ok(fast(patch, p, rel_tol, &st)?.map(|(f, s)| {
         let e = [
             s.err[0] * k * st.nv,
             s.err[1] * k * st.ne,

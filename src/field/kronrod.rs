@@ -113,10 +113,10 @@ const XK31: [f64; 16] = [
     0.998_002_298_693_397_1,
     0.987_992_518_020_485_4,
     0.967_739_075_679_139_1,
-    0.937_273_392_400_705_9,
+    0.937_273_392_400_706,
     0.897_264_532_344_081_9,
     0.848_206_583_410_427_2,
-    0.790_418_501_442_465_9,
+    0.790_418_501_442_466,
     0.724_417_731_360_170_1,
     0.650_996_741_297_417,
     0.570_972_172_608_538_8,
@@ -208,14 +208,16 @@ pub(super) fn integrate(
     len_over_lambda: f64,
     eps: f64,
 ) -> Option<FastSum> {
-    if !(len_over_lambda <= MAX_DECAY) {
+    let mild = len_over_lambda <= MAX_DECAY;
+    if !mild {
         return None;
     }
     let mut out = FastSum::default();
     let share = eps / spans.len().max(1) as f64;
     for sp in spans {
         let t = sp.s_hi - sp.s_lo;
-        if !(t > 0.0) {
+        let positive = t > 0.0;
+        if !positive {
             continue;
         }
         f.a0 = sp.a0;
@@ -371,7 +373,7 @@ mod tests {
     fn rules_are_exact_on_polynomials() {
         // Gauss n points: exact to degree 2n − 1; Kronrod 2n + 1 points: to degree 3n + 1.
         for (rule, n) in [(&K15, 7), (&K31, 15)] {
-            for d in 0..=(3 * n + 1) as i32 {
+            for d in 0..=(3 * n + 1) {
                 let exact = if d % 2 == 0 {
                     2.0 / (d + 1) as f64
                 } else {
@@ -379,7 +381,7 @@ mod tests {
                 };
                 let k = moment(rule, d, true);
                 assert!((k - exact).abs() < 1e-14, "K{} degree {d}: {k}", 2 * n + 1);
-                if d < 2 * n as i32 {
+                if d < 2 * n {
                     let g = moment(rule, d, false);
                     assert!((g - exact).abs() < 1e-14, "G{n} degree {d}: {g}");
                 }
