@@ -53,7 +53,7 @@
 //!
 //! Cost at `rel_tol` = 1e-9, 1 m × 1.25 m patch, λ = 5 m (`cargo bench
 //! --bench solver`, part 2): 15 evaluations at 1 m, 62 at 25 mm, 124 at
-//! 0.5 mm; about 19–24×, 50–66× and 100–160× the uniform closed form at the
+//! 0.5 mm; about 15–30×, 25–80× and 100–180× the uniform closed form at the
 //! same point (the target of issue 13, about 10×, is met nowhere: see
 //! [`super::integrate`]).
 //!
