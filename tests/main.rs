@@ -1,6 +1,7 @@
 //! The one integration-test binary: every test module is compiled here.
 //!
 //! - `analytic`: the field solver against closed forms and published results;
+//! - `fast_path`: the fast Gauss–Kronrod patch integral against the reference rule;
 //! - `bem`: the conductor solve against published capacitances and image solutions;
 //! - `clusters`: the conductors' charge summed by clusters in maps and point lists;
 //! - `assess`: threshold profiles and the rules applied to small lines;
@@ -36,6 +37,7 @@ mod clusters;
 mod conductor_views;
 mod conductors;
 mod eliminators;
+mod fast_path;
 mod findings_terms;
 mod geometry;
 mod hardening_outputs;

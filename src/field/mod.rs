@@ -39,6 +39,7 @@ pub mod bem;
 pub mod far;
 pub mod integrate;
 pub mod kernels;
+pub mod kronrod;
 pub mod panels;
 pub mod scene;
 pub mod tree;
