@@ -767,7 +767,9 @@ impl WebField<'_> {
     /// |E| on a regular grid in the side-view plane at across position `y`:
     /// `nx × nz` points over `x ∈ [x0, x1]`, `z ∈ [z0, z1]`, row-major by z
     /// (`values[iz * nx + ix]`) [V/m]. Points on the web (within 1 µm) are NaN.
-    /// The conductors' charge is summed by clusters ([`WebField::at_clustered`]).
+    /// The conductors' charge is summed panel by panel: on the demo's map,
+    /// whose points crowd the web and the rollers, the clusters of
+    /// [`WebField::at_clustered`] measured 0.9× that speed (`benches/scaling.rs`).
     pub fn side_view_grid(
         &self,
         x: [Meters; 2],
@@ -791,7 +793,7 @@ impl WebField<'_> {
             .map(|k| {
                 let p = [xs[k % nx], y, zs[k / nx]];
                 progress.advance(1);
-                self.at_clustered(p, false)
+                self.at(p, false)
                     .map(|f| f.e_magnitude())
                     .unwrap_or(f64::NAN)
             })

@@ -400,7 +400,7 @@ impl PanelTree {
 
 /// Cost of one far panel (a 2 × 2 or 3 × 3 Gauss rule), in the units of
 /// [`expansion_cost`]: measured, about 25 ns against 4 ns per coefficient.
-const PANEL_COST: f64 = 6.0;
+const PANEL_COST: f64 = 2.0;
 
 /// Cost of an expansion of order p: its coefficients up to p + 1 and the
 /// moments up to p, one unit each.
