@@ -79,7 +79,7 @@ impl Sink for TerminalBars {
             let bar =
                 ProgressBar::with_draw_target(Some(c.total), ProgressDrawTarget::stderr_with_hz(4));
             if let Ok(style) = ProgressStyle::with_template(
-                "{msg:>20} [{bar:30}] {pos}/{len} ({per_sec}, {eta} left)",
+                "{msg:>20} [{bar:30}] {pos}/{len} ({elapsed} so far, about {eta} left)",
             ) {
                 bar.set_style(style.progress_chars("=> "));
             }
