@@ -455,6 +455,23 @@ impl ConductorAccuracy {
     }
 }
 
+/// Adds the conductors' field `e` [V/m] and potential `v` [V] to `f`, and
+/// with `contributions` their share as one entry.
+fn add_conductors(f: &mut PointField, e: [VoltsPerMeter; 3], v: f64, contributions: bool) {
+    for (fk, ek) in f.e.iter_mut().zip(e) {
+        *fk += ek;
+    }
+    f.v += v;
+    if contributions {
+        f.contributions.push(SpanContribution {
+            span: "charge induced on conductors".to_string(),
+            name: "conductors".to_string(),
+            e,
+            v,
+        });
+    }
+}
+
 impl WebField<'_> {
     /// Field and potential at `at`; with `contributions`, also per span.
     pub fn at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError> {
@@ -462,18 +479,7 @@ impl WebField<'_> {
         let induced = self.induced.as_ref().map_err(Clone::clone)?;
         if let (Some(induced), Some(bem)) = (induced, &self.scene.bem) {
             let (e, v) = induced.at(bem, at);
-            for (fk, ek) in f.e.iter_mut().zip(e) {
-                *fk += ek;
-            }
-            f.v += v;
-            if contributions {
-                f.contributions.push(SpanContribution {
-                    span: "charge induced on conductors".to_string(),
-                    name: "conductors".to_string(),
-                    e,
-                    v,
-                });
-            }
+            add_conductors(&mut f, e, v, contributions);
         }
         Ok(f)
     }
@@ -749,18 +755,7 @@ impl WebField<'_> {
             )
         });
         let (e, v) = tree.at(at);
-        for (fk, ek) in f.e.iter_mut().zip(e) {
-            *fk += ek;
-        }
-        f.v += v;
-        if contributions {
-            f.contributions.push(SpanContribution {
-                span: "charge induced on conductors".to_string(),
-                name: "conductors".to_string(),
-                e,
-                v,
-            });
-        }
+        add_conductors(&mut f, e, v, contributions);
         Ok(f)
     }
 
