@@ -43,6 +43,7 @@ mod geometry;
 mod hardening_outputs;
 mod hardening_reads;
 mod inputs;
+mod map_boxes;
 mod mutations;
 mod pipeline;
 mod plan;

@@ -30,6 +30,7 @@
 use super::bem::{Bem, BemSettings, ConductorSpec, Earthing, Induced};
 use super::integrate::{Patch, patch_field};
 use super::kernels::{LocalField, QuadPiece};
+use super::map_boxes::{MapRect, MapSources, MapStats, map_field};
 use super::panels::Shape;
 use super::tree::{self, PanelTree};
 use super::{FieldAt, FieldError, FieldMap, PointField, SolverSettings, SpanContribution};
@@ -761,10 +762,14 @@ impl WebField<'_> {
 
     /// |E| on a regular grid in the side-view plane at across position `y`:
     /// `nx × nz` points over `x ∈ [x0, x1]`, `z ∈ [z0, z1]`, row-major by z
-    /// (`values[iz * nx + ix]`) [V/m]. Points on the web (within 1 µm) are NaN.
-    /// The conductors' charge is summed panel by panel: on the demo's map,
-    /// whose points crowd the web and the rollers, the clusters of
-    /// [`WebField::at_clustered`] measured 0.9× that speed (`benches/scaling.rs`).
+    /// (`values[iz * nx + ix]`) [V/m]. Points on the web (within 1 µm) are NaN,
+    /// as are all points if the conductors' solve failed.
+    ///
+    /// Summed by boxes ([`super::map_boxes`]): the spans, panels and images
+    /// near a box at every point, the far ones interpolated from the box's
+    /// Chebyshev points (estimated error ≤ 1e-7 of the far field's largest
+    /// |E| in the box per level; measured against [`WebField::at`] at every
+    /// point of the demo's map in `benches/scaling.rs` and in the tests).
     pub fn side_view_grid(
         &self,
         x: [Meters; 2],
@@ -773,6 +778,44 @@ impl WebField<'_> {
         nz: usize,
         y: Meters,
     ) -> (Vec<Meters>, Vec<Meters>, Vec<VoltsPerMeter>) {
+        let (xs, zs, values) = self.side_view_vectors(x, z, nx, nz, y);
+        let magnitudes = values
+            .into_iter()
+            .map(|e| {
+                e.map_or(f64::NAN, |e| {
+                    (e[0] * e[0] + e[1] * e[1] + e[2] * e[2]).sqrt()
+                })
+            })
+            .collect();
+        (xs, zs, magnitudes)
+    }
+
+    /// **E** [V/m] on the grid of [`WebField::side_view_grid`] (`None` where it
+    /// cannot be computed), with the work done.
+    pub fn side_view_vectors(
+        &self,
+        x: [Meters; 2],
+        z: [Meters; 2],
+        nx: usize,
+        nz: usize,
+        y: Meters,
+    ) -> (Vec<Meters>, Vec<Meters>, Vec<Option<[VoltsPerMeter; 3]>>) {
+        self.side_view_with_stats(x, z, nx, nz, y).0
+    }
+
+    /// As [`WebField::side_view_vectors`], with the boxes' work counts.
+    #[allow(clippy::type_complexity)]
+    pub fn side_view_with_stats(
+        &self,
+        x: [Meters; 2],
+        z: [Meters; 2],
+        nx: usize,
+        nz: usize,
+        y: Meters,
+    ) -> (
+        (Vec<Meters>, Vec<Meters>, Vec<Option<[VoltsPerMeter; 3]>>),
+        MapStats,
+    ) {
         let step = |a: f64, b: f64, n: usize, i: usize| {
             if n > 1 {
                 a + (b - a) * i as f64 / (n - 1) as f64
@@ -783,17 +826,12 @@ impl WebField<'_> {
         let xs: Vec<f64> = (0..nx).map(|i| step(x[0], x[1], nx, i)).collect();
         let zs: Vec<f64> = (0..nz).map(|i| step(z[0], z[1], nz, i)).collect();
         let progress = Tracker::new(Task::Map, (nx * nz) as u64);
-        let values: Vec<f64> = (0..nx * nz)
-            .into_par_iter()
-            .map(|k| {
-                let p = [xs[k % nx], y, zs[k / nx]];
-                progress.advance(1);
-                self.at(p, false)
-                    .map(|f| f.e_magnitude())
-                    .unwrap_or(f64::NAN)
-            })
-            .collect();
-        (xs, zs, values)
+        let Ok(induced) = self.induced.as_ref() else {
+            return ((xs, zs, vec![None; nx * nz]), MapStats::default());
+        };
+        let sources = Sources::new(self, induced.as_ref());
+        let (values, stats) = map_field(&xs, &zs, y, &sources, &|n| progress.advance(n as u64));
+        ((xs, zs, values), stats)
     }
 
     /// Field of one span (not its image) at a point, in global coordinates.
@@ -836,5 +874,167 @@ impl WebField<'_> {
 impl FieldAt for WebField<'_> {
     fn field_at(&self, at: [Meters; 3], contributions: bool) -> Result<PointField, FieldError> {
         self.at(at, contributions)
+    }
+}
+
+/// The sources of a field map: spans, panels and their images, in that order
+/// (spans, span images, panels, panel images), for [`super::map_boxes`].
+struct Sources<'w, 's> {
+    web: &'w WebField<'s>,
+    induced: Option<(&'w Induced, &'w Bem)>,
+    /// Mirror plane z [m], if grounded.
+    ground: Option<f64>,
+}
+
+impl<'w, 's> Sources<'w, 's> {
+    fn new(web: &'w WebField<'s>, induced: Option<&'w Induced>) -> Self {
+        Sources {
+            web,
+            induced: induced.zip(web.scene.bem.as_ref()),
+            ground: web.scene.ground,
+        }
+    }
+
+    fn spans(&self) -> usize {
+        self.web.scene.spans.len()
+    }
+
+    fn panels(&self) -> usize {
+        self.induced.map_or(0, |(_, b)| b.panels().len())
+    }
+
+    /// How many copies (1, or 2 with the plane's images).
+    fn copies(&self) -> usize {
+        if self.ground.is_some() { 2 } else { 1 }
+    }
+
+    /// z mirrored in the plane (unchanged without one).
+    fn mirror(&self, z: f64) -> f64 {
+        self.ground.map_or(z, |zg| 2.0 * zg - z)
+    }
+}
+
+/// Distance in the x–z plane from the segment a–b to the rectangle [m]
+/// (0 if they meet): a lower bound of the 3-D distance from the span to the box.
+fn segment_rect_distance(a: [f64; 2], b: [f64; 2], r: &MapRect) -> f64 {
+    // Liang–Barsky clipping: does any part of the segment lie in the rectangle?
+    let d = [b[0] - a[0], b[1] - a[1]];
+    let (mut t0, mut t1) = (0.0_f64, 1.0_f64);
+    let mut meets = true;
+    for (k, lo, hi) in [(0, r.x[0], r.x[1]), (1, r.z[0], r.z[1])] {
+        if d[k] == 0.0 {
+            if a[k] < lo || a[k] > hi {
+                meets = false;
+            }
+        } else {
+            let (u, v) = ((lo - a[k]) / d[k], (hi - a[k]) / d[k]);
+            t0 = t0.max(u.min(v));
+            t1 = t1.min(u.max(v));
+        }
+    }
+    if meets && t0 <= t1 {
+        return 0.0;
+    }
+    let to_rect = |p: [f64; 2]| r.distance_to([p[0], r.y, p[1]]);
+    let to_segment = |p: [f64; 2]| {
+        let len2 = d[0] * d[0] + d[1] * d[1];
+        let t = if len2 > 0.0 {
+            (((p[0] - a[0]) * d[0] + (p[1] - a[1]) * d[1]) / len2).clamp(0.0, 1.0)
+        } else {
+            0.0
+        };
+        let q = [a[0] + t * d[0] - p[0], a[1] + t * d[1] - p[1]];
+        (q[0] * q[0] + q[1] * q[1]).sqrt()
+    };
+    let corners = [
+        [r.x[0], r.z[0]],
+        [r.x[1], r.z[0]],
+        [r.x[0], r.z[1]],
+        [r.x[1], r.z[1]],
+    ];
+    corners
+        .into_iter()
+        .map(to_segment)
+        .chain([to_rect(a), to_rect(b)])
+        .fold(f64::INFINITY, f64::min)
+}
+
+impl MapSources for Sources<'_, '_> {
+    fn count(&self) -> usize {
+        (self.spans() + self.panels()) * self.copies()
+    }
+
+    fn distance(&self, i: usize, r: &MapRect) -> f64 {
+        let (ns, copies) = (self.spans(), self.copies());
+        if i < ns * copies {
+            let g = &self.web.scene.spans[i % ns];
+            let image = i >= ns;
+            let end = |p: [f64; 2]| [p[0], if image { self.mirror(p[1]) } else { p[1] }];
+            segment_rect_distance(end(g.span.start), end(g.span.end), r)
+        } else {
+            let np = self.panels();
+            let j = i - ns * copies;
+            let Some((_, bem)) = self.induced else {
+                return 0.0;
+            };
+            let p = &bem.panels()[j % np];
+            let mut c = p.center;
+            if j >= np {
+                c[2] = self.mirror(c[2]);
+            }
+            (r.distance_to(c) - p.half_u.hypot(p.half_v)).max(0.0)
+        }
+    }
+
+    fn field(&self, p: [f64; 3], which: &[usize], mut scale: Option<&mut f64>) -> Option<[f64; 3]> {
+        let (ns, copies) = (self.spans(), self.copies());
+        let mut e = [0.0; 3];
+        let mut add_scale = |f: [f64; 3], q: f64| {
+            if let Some(s) = scale.as_deref_mut() {
+                *s += q.abs() * (f[0] * f[0] + f[1] * f[1] + f[2] * f[2]).sqrt();
+            }
+        };
+        let mirrored = [p[0], p[1], self.mirror(p[2])];
+        for &i in which {
+            if i < ns * copies {
+                let k = i % ns;
+                let g = &self.web.scene.spans[k];
+                let patches = &self.web.patches[k];
+                if i < ns {
+                    let f = self.web.span_field(g, patches, p).ok()?;
+                    add_scale(f.e, 1.0);
+                    for (ek, fk) in e.iter_mut().zip(f.e) {
+                        *ek += fk;
+                    }
+                } else {
+                    // Image: −M·E(Mx).
+                    let f = self.web.span_field(g, patches, mirrored).ok()?;
+                    add_scale(f.e, 1.0);
+                    e[0] -= f.e[0];
+                    e[1] -= f.e[1];
+                    e[2] += f.e[2];
+                }
+            } else {
+                let (induced, bem) = self.induced?;
+                let np = self.panels();
+                let j = i - ns * copies;
+                let q = induced.scaled_densities()[j % np];
+                let panel = &bem.panels()[j % np];
+                if j < np {
+                    let f = panel.factors(p);
+                    add_scale(f.e, q);
+                    for (ek, fk) in e.iter_mut().zip(f.e) {
+                        *ek += q * fk;
+                    }
+                } else {
+                    let f = panel.factors(mirrored);
+                    add_scale(f.e, q);
+                    e[0] -= q * f.e[0];
+                    e[1] -= q * f.e[1];
+                    e[2] += q * f.e[2];
+                }
+            }
+        }
+        Some(e)
     }
 }
