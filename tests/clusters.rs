@@ -32,7 +32,7 @@ impl Sink for Recorder {
 
 /// The demo's map grid (conductors solved, 13 of them, images in the
 /// floor) as a point list of 2400 points, summed by clusters, equals the map
-/// (panel by panel): at every grid point within 1e-6 of the local |E| (the
+/// (by boxes, `tests/map_boxes.rs` checks it against panel by panel): at every grid point within 1e-6 of the local |E| (the
 /// bound is 1e-7 of the sum of the panels' magnitudes; the panels'
 /// contributions here partly cancel the web's, so the local |E| is the
 /// stricter measure); and the map's work is announced to the installed sink
