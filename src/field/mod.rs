@@ -40,6 +40,7 @@ pub mod far;
 pub mod integrate;
 pub mod kernels;
 pub mod kronrod;
+pub mod moments;
 pub mod panels;
 pub mod scene;
 pub mod tree;
