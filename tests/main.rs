@@ -1,7 +1,7 @@
 //! The one integration-test binary: every test module is compiled here.
 //!
 //! - `analytic`: the field solver against closed forms and published results;
-//! - `fast_path`: the fast Gauss–Kronrod patch integral against the reference rule;
+//! - `fast_path`: the fast patch integrals (moments, Gauss–Kronrod) against the reference rule;
 //! - `bem`: the conductor solve against published capacitances and image solutions;
 //! - `clusters`: the conductors' charge summed by clusters in maps and point lists;
 //! - `assess`: threshold profiles and the rules applied to small lines;

@@ -33,6 +33,13 @@ fn r8_one_assess_of_the_demo_builds_one_scene() {
     );
 }
 
+/// Agreement asked of the physics with the stored copy (relative). The copy
+/// predates the closed-form moment path of the patch integral (issue 13),
+/// which changes values in their last digits only: the paths all meet the
+/// solver's targets (1e-9 × 0.5 of the error scale); measured within 3e-12
+/// relative on the demo, 1e-10 asserted.
+const PHYSICS_REL: f64 = 1e-10;
+
 /// Numbers equal within `rel` (relative), strings and structure identical,
 /// except the keys that name the run.
 fn same(a: &serde_json::Value, b: &serde_json::Value, path: &str, rel: f64) {
@@ -102,7 +109,7 @@ fn r8_demo_line_results_match_the_copy_stored_before_the_scene() {
     .unwrap();
     let mut stored: serde_json::Value =
         serde_json::from_str(include_str!("fixtures/baseline/demo_results.json")).unwrap();
-    // The physics (points, spans, readings) must not move: 1e-12 relative,
+    // The physics (points, spans, readings) must not move: PHYSICS_REL,
     // the reshaping reorders no floating-point sum. The findings depend on
     // the rules, which issue #10 restated in their sources' terms (meter
     // readings, new rules, new keys, a new order): for the rules and
@@ -133,7 +140,7 @@ fn r8_demo_line_results_match_the_copy_stored_before_the_scene() {
             {
                 continue;
             }
-            same(&g["value"], &f["value"], &key(f), 1e-12);
+            same(&g["value"], &f["value"], &key(f), PHYSICS_REL);
             compared += 1;
         }
     }
@@ -179,11 +186,11 @@ fn r8_demo_line_results_match_the_copy_stored_before_the_scene() {
             st["residual"].as_f64().unwrap(),
         );
         assert!(
-            (a - b).abs() <= 1e-12 * field.max(reading),
+            (a - b).abs() <= PHYSICS_REL * field.max(reading),
             "residual {a} vs {b}"
         );
         g.as_object_mut().unwrap().remove("residual");
         st.as_object_mut().unwrap().remove("residual");
     }
-    same(&got, &stored, "results", 1e-12);
+    same(&got, &stored, "results", PHYSICS_REL);
 }

@@ -2,29 +2,41 @@
 //!
 //! Field stage, middle layer: integrates Coulomb's law over one charged patch
 //! of a span (a rectangle in the span's frame) whose density decays along the
-//! span and varies across it. The across-web direction is done exactly by
-//! [`super::kernels::inner_across`]; the along-span direction numerically.
-//! Far from the patch (≥ 5 half-diagonals from its centre, L ≤ λ) the fixed
-//! tensor Gauss rule [`super::far::far_field`] takes both directions at once
-//! when its estimate (the change from 6 to 8 points per direction) meets the
-//! targets. Otherwise the fast path of [`super::kronrod`] (a short fixed plan of
-//! Gauss–Kronrod rules in the substituted variable of point 1 below, 15–124
-//! evaluations at 1 m–0.5 mm from a metre-size patch), and where that path
-//! cannot vouch for its result (its error estimate misses the target, a point
-//! in the plane beside an end, a density falling by more than e⁵⁰ over the
-//! patch) by the double-exponential rule of the `quadrature` crate described
-//! below, which is also the reference the fast path is tested against. Both
-//! are held to the same targets (see *Tolerance*). A uniform patch takes the
-//! closed form [`super::kernels::uniform_rectangle`] instead.
+//! span and varies across it. The paths, in the order tried:
 //!
-//! Why not faster: the target of issue 13 (≤ 1 µs per span-point, about 10×
-//! the uniform closed form) allows about 14 evaluations of the across-web
-//! integrals. After the substitution the integrand is analytic in a strip of
-//! half-width π/2 around an interval of length ≈ 2 ln(L/c), so any rule in that
-//! variable needs a few points per unit length (≈ 30–60 at 0.5 mm) — the fast
-//! path reaches 15 at 1 m only. Reaching the target near the sheet needs the
-//! moments of the decay's polynomial expansion over the rectangle in closed
-//! form (not done: see the project's issue 13).
+//! - far from the patch (≥ 5 half-diagonals from its centre, L ≤ λ) the fixed
+//!   tensor Gauss rule [`super::far::far_field`] takes both directions at once
+//!   when its estimate (the change from 6 to 8 points per direction) meets the
+//!   targets;
+//! - the closed-form moments of [`super::moments`]: the decay replaced by a
+//!   polynomial with a rigorous remainder bound, every monomial integrated
+//!   exactly over each rectangle of the patch; it answers only when its
+//!   claimed bound (truncation plus rounding) meets the targets, i.e. off the
+//!   plane of the patch (h ≠ 0), for L ≤ 3λ, at most six across-web pieces,
+//!   and not so far away that its recurrences lose the digits needed;
+//! - the fast path of [`super::kronrod`] (a short fixed plan of Gauss–Kronrod
+//!   rules in the substituted variable of point 1 below, 15–124 evaluations at
+//!   1 m–0.5 mm from a metre-size patch), the across-web direction done
+//!   exactly by [`super::kernels::inner_across`] and the along-span one
+//!   numerically;
+//! - where that path cannot vouch for its result (its error estimate misses
+//!   the target, a point in the plane beside an end, a density falling by
+//!   more than e⁵⁰ over the patch) the double-exponential rule of the
+//!   `quadrature` crate described below, which is also the reference the
+//!   other paths are tested against.
+//!
+//! All are held to the same targets (see *Tolerance*). A uniform patch takes
+//! the closed form [`super::kernels::uniform_rectangle`] instead.
+//!
+//! Speed: the target of issue 13 is ≤ 1 µs per span-point, about 10× the
+//! uniform closed form. A quadrature in the along-span variable cannot reach
+//! it near the sheet: after the substitution below the integrand is analytic
+//! in a strip of half-width π/2 around an interval of length ≈ 2 ln(L/c), so
+//! any rule needs a few points per unit length (≈ 30–60 evaluations of the
+//! across-web integrals at 0.5 mm). The moments need about as many
+//! logarithms and arc tangents as the uniform closed form per across-web
+//! piece plus O(d) arithmetic per moment (see `benches/solver.rs`, part 2, for
+//! the measured cost).
 //!
 //! The patch is u′ ∈ [0, L], y′ ∈ [y_lo, y_hi], h′ = 0, carrying
 //!
@@ -101,9 +113,12 @@
 //! | S_V, S_E | error scales | V, V/m |
 //! | N | abscissae used by the rule | 1 |
 //!
-//! The fast path's estimate is described in [`super::kronrod`]; measured
-//! against this rule at 1e-12 over 2000 sampled patches and points (tests/
-//! fast_path.rs) its error was at most 4e-4 of the target.
+//! The fast path's estimate is described in [`super::kronrod`], the moment
+//! path's bound in [`super::moments`]; measured against this rule at 1e-12
+//! over 2000 sampled patches and points (tests/fast_path.rs) the error of
+//! the fast paths together was at most 2e-2 of the target, and the moment
+//! path's error at most 0.87 of its claimed bound (plus the reference's own
+//! target) at tolerances 1e-9–1e-3.
 //!
 //! Assumptions: thin sheet in free space. Valid range: patch lengths and
 //! widths 1 mm–20 m, points up to ~100 m away and at least 1 µm from the
@@ -131,6 +146,7 @@ use super::kernels::{
     uniform_rectangle,
 };
 use super::kronrod::{self, FastSum, Span};
+use super::moments::{self, MomentBound};
 use quadrature::double_exponential;
 use std::cell::{Cell, RefCell};
 use std::fmt;
@@ -345,7 +361,8 @@ pub fn error_scale(patch: &Patch, p: [f64; 3]) -> [f64; 2] {
 /// V [V] and E [V/m] of `patch` at `p = [u, y, h]` [m] (patch frame). The estimated error is at
 /// most `rel_tol` × [`SAFETY`] × S_V for V and × S_E for each E component ([`error_scale`]);
 /// otherwise the result is [`KernelError::NotConverged`]. Uses the closed form when
-/// [`patch_is_uniform`], else the fast path ([`super::kronrod`]) where it vouches for its
+/// [`patch_is_uniform`], else the far-field rule, the closed-form moments
+/// ([`super::moments`]) or the fast path ([`super::kronrod`]), the first that vouches for its
 /// result, else the double-exponential rule.
 pub fn patch_field(patch: &Patch, p: [f64; 3], rel_tol: f64) -> Result<LocalField, KernelError> {
     check(patch, p, rel_tol)?;
@@ -780,9 +797,10 @@ fn fast(
 }
 
 /// The fast paths, far then near: the far-field tensor rule ([`super::far::far_field`]) where
-/// it applies and its estimate meets the targets, else the Gauss–Kronrod plan
-/// ([`super::kronrod`]); with the estimated errors [V, V/m ×3] and the across-web evaluations.
-/// `Ok(None)` when neither vouches for a result.
+/// it applies and its estimate meets the targets, else the closed-form moments
+/// ([`super::moments`]) where their bound meets the targets, else the Gauss–Kronrod plan
+/// ([`super::kronrod`]); with the estimated errors [V, V/m ×3] and the across-web evaluations
+/// (0 for the tensor rule and the moments). `Ok(None)` when none vouches for a result.
 fn fast_paths(
     patch: &Patch,
     p: [f64; 3],
@@ -794,6 +812,9 @@ fn fast_paths(
         if est[0] <= eps * sv && est[1..].iter().all(|e| *e <= eps * se) {
             return Ok(Some((f, est, 0)));
         }
+    }
+    if let Some((f, b)) = moments::moment_field(patch, p, rel_tol) {
+        return Ok(Some((f, b.claimed, 0)));
     }
     let Some(st) = prepare(patch, p)? else {
         return Ok(Some((LocalField::default(), [0.0; 4], 0)));
@@ -810,10 +831,22 @@ fn fast_paths(
     }))
 }
 
+/// As [`patch_field`] for a non-uniform patch, by the closed-form moments of
+/// [`super::moments`] only: the field and the claimed error bounds, or `None` where that path
+/// does not apply or cannot meet the targets (for tests and benchmarks).
+pub fn patch_field_moments(
+    patch: &Patch,
+    p: [f64; 3],
+    rel_tol: f64,
+) -> Result<Option<(LocalField, MomentBound)>, KernelError> {
+    check(patch, p, rel_tol)?;
+    Ok(moments::moment_field(patch, p, rel_tol))
+}
+
 /// As [`patch_field`] for a non-uniform patch, by the fast paths only (far-field tensor rule,
-/// Gauss–Kronrod plan): the field, its estimated errors [V, V/m ×3] and the across-web
-/// evaluations (0 for the tensor rule), or `None` where neither vouches for its result (for
-/// tests and benchmarks).
+/// closed-form moments, Gauss–Kronrod plan): the field, its estimated errors [V, V/m ×3] and
+/// the across-web evaluations (0 for the tensor rule and the moments), or `None` where none
+/// vouches for its result (for tests and benchmarks).
 pub fn patch_field_fast(
     patch: &Patch,
     p: [f64; 3],

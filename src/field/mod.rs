@@ -41,6 +41,7 @@ pub mod integrate;
 pub mod kernels;
 pub mod kronrod;
 pub mod map_boxes;
+pub mod moments;
 pub mod panels;
 pub mod scene;
 pub mod tree;
