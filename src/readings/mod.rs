@@ -531,10 +531,14 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
     // The unit-density field of every segment, charged once (with
     // conductors, each is a back-substitution) and reused at every set of
     // meter distances and by the forward model.
-    let models: Vec<WebField<'_>> = (0..model.segments.len())
-        .map(|k| scene.web(&unit_profile(&model, k)))
+    // Each carries the web's own charge only; the isolated conductors'
+    // given charges are the fixed part, counted once (not once per segment).
+    let units: Vec<ChargeProfile> = (0..model.segments.len())
+        .map(|k| unit_profile(&model, k))
         .collect();
-    let problem = fit::Problem::new(line, &unknowns, &models, &model)?;
+    let models: Vec<WebField<'_>> = scene.webs_linear(&units);
+    let fixed = scene.given_part();
+    let problem = fit::Problem::new(line, &unknowns, &models, fixed.as_ref(), &model)?;
     let probes = problem.probes(&d0)?;
     // Start in the regimes of the charge entries' own prediction.
     let x_model: Vec<f64> = unknowns
