@@ -245,16 +245,17 @@ impl Scene {
     /// (superposition; the same for V), which is how the planner's pieces and
     /// the readings' unit segments are added up. With conductors, the web's
     /// potential at the collocation points is computed per profile and the
-    /// conductors' charges of all profiles come from one solve with a matrix
-    /// of right-hand sides ([`Bem::solve_many`]); a profile whose potential
-    /// fails keeps its error (reported when that field is asked for).
+    /// conductors' charges by one back-substitution each
+    /// ([`Bem::solve_many`] with one column: see the note in the body); a
+    /// profile whose potential fails keeps its error (reported when that
+    /// field is asked for).
     pub fn webs_linear<'s>(&'s self, charges: &[ChargeProfile]) -> Vec<WebField<'s>> {
         let mut webs: Vec<WebField<'s>> = charges.iter().map(|c| self.unsolved(c, false)).collect();
         let Some(bem) = &self.bem else {
             return webs;
         };
         let externals: Vec<Result<Vec<f64>, FieldError>> =
-            webs.par_iter().map(|w| w.external(bem)).collect();
+            webs.iter().map(|w| w.external(bem)).collect();
 
         let cases: Vec<(&[f64], &[f64])> = externals
             .iter()
@@ -265,9 +266,10 @@ impl Scene {
                     .map(|e| (e.as_slice(), w.charges.as_slice()))
             })
             .collect();
-        // One column per call: measured on the demo, a solve of several
-        // columns at once left the rayon workers slow for the work after it
-        // (cause not found), so [`Bem::solve_many`] gets one at a time here.
+        // One column per call: on the demo (bench solver, parts 4 and 5),
+        // solving all columns at once made the field work after it slower
+        // (the readings' first run 0.33 s instead of 0.19 s; cause not
+        // found), so `Bem::solve_many` gets one column at a time here.
         let mut solved = cases
             .iter()
             .map(|c| bem.solve_many(std::slice::from_ref(c)).map(|mut v| v.pop()))

@@ -27,9 +27,9 @@
 //! the factorised boundary-element system A·X = B (A of order n + m for n
 //! panels and m isolated conductors) is solved once for the matrix B whose
 //! column e is piece e's right-hand side (−φ_e [V] at the n collocation
-//! points, its wrap charges [C] scaled as in [`crate::field::bem`]), one
-//! blocked forward and back substitution instead of one per piece
-//! ([`Scene::unit_pieces`]); the induced field at p is then the dot product of
+//! points, its wrap charges [C] scaled as in [`crate::field::bem`]),
+//! [`Scene::unit_pieces`] (at present column by column: see
+//! [`Scene::webs_linear`]); the induced field at p is then the dot product of
 //! X's column with the panels' factors at p ([`Scene::panel_factors`]). Exact for powered bars without an offset; see the module doc of
 //! [`crate::plan`] for the symbols and the reference (superposition,
 //! Coulomb's law).
@@ -214,8 +214,7 @@ impl Influence {
         // The conductors' panel factors at every point, once: each piece's
         // induced field there is then a dot product.
         let factors = scene.panel_factors(&points);
-        // Every piece's web charge, the conductors' share of all of them
-        // from one solve with a matrix of right-hand sides.
+        // Every piece's web charge and the conductors' share of it.
         let webs = scene.unit_pieces(&base, &pieces);
         let g: Vec<Vec<[f64; 4]>> = webs
             .par_iter()
