@@ -64,6 +64,7 @@
 //!
 //! ```sh
 //! cargo bench --bench solver
+//! cargo bench --bench solver -- 4   # one part only (1–5)
 //! python3 benches/dblquad.py   # the same integrals with scipy.integrate.dblquad
 //! ```
 //!
@@ -708,12 +709,25 @@ fn part5(rows: &mut Vec<Row>) -> Result<(), Box<dyn Error>> {
 fn main() -> Result<(), Box<dyn Error>> {
     println!("{}\n", machine());
     let load = Load::start();
+    // `cargo bench --bench solver -- 4` runs part 4 only (any part 1–5).
+    let only = std::env::args().skip(1).find(|a| !a.starts_with('-'));
+    let run = |k: &str| only.as_deref().is_none_or(|o| o == k);
     let mut rows = Vec::new();
-    part1(&mut rows)?;
-    part2(&mut rows)?;
-    part3(&mut rows)?;
-    part4(&mut rows)?;
-    part5(&mut rows)?;
+    if run("1") {
+        part1(&mut rows)?;
+    }
+    if run("2") {
+        part2(&mut rows)?;
+    }
+    if run("3") {
+        part3(&mut rows)?;
+    }
+    if run("4") {
+        part4(&mut rows)?;
+    }
+    if run("5") {
+        part5(&mut rows)?;
+    }
     println!("| benchmark | threads | median | unit | target |");
     println!("| --- | ---: | ---: | --- | --- |");
     for r in &rows {

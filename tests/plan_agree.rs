@@ -602,3 +602,46 @@ fn dead_end_without_blockers_asks_for_more_bars() {
     }
     assert!(found, "no charge level where only more bars help");
 }
+
+/// The planner's pieces solved together ([`Scene::unit_pieces`], one
+/// conductors' solve with a matrix of right-hand sides) agree with each piece
+/// solved on its own ([`Scene::unit_piece`]) to 1e-12 relative, in E and V at
+/// points around the demo line (rollers and conductors in the solve). The
+/// two differ only in the order the blocked substitution adds up.
+#[test]
+fn pieces_solved_together_agree_with_one_solve_each() {
+    let line = parse_line(websigma::DEMO_LINE).unwrap();
+    let scene = Scene::new(&line, SolverSettings::default().with_default_conductors()).unwrap();
+    assert!(scene.conductors().is_some(), "the demo line has conductors");
+    let base = websigma::charge::charge_profile(&line);
+    let total = line.path.total_length;
+    let cuts: Vec<f64> = (0..=12).map(|k| total * k as f64 / 12.0).collect();
+    let pieces: Vec<(f64, f64)> = cuts.windows(2).map(|w| (w[0], w[1])).collect();
+    let together = scene.unit_pieces(&base, &pieces);
+    let points: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
+    assert!(!points.is_empty());
+    for (k, &(a, b)) in pieces.iter().enumerate() {
+        let alone = scene.unit_piece(&base, a, b);
+        for &p in &points {
+            let (x, y) = (
+                together[k].at(p, false).unwrap(),
+                alone.at(p, false).unwrap(),
+            );
+            let scale = y.e_magnitude().max(1e-300);
+            for c in 0..3 {
+                assert!(
+                    (x.e[c] - y.e[c]).abs() <= 1e-12 * scale,
+                    "piece {k} at {p:?}: E {:?} vs {:?}",
+                    x.e,
+                    y.e
+                );
+            }
+            assert!(
+                (x.v - y.v).abs() <= 1e-12 * y.v.abs().max(1e-300),
+                "piece {k} at {p:?}: V {} vs {}",
+                x.v,
+                y.v
+            );
+        }
+    }
+}

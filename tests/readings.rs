@@ -1020,3 +1020,58 @@ fn bounds_hold_at_the_corner_of_the_error_box() {
     }
     assert!(misses.is_empty(), "{misses:#?}");
 }
+
+// ---------------------------------------------------------------------------
+// An isolated conductor with a given charge: counted once in the fit
+// ---------------------------------------------------------------------------
+
+/// A charged isolated plate (100 nC) 150 mm above a 2 m span, one field
+/// reading at mid-span. The predicted reading is affine in the span's
+/// density A: r(A) = E_0 + A·E_1, E_0 what the plate's charge alone puts at
+/// the meter (superposition, Coulomb's law: D. J. Griffiths, *Introduction to
+/// Electrodynamics*, 4th ed., §2.1). The direct computation takes the full
+/// field of the scene at A = 0 and A = 1 µC/m² (each charged once with the
+/// plate's charge) and solves r = E(0) + A·(E(1) − E(0))/1 µC/m² for A; the
+/// fit must give the same A. (Before the fix, the unit-segment field of the
+/// fit carried the plate's charge too, so E_0 was counted as part of the
+/// slope.)
+#[test]
+fn an_isolated_conductors_given_charge_is_counted_once_in_the_fit() {
+    let text = |charge: &str, readings: &str| {
+        format!(
+            "web: {{width: 1.0 m, thickness: 40 um, relative_permittivity: 3, relaxation_time: 1e30 s, speed: 1 m/s}}
+ground_plane: 0 m
+path:
+  - point: [0 m, 1 m]
+  - point: [2 m, 1 m]
+charge:
+  - {{at: start, sigma: {charge}}}
+conductors:
+  - {{id: HOOD, shape: plate, earthing: isolated, charge: 100 nC, from: [0.7 m, -0.3 m, 1.15 m], to: [1.3 m, 0.3 m, 1.15 m]}}
+meter: {{distance_tolerance: 0 mm}}
+{readings}"
+        )
+    };
+    let settings = SolverSettings::default().with_default_conductors();
+    let reading = "readings:\n  - {span: S1, position: 50 %, distance: 50 mm, side: above, reading: 60 kV/m}\n";
+    let l = line(&text("1 uC/m^2", reading));
+    let sc = Scene::new(&l, settings).unwrap();
+    let (at, n) = meter_geometry(&l.path.spans[0], 1.0, 0.0, 0.05, Side::Above);
+    let normal_at = |sigma: &str| {
+        let li = line(&text(sigma, ""));
+        let e = sc.web(&charge_profile(&li)).at(at, false).unwrap().e;
+        e[0] * n[0] + e[1] * n[1] + e[2] * n[2]
+    };
+    let (e0, e1) = (normal_at("0 uC/m^2"), normal_at("1 uC/m^2"));
+    assert!(
+        e0.abs() > 1e3,
+        "the plate's charge alone must be felt at the meter: {e0} V/m"
+    );
+    let direct = (6e4 - e0) / (e1 - e0) * 1e-6;
+    let r = invert_readings(&l, &sc).unwrap();
+    let fitted = r.segments[0].fitted;
+    assert!(
+        rel(fitted, direct) < 1e-9,
+        "fitted {fitted} C/m² vs direct {direct} C/m²"
+    );
+}

@@ -168,8 +168,21 @@ impl Scene {
         self.spans.len()
     }
 
-    /// The scene charged as `charge` says.
+    /// The scene charged as `charge` says (the isolated conductors with
+    /// their given charge): the field of [`Scene::webs_linear`] plus that of
+    /// [`Scene::given_part`], in one solve.
     pub fn web<'s>(&'s self, charge: &ChargeProfile) -> WebField<'s> {
+        let mut web = self.unsolved(charge, true);
+        if let Some(bem) = &self.bem {
+            web.induced = web.induce(bem, &web.charges).map(Some);
+        }
+        web
+    }
+
+    /// The web's patches for `charge` and the isolated conductors' net
+    /// charges (wrap charge, plus the given charge when `given`), the
+    /// conductors' solve not yet made.
+    fn unsolved<'s>(&'s self, charge: &ChargeProfile, given: bool) -> WebField<'s> {
         let across = quad_pieces(charge);
         let patches = self
             .spans
@@ -207,31 +220,135 @@ impl Scene {
             tree: OnceLock::new(),
         };
         if let Some(bem) = &self.bem {
-            web.charges = bem
-                .given_charges()
+            let given_charges = if given {
+                bem.given_charges()
+            } else {
+                vec![0.0; bem.given_charges().len()]
+            };
+            web.charges = given_charges
                 .iter()
                 .zip(wrap_charges.iter().chain(std::iter::repeat(&0.0)))
                 .map(|(q, w): (&f64, &f64)| q + w)
                 .collect();
-            web.induced = web.induce(bem, &web.charges).map(Some);
         }
         web
     }
 
+    /// The scene charged with each of `charges`, the web's own charge only:
+    /// every isolated conductor carries the charge the web's wraps give it
+    /// but not its given charge (`charge:` of a conductor; that part is
+    /// [`Scene::given_part`]). Each field is then linear in its charge
+    /// profile: for profiles σ_k and amplitudes a_k,
+    ///
+    /// $$ \mathbf E\Bigl[\sum_k a_k σ_k\Bigr] = \mathbf E_{given}
+    ///    + \sum_k a_k\,\mathbf E_{lin}[σ_k] $$
+    ///
+    /// (superposition; the same for V), which is how the planner's pieces and
+    /// the readings' unit segments are added up. With conductors, the web's
+    /// potential at the collocation points is computed per profile and the
+    /// conductors' charges by one back-substitution each
+    /// ([`Bem::solve_many`] with one column: see the note in the body); a
+    /// profile whose potential fails keeps its error (reported when that
+    /// field is asked for).
+    pub fn webs_linear<'s>(&'s self, charges: &[ChargeProfile]) -> Vec<WebField<'s>> {
+        let mut webs: Vec<WebField<'s>> = charges.iter().map(|c| self.unsolved(c, false)).collect();
+        let Some(bem) = &self.bem else {
+            return webs;
+        };
+        let externals: Vec<Result<Vec<f64>, FieldError>> =
+            webs.iter().map(|w| w.external(bem)).collect();
+
+        let cases: Vec<(&[f64], &[f64])> = externals
+            .iter()
+            .zip(&webs)
+            .filter_map(|(e, w)| {
+                e.as_ref()
+                    .ok()
+                    .map(|e| (e.as_slice(), w.charges.as_slice()))
+            })
+            .collect();
+        // One column per call: on the demo (bench solver, parts 4 and 5),
+        // solving all columns at once made the field work after it slower
+        // (the readings' first run 0.33 s instead of 0.19 s; cause not
+        // found), so `Bem::solve_many` gets one column at a time here.
+        let mut solved = cases
+            .iter()
+            .map(|c| bem.solve_many(std::slice::from_ref(c)).map(|mut v| v.pop()))
+            .collect::<Result<Vec<_>, _>>()
+            .map_err(|e| FieldError::Conductors(e.to_string()))
+            .map(|v| v.into_iter().flatten());
+        for (w, ext) in webs.iter_mut().zip(externals) {
+            w.induced = match (ext, &mut solved) {
+                (Err(e), _) => Err(e),
+                (Ok(_), Err(e)) => Err(e.clone()),
+                (Ok(_), Ok(it)) => it.next().map(Some).ok_or_else(|| {
+                    FieldError::Conductors("a right-hand side was not solved".to_string())
+                }),
+            };
+        }
+        webs
+    }
+
+    /// The field of the isolated conductors' given charges alone, with no
+    /// charge on the web (the fixed part that [`Scene::webs_linear`] leaves
+    /// out); `None` without conductors or when every given charge is 0.
+    pub fn given_part(&self) -> Option<WebField<'_>> {
+        let bem = self.bem.as_ref()?;
+        let given = bem.given_charges();
+        if given.iter().all(|q| *q == 0.0) {
+            return None;
+        }
+        let induced = bem
+            .solve_with_charges(&vec![0.0; bem.panels().len()], &given)
+            .map(Some)
+            .map_err(|e| FieldError::Conductors(e.to_string()));
+        Some(WebField {
+            scene: self,
+            patches: vec![Vec::new(); self.spans.len()],
+            induced,
+            charges: given,
+            tree: OnceLock::new(),
+        })
+    }
+
     /// The scene charged with a unit centreline density (1 C/m²) on the
     /// path from `s0` to `s1` [m] only, relaxing from `s0` with the decay
-    /// length and across-web shape of `like`.
+    /// length and across-web shape of `like`: the web's own charge, as
+    /// [`Scene::webs_linear`] gives it (one conductors' solve of its own).
     pub fn unit_piece<'s>(&'s self, like: &ChargeProfile, s0: Meters, s1: Meters) -> WebField<'s> {
-        let mut p = like.clone();
-        p.segments = vec![crate::charge::ChargeSegment {
-            s_start: s0,
-            s_end: s1,
-            amplitude: 1.0,
-            origin: crate::charge::SegmentOrigin::CarriedIn,
-            from_readings: false,
-        }];
-        self.web(&p)
+        let mut one = self.webs_linear(&[unit_profile(like, s0, s1)]);
+        match one.pop() {
+            Some(w) => w,
+            None => self.unsolved(like, false),
+        }
     }
+
+    /// [`Scene::unit_piece`] for every piece (s0, s1) of `pieces`, the
+    /// conductors' charges of all of them from one solve.
+    pub fn unit_pieces<'s>(
+        &'s self,
+        like: &ChargeProfile,
+        pieces: &[(Meters, Meters)],
+    ) -> Vec<WebField<'s>> {
+        let profiles: Vec<ChargeProfile> = pieces
+            .iter()
+            .map(|&(a, b)| unit_profile(like, a, b))
+            .collect();
+        self.webs_linear(&profiles)
+    }
+}
+
+/// `like` with one segment: unit centreline density from `s0` to `s1` [m].
+fn unit_profile(like: &ChargeProfile, s0: Meters, s1: Meters) -> ChargeProfile {
+    let mut p = like.clone();
+    p.segments = vec![crate::charge::ChargeSegment {
+        s_start: s0,
+        s_end: s1,
+        amplitude: 1.0,
+        origin: crate::charge::SegmentOrigin::CarriedIn,
+        from_readings: false,
+    }];
+    p
 }
 
 /// The boundary-element solve of the line's conductors (grounded and

@@ -16,10 +16,21 @@
 //!
 //! give the field with bars b_1 < b_2 < … of efficiency η as
 //!
-//! $$ \mathbf E(p) = \sum_i \sum_{r} F_{ir}\,\bigl[P_i(p, b_{r+1}) - P_i(p, b_r)\bigr], $$
+//! $$ \mathbf E(p) = G_0(p) + \sum_i \sum_{r} F_{ir}\,\bigl[P_i(p, b_{r+1}) - P_i(p, b_r)\bigr], $$
 //!
 //! where F_ir is the product of (1 − η) over the bars from entry i to range
-//! r. Exact for powered bars without an offset; see the module doc of
+//! r, and G_0 the field of the isolated conductors' given charges alone
+//! (absent when they carry none; G_e then holds only the web's own charge,
+//! see [`Scene::webs_linear`]).
+//!
+//! With conductors, each G_e includes the charge piece e induces on them:
+//! the factorised boundary-element system A·X = B (A of order n + m for n
+//! panels and m isolated conductors) is solved once for the matrix B whose
+//! column e is piece e's right-hand side (−φ_e [V] at the n collocation
+//! points, its wrap charges [C] scaled as in [`crate::field::bem`]),
+//! [`Scene::unit_pieces`] (at present column by column: see
+//! [`Scene::webs_linear`]); the induced field at p is then the dot product of
+//! X's column with the panels' factors at p ([`Scene::panel_factors`]). Exact for powered bars without an offset; see the module doc of
 //! [`crate::plan`] for the symbols and the reference (superposition,
 //! Coulomb's law).
 //!
@@ -152,6 +163,9 @@ pub(super) struct Influence {
     prefix: Vec<Vec<Vec<[f64; 4]>>>,
     /// Piece index where each source starts.
     source_piece: Vec<usize>,
+    /// G_0(p): the field of the isolated conductors' given charges at each
+    /// point, added to every placement's (`None` when they carry none).
+    fixed: Option<Vec<[f64; 4]>>,
     /// Point index by position bits.
     index: PointIndex,
     /// The point indices in the order the scoring of the line without new
@@ -200,10 +214,11 @@ impl Influence {
         // The conductors' panel factors at every point, once: each piece's
         // induced field there is then a dot product.
         let factors = scene.panel_factors(&points);
-        let g: Vec<Vec<[f64; 4]>> = pieces
+        // Every piece's web charge and the conductors' share of it.
+        let webs = scene.unit_pieces(&base, &pieces);
+        let g: Vec<Vec<[f64; 4]>> = webs
             .par_iter()
-            .map(|&(a, b)| {
-                let m = scene.unit_piece(&base, a, b);
+            .map(|m| {
                 let out = points
                     .iter()
                     .enumerate()
@@ -217,6 +232,21 @@ impl Influence {
             })
             .collect::<Result<Vec<_>, _>>()?;
         drop(tracker);
+        // The isolated conductors' given charges: a fixed part of every
+        // placement's field (none when they carry none).
+        let fixed = match scene.given_part() {
+            Some(m) => Some(
+                points
+                    .par_iter()
+                    .enumerate()
+                    .map(|(k, &p)| {
+                        m.at_with(p, factors.as_ref().map(|f| f[k].as_slice()))
+                            .map(|f| [f.e[0], f.e[1], f.e[2], f.v])
+                    })
+                    .collect::<Result<Vec<_>, _>>()?,
+            ),
+            None => None,
+        };
         // Per source: the density it puts at each piece start (before any bar).
         let unit_entries = |i: usize| -> Vec<f64> {
             let s_i = sources[i].s;
@@ -270,6 +300,7 @@ impl Influence {
             .map(|src| starts.partition_point(|&a| a < src.s))
             .collect();
         Ok(Influence {
+            fixed,
             source_piece,
             starts,
             sources,
@@ -304,7 +335,10 @@ impl Influence {
     /// depend on how many points there are.
     fn fields(&self, bars: &[(f64, f64, usize)]) -> Vec<[f64; 4]> {
         let n = self.starts.len();
-        let mut out = vec![[0.0; 4]; self.points.len()];
+        let mut out = match &self.fixed {
+            Some(f) => f.clone(),
+            None => vec![[0.0; 4]; self.points.len()],
+        };
         let mut add = |factor: f64, a: &[[f64; 4]], b: &[[f64; 4]]| {
             for ((o, a), b) in out.iter_mut().zip(a).zip(b) {
                 for k in 0..4 {

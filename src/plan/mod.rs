@@ -526,7 +526,7 @@ pub fn plan(
             search::exhaustive(n, &class, room, line, &shared, &finish, progress)
         } else {
             exhaustive = false;
-            search::greedy(n, n_cand, &evaluate)
+            search::greedy(n, n_cand, &evaluate, progress)
         };
         evaluated += count;
         max_size = n;

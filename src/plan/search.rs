@@ -467,15 +467,30 @@ pub(super) fn exhaustive<R>(
 }
 
 /// Greedy start and one-bar swaps while they improve; the placement found
-/// and the number evaluated.
+/// and the number evaluated. The greedy start is announced as one
+/// [`Task::Plan`] of Σ_{i<n} (n_cand − i) placements, then each pass of
+/// swaps as another of n·(n_cand − n) (how many passes run is not known
+/// beforehand); `progress` is called with (done, total) of the current
+/// one now and then.
 pub(super) fn greedy(
     n: usize,
     n_cand: usize,
     evaluate: &(dyn Fn(&[usize]) -> Option<Score> + Sync),
+    progress: &(dyn Fn(usize, usize) + Sync),
 ) -> (Vec<Scored>, usize) {
     let mut count = 0;
     let mut current: Vec<usize> = Vec::new();
     let mut best_score = None;
+    let start_total: usize = (0..n.min(n_cand)).map(|i| n_cand - i).sum();
+    let tracker = Tracker::new(Task::Plan, start_total as u64);
+    let done = AtomicUsize::new(0);
+    let step = |tracker: &Tracker, total: usize| {
+        tracker.advance(1);
+        let d = done.fetch_add(1, Atomic::Relaxed) + 1;
+        if d.is_multiple_of(CALLBACK_EVERY) || d == total {
+            progress(d, total);
+        }
+    };
     for _ in 0..n {
         let trial: Vec<(usize, Score)> = (0..n_cand)
             .into_par_iter()
@@ -484,7 +499,9 @@ pub(super) fn greedy(
                 let mut t = current.clone();
                 t.push(c);
                 t.sort_unstable();
-                evaluate(&t).map(|s| (c, s))
+                let s = evaluate(&t);
+                step(&tracker, start_total);
+                s.map(|s| (c, s))
             })
             .collect();
         count += trial.len();
@@ -498,9 +515,13 @@ pub(super) fn greedy(
         current.sort_unstable();
         best_score = Some(best.1);
     }
+    drop(tracker);
     let mut improved = true;
     while improved {
         improved = false;
+        let pass_total = current.len() * n_cand.saturating_sub(current.len());
+        let tracker = Tracker::new(Task::Plan, pass_total as u64);
+        done.store(0, Atomic::Relaxed);
         for i in 0..current.len() {
             for c in 0..n_cand {
                 if current.contains(&c) {
@@ -510,7 +531,9 @@ pub(super) fn greedy(
                 t[i] = c;
                 t.sort_unstable();
                 count += 1;
-                if let (Some(s), Some(b)) = (evaluate(&t), best_score)
+                let scored = evaluate(&t);
+                step(&tracker, pass_total);
+                if let (Some(s), Some(b)) = (scored, best_score)
                     && better(&s, &b)
                 {
                     current = t;

@@ -266,3 +266,43 @@ fn side_classes_join_only_the_sides() {
     let placed = apply(&line, &cands[..2]);
     assert_eq!(placed.eliminators.len(), line.eliminators.len() + 2);
 }
+
+/// The greedy search reports its progress: the greedy start as one task of
+/// Σ_{i<n} (n_cand − i) placements, each pass of swaps as one of
+/// n·(n_cand − n), each ending at its total, and the count it returns is
+/// the number of placements it evaluated.
+#[test]
+fn greedy_search_reports_progress_to_each_phase_total() {
+    let (n, n_cand) = (2, 7);
+    let evaluated = std::sync::atomic::AtomicUsize::new(0);
+    // Lower Σ (index − 3)² is better: the best pair is {2, 3} or {3, 4}.
+    let evaluate = |bars: &[usize]| {
+        evaluated.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+        Some(Score {
+            fails: 0,
+            bars: bars.len(),
+            margin: bars.iter().map(|&b| (b as f64 - 3.0).powi(2)).sum(),
+            spans: 1,
+            clearance: 1.0,
+            upstream: 0.0,
+        })
+    };
+    let calls = std::sync::Mutex::new(Vec::new());
+    let progress = |done: usize, total: usize| calls.lock().unwrap().push((done, total));
+    let (found, count) = search::greedy(n, n_cand, &evaluate, &progress);
+    assert_eq!(count, evaluated.load(std::sync::atomic::Ordering::Relaxed));
+    assert_eq!(found.len(), 1);
+    assert_eq!(found[0].1.margin, 1.0, "{:?}", found[0]);
+    let calls = calls.into_inner().unwrap();
+    let start = 7 + 6;
+    let pass = 2 * (7 - 2);
+    assert!(calls.contains(&(start, start)), "{calls:?}");
+    assert!(calls.contains(&(pass, pass)), "{calls:?}");
+    assert!(
+        calls
+            .iter()
+            .all(|&(d, t)| d <= t && (t == start || t == pass))
+    );
+    // The greedy start, then at least one pass of swaps.
+    assert!(count >= start + pass, "{count}");
+}

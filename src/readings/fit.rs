@@ -22,8 +22,9 @@ pub const MAX_ITERATIONS: usize = 32;
 /// (enough to reach adjacent doubles from any finite bracket).
 pub const MAX_BISECTIONS: usize = 2100;
 
-/// One reading as a linear functional of the segment amplitudes A_k
-/// [C/m²]: the predicted reading is Σ_k c_k·A_k.
+/// One reading as an affine functional of the segment amplitudes A_k
+/// [C/m²]: the predicted reading is c_0 + Σ_k c_k·A_k, with c_0 what the
+/// isolated conductors' given charges alone put there.
 #[derive(Debug, Clone)]
 pub struct Probe {
     /// Index into `line.readings`.
@@ -32,6 +33,10 @@ pub struct Probe {
     /// for a density reading the decay and across-web shape on its own
     /// segment (0 elsewhere) [1].
     pub coeffs: Vec<f64>,
+    /// c_0: the normal field at the meter of the isolated conductors' given
+    /// charges, with no charge on the web [V/m] (0 for a density reading
+    /// and without charged conductors).
+    pub offset: f64,
     /// The reading r_m (V/m, or C/m² for a density reading).
     pub r: f64,
     /// Its uncertainty u_m (same unit).
@@ -39,8 +44,13 @@ pub struct Probe {
 }
 
 impl Probe {
-    /// Σ_k c_k·A_k for the amplitudes `a` [C/m²].
+    /// c_0 + Σ_k c_k·A_k for the amplitudes `a` [C/m²].
     pub fn predict(&self, a: &[f64]) -> f64 {
+        self.offset + self.linear(a)
+    }
+
+    /// Σ_k c_k·A_k, the part that scales with the amplitudes `a` [C/m²].
+    pub fn linear(&self, a: &[f64]) -> f64 {
         self.coeffs.iter().zip(a).map(|(c, a)| c * a).sum()
     }
 }
@@ -85,19 +95,29 @@ pub struct Fit {
     pub self_consistent: bool,
 }
 
+/// At a passive device's tips: the field per unit A_k for every segment k
+/// [V/m per C/m²], and the fixed part's field [V/m].
+type TipFields = (Vec<[f64; 3]>, [f64; 3]);
+
 /// The line, its fitted segments and the unit fields the fit needs.
 pub struct Problem<'a> {
     /// The line.
     pub line: &'a Line,
     /// Segment indices of the unknowns.
     pub unknowns: &'a [usize],
-    /// The field of every segment at unit amplitude.
+    /// The field of every segment at unit amplitude, the web's own charge
+    /// only ([`crate::field::Scene::webs_linear`]).
     pub models: &'a [WebField<'a>],
+    /// The field of the isolated conductors' given charges alone
+    /// ([`crate::field::Scene::given_part`]), added once to every predicted
+    /// field (`None` when they carry none).
+    pub fixed: Option<&'a WebField<'a>>,
     /// The segment structure (amplitudes unused).
     pub base: &'a ChargeProfile,
     /// Per eliminator, passive only: the field at its tips per unit A_k,
-    /// for every segment k [V/m per C/m²].
-    tip_fields: Vec<Option<Vec<[f64; 3]>>>,
+    /// for every segment k [V/m per C/m²], and the fixed part's field
+    /// there [V/m].
+    tip_fields: Vec<Option<TipFields>>,
 }
 
 impl<'a> Problem<'a> {
@@ -107,6 +127,7 @@ impl<'a> Problem<'a> {
         line: &'a Line,
         unknowns: &'a [usize],
         models: &'a [WebField<'a>],
+        fixed: Option<&'a WebField<'a>>,
         base: &'a ChargeProfile,
     ) -> Result<Self, FieldError> {
         let mut tip_fields = Vec::with_capacity(line.eliminators.len());
@@ -121,12 +142,17 @@ impl<'a> Problem<'a> {
             for m in models {
                 per.push(m.at(tip, false)?.e);
             }
-            tip_fields.push(Some(per));
+            let f0 = match fixed {
+                Some(f) => f.at(tip, false)?.e,
+                None => [0.0; 3],
+            };
+            tip_fields.push(Some((per, f0)));
         }
         Ok(Problem {
             line,
             unknowns,
             models,
+            fixed,
             base,
             tip_fields,
         })
@@ -155,11 +181,11 @@ impl<'a> Problem<'a> {
             .collect();
         let mut tips = vec![None; line.eliminators.len()];
         for (i, e) in line.eliminators.iter().enumerate() {
-            let Some(Some(per)) = self.tip_fields.get(i) else {
+            let Some(Some((per, f0))) = self.tip_fields.get(i) else {
                 continue;
             };
             let (p, _) = charge_profile_arrivals(line, &ov, &active);
-            let mut f = [0.0; 3];
+            let mut f = *f0;
             for (g, ek) in p.segments.iter().zip(per) {
                 for (fc, ec) in f.iter_mut().zip(ek) {
                     *fc += g.amplitude * ec;
@@ -203,14 +229,19 @@ impl<'a> Problem<'a> {
                 (Some(e), _) => {
                     let d = distances.get(i).copied().unwrap_or(r.distance);
                     let (at, n) = meter_geometry(span, r.along, r.across, d, r.side);
+                    let normal = |e: [f64; 3]| e[0] * n[0] + e[1] * n[1] + e[2] * n[2];
                     let mut coeffs = Vec::with_capacity(self.models.len());
                     for model in self.models {
-                        let f = model.at(at, false)?;
-                        coeffs.push(f.e[0] * n[0] + f.e[1] * n[1] + f.e[2] * n[2]);
+                        coeffs.push(normal(model.at(at, false)?.e));
                     }
+                    let offset = match self.fixed {
+                        Some(f) => normal(f.at(at, false)?.e),
+                        None => 0.0,
+                    };
                     out.push(Probe {
                         reading: i,
                         coeffs,
+                        offset,
                         r: e,
                         u: meter.accuracy * e.abs() + meter.offset,
                     });
@@ -225,6 +256,7 @@ impl<'a> Problem<'a> {
                     out.push(Probe {
                         reading: i,
                         coeffs,
+                        offset: 0.0,
                         r: sig,
                         u: meter.accuracy * sig.abs() + EPS0 * meter.offset,
                     });
@@ -248,7 +280,8 @@ impl<'a> Problem<'a> {
     /// The exact affine model of one regime: A(x) = A0 + Σ_j x_j T_j with
     /// A0 = A(0) and T_j = A(e_j) − A(0) (exact, since every response is
     /// affine in a fixed regime and the imposed densities enter linearly),
-    /// and the rows b_m = c_m·A0, M_mj = c_m·T_j.
+    /// and the rows b_m = c_0 + c_m·A0, M_mj = c_m·T_j (the fixed part c_0
+    /// counted once, in b_m).
     pub fn rows(&self, probes: &[Probe], regimes: &[Regime]) -> Vec<Row> {
         let n = self.unknowns.len();
         let a0 = self.amplitudes_in(regimes, &vec![0.0; n]);
@@ -266,7 +299,7 @@ impl<'a> Problem<'a> {
             .iter()
             .map(|p| Row {
                 b: p.predict(&a0),
-                m: t.iter().map(|tj| p.predict(tj)).collect(),
+                m: t.iter().map(|tj| p.linear(tj)).collect(),
                 r: p.r,
                 u: p.u,
             })

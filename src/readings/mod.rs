@@ -531,10 +531,19 @@ pub fn invert_readings(line: &Line, scene: &Scene) -> Result<ReadingsResult, Rea
     // The unit-density field of every segment, charged once (with
     // conductors, each is a back-substitution) and reused at every set of
     // meter distances and by the forward model.
-    let models: Vec<WebField<'_>> = (0..model.segments.len())
-        .map(|k| scene.web(&unit_profile(&model, k)))
+    // Each carries the web's own charge only; the isolated conductors'
+    // given charges are the fixed part, counted once (not once per segment).
+    let units: Vec<ChargeProfile> = (0..model.segments.len())
+        .map(|k| unit_profile(&model, k))
         .collect();
-    let problem = fit::Problem::new(line, &unknowns, &models, &model)?;
+    // One profile per call (measured faster on the demo's first run than
+    // all of them in one call).
+    let models: Vec<WebField<'_>> = units
+        .iter()
+        .flat_map(|u| scene.webs_linear(std::slice::from_ref(u)))
+        .collect();
+    let fixed = scene.given_part();
+    let problem = fit::Problem::new(line, &unknowns, &models, fixed.as_ref(), &model)?;
     let probes = problem.probes(&d0)?;
     // Start in the regimes of the charge entries' own prediction.
     let x_model: Vec<f64> = unknowns
