@@ -131,7 +131,7 @@
 
 use super::integrate::{Patch, SAFETY};
 use super::kernels::{COULOMB, LocalField, QuadPiece, asinh_difference};
-use std::f64::consts::PI;
+use std::f64::consts::{FRAC_PI_2, PI};
 
 /// Highest degree d of the decay polynomial.
 pub const MAX_DEGREE: usize = 16;
@@ -183,6 +183,24 @@ const RECIPROCAL: [f64; MMAX + 5] = {
     r
 };
 
+/// atan x₁ − atan x₀ [rad] with one arc tangent: the argument of (1 + ix₁)(1 − ix₀) =
+/// (1 + x₁x₀) + i(x₁ − x₀), which lies in (−π, π) as each arc tangent lies in (−π/2, π/2), so
+/// atan((x₁ − x₀)/(1 + x₁x₀)) is corrected by ±π where the real part is negative. Rounding: the
+/// error is a few units of roundoff times Σ min(|x_i|, π/2), which bounds Σ|atan x_i| and
+/// Σ|x_i|/(1 + x_i²) (the effect of the inputs' own rounding); where x₁ ≈ x₀ are large it is far
+/// smaller than that of the plain difference of two arc tangents.
+fn atan_difference(x0: f64, x1: f64) -> f64 {
+    let num = x1 - x0;
+    let den = 1.0 + x1 * x0;
+    if den > 0.0 {
+        (num / den).atan()
+    } else if den < 0.0 {
+        (num / den).atan() + PI.copysign(num)
+    } else {
+        FRAC_PI_2.copysign(num)
+    }
+}
+
 /// Powers a^k [m^k] of the two ends a₀, a₁ of the patch in a, k ≤ d + 2.
 struct Powers {
     p: [[f64; MMAX + 2]; 2],
@@ -200,13 +218,16 @@ impl Powers {
     }
 }
 
-/// One edge b = b_j of the patch: corner distances R₀ⱼ, R₁ⱼ [m], solid-angle terms
-/// atan(a_i b_j/(|h| R_ij)) [rad], and the edge integrals A_k = ∫ a^k/R da [m^k] with magnitudes.
+/// One edge b = b_j of the patch: corner distances R₀ⱼ, R₁ⱼ [m], the edge's solid-angle term
+/// Δt = atan x₁ − atan x₀ with x_i = a_i b_j/(|h| R_ij) [rad] and its magnitude, and the edge
+/// integrals A_k = ∫ a^k/R da [m^k] with magnitudes.
+#[derive(Clone)]
 struct Edge {
     b: f64,
     rho2: f64,
     r: [f64; 2],
-    t: [f64; 2],
+    dt: f64,
+    mdt: f64,
     a: [f64; MMAX + 1],
     ma: [f64; MMAX + 1],
 }
@@ -227,10 +248,9 @@ impl Edge {
         self.b = b;
         self.rho2 = rho2;
         self.r = r;
-        self.t = [
-            (a[0] * b / (hh * r[0])).atan(),
-            (a[1] * b / (hh * r[1])).atan(),
-        ];
+        let x = [a[0] * b / (hh * r[0]), a[1] * b / (hh * r[1])];
+        self.dt = atan_difference(x[0], x[1]);
+        self.mdt = x[0].abs().min(FRAC_PI_2) + x[1].abs().min(FRAC_PI_2);
         self.a[0] = asinh_difference(a[0], a[1], rho2, r[0], r[1]);
         self.ma[0] = self.a[0].abs();
         // R₁ − R₀ without cancellation.
@@ -244,7 +264,8 @@ impl Edge {
             b: 0.0,
             rho2: 0.0,
             r: [0.0; 2],
-            t: [0.0; 2],
+            dt: 0.0,
+            mdt: 0.0,
             a: [0.0; MMAX + 1],
             ma: [0.0; MMAX + 1],
         }
@@ -322,8 +343,8 @@ fn piece_moments(
         mo.mf[m][n] = (mt + h2 * mo.mg[m][n]) * inv;
     };
     // Column n = 0: G₀₀ from the solid angle, G_m0 by parts in a.
-    let omega = (hi.t[1] - hi.t[0]) - (lo.t[1] - lo.t[0]);
-    let momega = hi.t[1].abs() + hi.t[0].abs() + lo.t[1].abs() + lo.t[0].abs();
+    let omega = hi.dt - lo.dt;
+    let momega = hi.mdt + lo.mdt;
     mo.g[0][0] = omega.abs() / hh;
     mo.mg[0][0] = momega / hh;
     fill_f(mo, 0, 0);
@@ -465,14 +486,12 @@ pub fn moment_field(patch: &Patch, p: [f64; 3], rel_tol: f64) -> Option<(LocalFi
     // D²: farthest corner from the foot of the perpendicular, in the plane.
     let dd = (a[0] * a[0]).max(a[1] * a[1]) + (b_ends[0] * b_ends[0]).max(b_ends[1] * b_ends[1]);
     let log_disc = (dd / h2).ln_1p();
-    // Edges b = b_j shared by adjacent pieces; the outer ones' solid-angle terms give Ω of the
-    // whole patch, Ω ≤ S_E/(k|A|fmax).
-    let mut edges = [const { Edge::unused() }; MAX_PIECES + 1];
-    edges[0].init(a, b_ends[0], h);
-    for (e, pc_k) in edges[1..].iter_mut().zip(&patch.across) {
-        e.init(a, pc_k.y_hi - y, h);
-    }
-    let omega = ((edges[np].t[1] - edges[np].t[0]) - (edges[0].t[1] - edges[0].t[0])).abs();
+    // Edges b = b_j shared by adjacent pieces (two alive at a time, the interior ones made as
+    // the pieces are met); the outer ones' solid-angle terms give Ω of the whole patch,
+    // Ω ≤ S_E/(k|A|fmax).
+    let mut lo = Edge::new(a, b_ends[0], h);
+    let mut last = Edge::new(a, patch.across[np - 1].y_hi - y, h);
+    let omega = (last.dt - lo.dt).abs();
     // Degree: least d with ε_d ≤ TRUNC_SHARE·eps (V, E_h) and ε_d·π ln(1 + D²/h²) ≤
     // TRUNC_SHARE·eps·Ω (E_u, E_y); the bounds are checked exactly below.
     let want = TRUNC_SHARE * eps * (omega / (PI * log_disc)).min(1.0);
@@ -488,9 +507,11 @@ pub fn moment_field(patch: &Patch, p: [f64; 3], rel_tol: f64) -> Option<(LocalFi
     let (mut pc, mut mpc) = ([0.0; MMAX], [0.0; MMAX]);
     decay_polynomial(len, inv_lambda, u - 0.5 * len, d, &mut pc, &mut mpc);
     let pw = Powers::new(a, top + 1);
-    for e in edges.iter_mut().take(np + 1) {
-        e.extend(&pw, top);
-    }
+    lo.extend(&pw, top);
+    last.extend(&pw, top);
+    // The lower edge of the current piece and the next interior edge, alternating (no copies).
+    let mut pair = [lo, Edge::unused()];
+    let mut cur = 0;
     let mut sum = [0.0; 4];
     let mut mag = [0.0; 4];
     // Geometry of the covering uniform rectangle (unit density) and its magnitudes.
@@ -498,9 +519,15 @@ pub fn moment_field(patch: &Patch, p: [f64; 3], rel_tol: f64) -> Option<(LocalFi
     let mut mgeo = [0.0; 4];
     let mut mo = Moments::zero();
     for (i, pc_k) in patch.across.iter().enumerate() {
-        let (prev, next) = (&edges[i], &edges[i + 1]);
+        let interior = i + 1 < np;
+        if interior {
+            let e = &mut pair[1 - cur];
+            e.init(a, pc_k.y_hi - y, h);
+            e.extend(&pw, top);
+        }
+        let next = if interior { &pair[1 - cur] } else { &last };
         let (q, mq) = across_coefficients(pc_k, y);
-        piece_moments(a, &pw, prev, next, h, top, mq[2] != 0.0, &mut mo);
+        piece_moments(a, &pw, &pair[cur], next, h, top, mq[2] != 0.0, &mut mo);
         for n in 0..3 {
             if q[n] == 0.0 && mq[n] == 0.0 {
                 continue;
@@ -530,6 +557,7 @@ pub fn moment_field(patch: &Patch, p: [f64; 3], rel_tol: f64) -> Option<(LocalFi
         mgeo[1] += mo.mg[1][0];
         mgeo[2] += mo.mg[0][1];
         mgeo[3] += mo.mg[0][0];
+        cur = 1 - cur;
     }
     let hh = h.abs();
     let round = ROUND_STEP * (d as f64 + 12.0) * UNIT;
