@@ -4,10 +4,12 @@
 //! of a span (a rectangle in the span's frame) whose density decays along the
 //! span and varies across it. The paths, in the order tried:
 //!
-//! - far from the patch (≥ 5 half-diagonals from its centre, L ≤ λ) the fixed
-//!   tensor Gauss rule [`super::far::far_field`] takes both directions at once
-//!   when its estimate (the change from 6 to 8 points per direction) meets the
-//!   targets;
+//! - far from the patch (≥ 3 half-diagonals from its centre, L ≤ λ) a tensor
+//!   Gauss rule [`super::far::far_field`] takes both directions at once, with
+//!   fewer points the farther the point (2–12 per direction), when its
+//!   estimate (the change from one point fewer per direction) meets the
+//!   targets, judged against lower bounds on the error scales that cost no
+//!   transcendental function;
 //! - the closed-form moments of [`super::moments`]: the decay replaced by a
 //!   polynomial with a rigorous remainder bound, every monomial integrated
 //!   exactly over each rectangle of the patch; it answers only when its
@@ -807,10 +809,10 @@ fn fast_paths(
     rel_tol: f64,
 ) -> Result<Option<(LocalField, [f64; 4], u32)>, KernelError> {
     let eps = rel_tol * SAFETY;
-    if let Some((f, est)) = far::far_field(patch, p) {
-        let [sv, se] = error_scale(patch, p);
+    if let Some(far) = far::far_field(patch, p, eps) {
+        let ([sv, se], est) = (far.scale, far.estimate);
         if est[0] <= eps * sv && est[1..].iter().all(|e| *e <= eps * se) {
-            return Ok(Some((f, est, 0)));
+            return Ok(Some((far.field, est, 0)));
         }
     }
     if let Some((f, b)) = moments::moment_field(patch, p, rel_tol) {
