@@ -168,11 +168,12 @@ pub(super) struct Influence {
     fixed: Option<Vec<[f64; 4]>>,
     /// Point index by position bits.
     index: PointIndex,
-    /// The point indices in the order the scoring of the line without new
-    /// bars asked for them ([`Influence::learn_order`]): the scoring of a
-    /// placement asks in much the same order, so [`Fast`] tries the next
-    /// one of these before the hash lookup.
-    order: Vec<usize>,
+    /// The point indices, each with its position bits, in the order the
+    /// scoring of the line without new bars asked for them
+    /// ([`Influence::learn_order`]): the scoring of a placement asks in much
+    /// the same order, so [`Fast`] tries the next one of these before the
+    /// hash lookup.
+    order: Vec<(usize, [u64; 3])>,
     points: Vec<[f64; 3]>,
 }
 
@@ -325,7 +326,11 @@ impl Influence {
             ask(&fast);
             fast.asked.map(|m| m.into_inner().unwrap_or_default())
         };
-        self.order = asked.unwrap_or_default();
+        self.order = asked
+            .unwrap_or_default()
+            .into_iter()
+            .filter_map(|i| Some((i, key(*self.points.get(i)?))))
+            .collect();
     }
 
     /// The bars of `eliminators` (sorted along the path) as `(arc length,
@@ -443,7 +448,7 @@ impl FieldAt for Fast<'_> {
         let k = key(at);
         let c = self.next.load(Relaxed);
         let i = match self.inf.order.get(c) {
-            Some(&i) if key(self.inf.points[i]) == k => {
+            Some(&(i, expected)) if expected == k => {
                 self.next.store(c + 1, Relaxed);
                 i
             }
