@@ -155,33 +155,48 @@ fn has_room(line: &Line, k: usize, at: [Meters; 3], d: Meters) -> bool {
     rollers_clear && spans_clear
 }
 
-/// The largest of the readings at `places`.
+/// The largest of the readings at `places` (the first of equal ones).
 fn largest(
     line: &Line,
     model: &dyn FieldAt,
     k: usize,
-    places: impl IntoIterator<Item = (Meters, Meters, Side)>,
+    places: &[Place],
     d: Meters,
 ) -> Result<Option<MeterEquivalent>, FieldError> {
     use rayon::prelude::*;
     let span = &line.path.spans[k];
-    let places: Vec<_> = places.into_iter().collect();
-    // In parallel, kept in order: the same place wins a tie every run (a
-    // precomputed superposition answers in nanoseconds: sequentially).
-    let one = |&place| sample(line, model, k, span, place, d);
-    let read: Vec<Option<MeterEquivalent>> = if model.is_precomputed() {
-        places.iter().map(one).collect::<Result<_, _>>()?
-    } else {
-        places.par_iter().map(one).collect::<Result<_, _>>()?
-    };
+    let one = |&place: &Place| sample(line, model, k, span, place, d);
     let mut best: Option<MeterEquivalent> = None;
-    for m in read.into_iter().flatten() {
+    let mut keep = |m: MeterEquivalent| {
         if best.is_none_or(|b| m.reading() > b.reading()) {
             best = Some(m);
         }
+    };
+    // A precomputed superposition answers in nanoseconds (the planner asks
+    // millions of times): sequentially, nothing collected. Otherwise in
+    // parallel, kept in order. Either way the places are compared in their
+    // order, so the same place wins a tie every run.
+    if model.is_precomputed() {
+        for place in places {
+            if let Some(m) = one(place)? {
+                keep(m);
+            }
+        }
+    } else {
+        let read: Vec<Option<MeterEquivalent>> =
+            places.par_iter().map(one).collect::<Result<_, _>>()?;
+        read.into_iter().flatten().for_each(&mut keep);
     }
     Ok(best)
 }
+
+/// A place a meter may be held: its foot along the span [m], across the
+/// web [m], and the side.
+type Place = (Meters, Meters, Side);
+
+/// Most places [`span_part_worst`] samples: [`ALONG`] stations × 3 across
+/// × 2 sides.
+const MOST_PLACES: usize = ALONG * 3 * 2;
 
 /// The largest meter-equivalent reading at distance `d` on span `k` (see
 /// the module documentation for the stations), `None` when no station can
@@ -224,25 +239,31 @@ pub fn span_part_worst(
         (m, m, 1)
     };
     let half = line.web.width / 2.0;
-    let across: Vec<Meters> = if half > 2.0 * d {
-        vec![0.0, -(half - 2.0 * d), half - 2.0 * d]
+    let edge = half - 2.0 * d;
+    let across: &[Meters] = if half > 2.0 * d {
+        &[0.0, -edge, edge]
     } else {
-        vec![0.0]
+        &[0.0]
     };
-    let mut places = Vec::with_capacity(count * across.len() * 2);
+    // On the stack: the planner scores millions of placements.
+    let mut places = [(0.0, 0.0, Side::Above); MOST_PLACES];
+    let mut len = 0;
     for i in 0..count {
         let u = if count > 1 {
             a + (b - a) * i as f64 / (count - 1) as f64
         } else {
             a
         };
-        for &y in &across {
+        for &y in across {
             for side in [Side::Above, Side::Below] {
-                places.push((u, y, side));
+                if let Some(p) = places.get_mut(len) {
+                    *p = (u, y, side);
+                    len += 1;
+                }
             }
         }
     }
-    largest(line, model, k, places, d)
+    largest(line, model, k, &places[..len], d)
 }
 
 /// The largest meter-equivalent reading at distance `d` on every span of
@@ -273,17 +294,20 @@ pub fn near_item(
     let (u0, y0) = (frame.u.clamp(0.0, span.length), item[1].clamp(-half, half));
     let side = item_side(span, item);
     let step = frame.distance.max(d).max(NEAR_STEP);
-    let mut places = Vec::with_capacity(9);
+    let mut places = [(0.0, 0.0, side); 9];
+    let mut at = places.iter_mut();
     for du in [0.0, -step, step] {
         for dy in [0.0, -step, step] {
-            places.push((
-                (u0 + du).clamp(0.0, span.length),
-                (y0 + dy).clamp(-half, half),
-                side,
-            ));
+            if let Some(p) = at.next() {
+                *p = (
+                    (u0 + du).clamp(0.0, span.length),
+                    (y0 + dy).clamp(-half, half),
+                    side,
+                );
+            }
         }
     }
-    match largest(line, model, k, places, d)? {
+    match largest(line, model, k, &places, d)? {
         Some(m) => Ok(Some(m)),
         None => span_worst(line, model, k, d),
     }

@@ -300,7 +300,9 @@ pub fn assess_with_conductors(
             .collect::<Result<Vec<_>, _>>()?;
         &recomputed
     };
-    let out = rules::apply_all(line, charge, model, fields, conductors, profiles, true)?;
+    let out = rules::apply_all(
+        line, charge, model, fields, conductors, profiles, None, true,
+    )?;
     let (mut findings, assumptions) = (out.findings, out.assumptions);
     findings.extend(eliminators::eliminator_findings(line, charge));
     findings.sort_by(|a, b| {
@@ -365,7 +367,45 @@ pub fn profile_score(
     points: &FieldMap,
     profiles: &[ThresholdProfile],
 ) -> Result<Score, FieldError> {
-    let out = rules::apply_all(line, charge, model, &points.points, None, profiles, false)?;
+    profile_score_in(line, charge, model, points, profiles, None)
+}
+
+/// Where each rule of some profiles applies on each span of a line
+/// ([`span_scopes`]).
+pub use rules::SpanScopes;
+
+/// Where each rule of `profiles` applies on each span of `line` (the
+/// matching zones a span touches and the parts of it inside them): it
+/// depends only on the spans, the web's width and the zones, so it holds
+/// for every variant of `line` that differs in its eliminators or charge
+/// alone ([`profile_score_in`]).
+pub fn span_scopes(line: &Line, profiles: &[ThresholdProfile]) -> SpanScopes {
+    rules::span_scopes(line, profiles)
+}
+
+/// [`profile_score`], with where the rules apply on each span worked out
+/// beforehand (`scopes`, [`span_scopes`] of a line with the same spans,
+/// web width and zones, and of the same `profiles`): the same score, bit
+/// for bit, without working it out again (the planner scores millions of
+/// placements of one line).
+pub fn profile_score_in(
+    line: &Line,
+    charge: &ChargeProfile,
+    model: &dyn FieldAt,
+    points: &FieldMap,
+    profiles: &[ThresholdProfile],
+    scopes: Option<&SpanScopes>,
+) -> Result<Score, FieldError> {
+    let out = rules::apply_all(
+        line,
+        charge,
+        model,
+        &points.points,
+        None,
+        profiles,
+        scopes,
+        false,
+    )?;
     Ok(Score {
         fails: out.fails,
         worst_margin: out.worst,

@@ -16,6 +16,7 @@ use crate::charge::ChargeProfile;
 use crate::field::{ConductorResult, FieldAt, FieldError, PointField, SpanContribution};
 use crate::model::geometry::{distance_to_span, span_frame};
 use crate::model::{Line, Point, Span};
+use std::borrow::Cow;
 
 /// Smallest step between web-potential samples [m].
 const SAMPLE_STEP: f64 = 0.01;
@@ -39,6 +40,11 @@ pub(super) struct Outcome {
 /// conducting rollers first in line order, then `line.conductors`) when
 /// the scene has a conductors' solve; `None` keeps the checks that do not
 /// need it and states what was left out.
+///
+/// `scopes`, when given, holds where each rule applies on each span
+/// ([`span_scopes`] of a line with the same spans, web width and zones, and
+/// of the same `profiles`); without, it is worked out as the rules run.
+#[allow(clippy::too_many_arguments)]
 pub(super) fn apply_all(
     line: &Line,
     charge: &ChargeProfile,
@@ -46,6 +52,7 @@ pub(super) fn apply_all(
     fields: &[PointField],
     solved: Option<&[ConductorResult]>,
     profiles: &[ThresholdProfile],
+    scopes: Option<&SpanScopes>,
     keep: bool,
 ) -> Result<Outcome, FieldError> {
     let mut run = Run {
@@ -54,6 +61,8 @@ pub(super) fn apply_all(
         model,
         fields,
         solved: solved.map(|r| conductors::Solved::new(line, r)),
+        scopes,
+        rule_at: (0, 0),
         keep,
         out: Outcome {
             findings: Vec::new(),
@@ -62,12 +71,40 @@ pub(super) fn apply_all(
             worst: 0.0,
         },
     };
-    for profile in profiles {
-        for rule in &profile.rules {
+    for (i, profile) in profiles.iter().enumerate() {
+        for (j, rule) in profile.rules.iter().enumerate() {
+            run.rule_at = (i, j);
             run.apply(profile, rule)?;
         }
     }
     Ok(run.out)
+}
+
+/// Where each rule applies on each span (see [`scope_of`]), by profile,
+/// rule and span: it depends only on the spans, the web's width and the
+/// zones, so the planner works it out once for all its placements.
+#[derive(Debug, Clone)]
+pub struct SpanScopes(Vec<Vec<Vec<Option<SpanScope>>>>);
+
+/// [`SpanScopes`] of `line` for the rules of `profiles`.
+pub(super) fn span_scopes(line: &Line, profiles: &[ThresholdProfile]) -> SpanScopes {
+    SpanScopes(
+        profiles
+            .iter()
+            .map(|p| {
+                p.rules
+                    .iter()
+                    .map(|r| {
+                        line.path
+                            .spans
+                            .iter()
+                            .map(|s| scope_of(line, r, s))
+                            .collect()
+                    })
+                    .collect()
+            })
+            .collect(),
+    )
 }
 
 /// Collects findings and assumptions while the rules are applied.
@@ -78,6 +115,10 @@ struct Run<'a> {
     fields: &'a [PointField],
     /// The conductors' solve, when the scene has one.
     solved: Option<conductors::Solved<'a>>,
+    /// Where each rule applies on each span, when worked out beforehand.
+    scopes: Option<&'a SpanScopes>,
+    /// The profile and rule being applied (indices), for `scopes`.
+    rule_at: (usize, usize),
     /// Build every finding, or only count.
     keep: bool,
     out: Outcome,
@@ -159,41 +200,16 @@ impl<'a> Run<'a> {
         self.out.worst = self.out.worst.max(margin);
     }
 
-    /// Where on `span` the rule applies: the matching zones it touches and
-    /// the parts of it inside them (the whole span for a rule not bound to
-    /// zones); `None` when the rule wants zones and the span touches none.
-    fn span_zones(&self, rule: &Rule, span: &Span) -> Option<SpanScope> {
-        if !rule.applies.in_zone {
-            return Some(SpanScope {
-                zones: Vec::new(),
-                parts: vec![(0.0, span.length)],
-                whole: true,
-            });
+    /// Where on span `k` the rule being applied applies ([`scope_of`]),
+    /// from `scopes` when they were worked out beforehand.
+    fn span_zones(&self, rule: &Rule, k: usize) -> Option<Cow<'a, SpanScope>> {
+        let cached = self
+            .scopes
+            .and_then(|c| c.0.get(self.rule_at.0)?.get(self.rule_at.1)?.get(k));
+        match cached {
+            Some(scope) => scope.as_ref().map(Cow::Borrowed),
+            None => scope_of(self.line, rule, self.line.path.spans.get(k)?).map(Cow::Owned),
         }
-        let width = self.line.web.width;
-        let mut zones = Vec::new();
-        let mut parts = Vec::new();
-        for (i, z) in self.line.zones.iter().enumerate() {
-            if !rule.applies.zones.matches(z) {
-                continue;
-            }
-            if let Some(p) = z.span_part(span, width) {
-                zones.push(i);
-                parts.push(p);
-            }
-        }
-        if zones.is_empty() {
-            return None;
-        }
-        let parts = merge_parts(parts);
-        let whole = parts.len() == 1
-            && parts[0].0 <= PART_SLACK * span.length
-            && parts[0].1 >= (1.0 - PART_SLACK) * span.length;
-        Some(SpanScope {
-            zones,
-            parts,
-            whole,
-        })
     }
 
     /// Points of the rule's kind (with their index and field) and the
@@ -247,11 +263,11 @@ impl<'a> Run<'a> {
     fn web_charge(&mut self, profile: &ThresholdProfile, rule: &Rule) {
         self.assume(Assumption::WebCharge);
         for (i, span) in self.line.path.spans.iter().enumerate() {
-            let Some(scope) = self.span_zones(rule, span) else {
+            let Some(scope) = self.span_zones(rule, i) else {
                 continue;
             };
             let value = scope
-                .parts
+                .parts()
                 .iter()
                 .map(|&(a, b)| part_peak_sigma(self.charge, span.s_start + a, span.s_start + b))
                 .fold(0.0, f64::max);
@@ -275,12 +291,12 @@ impl<'a> Run<'a> {
     fn meter_reading(&mut self, profile: &ThresholdProfile, rule: &Rule) -> Result<(), FieldError> {
         self.assume(Assumption::MeterReading);
         let d = rule.meter_distance.unwrap_or(DEFAULT_METER_DISTANCE);
-        for (i, span) in self.line.path.spans.iter().enumerate() {
-            let Some(scope) = self.span_zones(rule, span) else {
+        for i in 0..self.line.path.spans.len() {
+            let Some(scope) = self.span_zones(rule, i) else {
                 continue;
             };
             let mut worst: Option<MeterEquivalent> = None;
-            for &(a, b) in &scope.parts {
+            for &(a, b) in scope.parts() {
                 if let Some(m) = meter::span_part_worst(self.line, self.model, i, d, a, b)?
                     && worst.is_none_or(|w| m.reading() > w.reading())
                 {
@@ -495,7 +511,7 @@ impl<'a> Run<'a> {
             .spans
             .iter()
             .enumerate()
-            .filter_map(|(i, s)| self.span_zones(rule, s).map(|z| (i, z.zones)))
+            .filter_map(|(i, _)| self.span_zones(rule, i).map(|z| (i, z.zones.clone())))
             .collect();
         if subjects.is_empty() {
             return;
@@ -562,29 +578,84 @@ impl<'a> Run<'a> {
     }
 }
 
+/// Where on `span` the rule applies: the matching zones it touches and
+/// the parts of it inside them (the whole span for a rule not bound to
+/// zones); `None` when the rule wants zones and the span touches none.
+fn scope_of(line: &Line, rule: &Rule, span: &Span) -> Option<SpanScope> {
+    if !rule.applies.in_zone {
+        // Nothing allocated: the planner asks this for every span and
+        // rule of millions of placements.
+        return Some(SpanScope {
+            zones: Vec::new(),
+            whole_span: (0.0, span.length),
+            zone_parts: Vec::new(),
+            whole: true,
+        });
+    }
+    let width = line.web.width;
+    let mut zones = Vec::new();
+    let mut parts = Vec::new();
+    for (i, z) in line.zones.iter().enumerate() {
+        if !rule.applies.zones.matches(z) {
+            continue;
+        }
+        if let Some(p) = z.span_part(span, width) {
+            zones.push(i);
+            parts.push(p);
+        }
+    }
+    if zones.is_empty() {
+        return None;
+    }
+    let parts = merge_parts(parts);
+    let whole = parts.len() == 1
+        && parts[0].0 <= PART_SLACK * span.length
+        && parts[0].1 >= (1.0 - PART_SLACK) * span.length;
+    Some(SpanScope {
+        zones,
+        whole_span: (0.0, span.length),
+        zone_parts: parts,
+        whole,
+    })
+}
+
 /// Parts of a span closer to its ends than this fraction of its length
 /// count as reaching the end (round-off of the clipping) [1].
 const PART_SLACK: f64 = 1e-9;
 
 /// Where on a span a rule applies.
+#[derive(Debug, Clone)]
 struct SpanScope {
     /// The matching zones the span touches (empty for a rule not bound to
     /// zones).
     zones: Vec<usize>,
-    /// The parts judged, `(u0, u1)` along the span from its start [m],
-    /// sorted and disjoint.
-    parts: Vec<(f64, f64)>,
+    /// The whole span, `(0, length)` [m].
+    whole_span: (f64, f64),
+    /// For a rule bound to zones, the parts inside them, `(u0, u1)` along
+    /// the span from its start [m], sorted, disjoint and never empty; empty
+    /// for a rule not bound to zones (which judges `whole_span`).
+    zone_parts: Vec<(f64, f64)>,
     /// Whether the parts make up the whole span.
     whole: bool,
 }
 
 impl SpanScope {
+    /// The parts judged, `(u0, u1)` along the span from its start [m],
+    /// sorted and disjoint.
+    fn parts(&self) -> &[(f64, f64)] {
+        if self.zone_parts.is_empty() {
+            std::slice::from_ref(&self.whole_span)
+        } else {
+            &self.zone_parts
+        }
+    }
+
     /// The finding's notes: the zones, and the parts judged when they are
     /// not the whole span.
     fn notes(&self) -> Vec<FindingNote> {
         let mut notes = in_zones(self.zones.clone());
         if !self.whole {
-            notes.push(FindingNote::ZoneParts(self.parts.clone()));
+            notes.push(FindingNote::ZoneParts(self.parts().to_vec()));
         }
         notes
     }

@@ -168,11 +168,12 @@ pub(super) struct Influence {
     fixed: Option<Vec<[f64; 4]>>,
     /// Point index by position bits.
     index: PointIndex,
-    /// The point indices in the order the scoring of the line without new
-    /// bars asked for them ([`Influence::learn_order`]): the scoring of a
-    /// placement asks in much the same order, so [`Fast`] tries the next
-    /// one of these before the hash lookup.
-    order: Vec<usize>,
+    /// The point indices, each with its position bits, in the order the
+    /// scoring of the line without new bars asked for them
+    /// ([`Influence::learn_order`]): the scoring of a placement asks in much
+    /// the same order, so [`Fast`] tries the next one of these before the
+    /// hash lookup.
+    order: Vec<(usize, [u64; 3])>,
     points: Vec<[f64; 3]>,
 }
 
@@ -325,25 +326,44 @@ impl Influence {
             ask(&fast);
             fast.asked.map(|m| m.into_inner().unwrap_or_default())
         };
-        self.order = asked.unwrap_or_default();
+        self.order = asked
+            .unwrap_or_default()
+            .into_iter()
+            .filter_map(|i| Some((i, key(*self.points.get(i)?))))
+            .collect();
+    }
+
+    /// The bars of `eliminators` (sorted along the path) as `(arc length,
+    /// η, piece index)`, written into `out` (cleared first).
+    fn bars_into(&self, eliminators: &[Eliminator], out: &mut Vec<(f64, f64, usize)>) {
+        out.clear();
+        out.extend(
+            eliminators
+                .iter()
+                .map(|e| (e.s, e.efficiency, self.piece_at(e.s))),
+        );
     }
 
     /// The field at every point with bars `(arc length, η, piece index)`
-    /// sorted along the path, as [Ex, Ey, Ez, V] by point index. Each
+    /// sorted along the path, as [Ex, Ey, Ez, V] by point index, written
+    /// into `out` (its old contents replaced; its allocation reused). Each
     /// point's sum is formed in the same order as the formula of the module
     /// doc (source by source, range by range), so the result does not
     /// depend on how many points there are.
-    fn fields(&self, bars: &[(f64, f64, usize)]) -> Vec<[f64; 4]> {
+    fn fields_into(&self, bars: &[(f64, f64, usize)], out: &mut Vec<[f64; 4]>) {
         let n = self.starts.len();
-        let mut out = match &self.fixed {
-            Some(f) => f.clone(),
-            None => vec![[0.0; 4]; self.points.len()],
-        };
+        out.clear();
+        match &self.fixed {
+            Some(f) => out.extend_from_slice(f),
+            None => out.resize(self.points.len(), [0.0; 4]),
+        }
+        // Component by component over the flattened arrays (the same
+        // operations on each component as point by point, in a form the
+        // compiler vectorises).
+        let out = out.as_flattened_mut();
         let mut add = |factor: f64, a: &[[f64; 4]], b: &[[f64; 4]]| {
-            for ((o, a), b) in out.iter_mut().zip(a).zip(b) {
-                for k in 0..4 {
-                    o[k] += factor * (a[k] - b[k]);
-                }
+            for ((o, a), b) in out.iter_mut().zip(a.as_flattened()).zip(b.as_flattened()) {
+                *o += factor * (a - b);
             }
         };
         for (i, src) in self.sources.iter().enumerate() {
@@ -360,15 +380,23 @@ impl Influence {
             }
             add(factor, &pre[n], &pre[from]);
         }
-        out
     }
+}
+
+/// Buffers a [`Fast`] fills, kept between placements so that scoring one
+/// allocates nothing for the field (one per worker thread).
+#[derive(Debug, Clone, Default)]
+pub(super) struct FastBuffers {
+    bars: Vec<(f64, f64, usize)>,
+    fields: Vec<[f64; 4]>,
 }
 
 /// The superposition answering the assessment's field questions.
 pub(super) struct Fast<'a> {
     inf: &'a Influence,
-    /// The field at every precomputed point with the bars fitted.
-    fields: Vec<[f64; 4]>,
+    /// The bars and the field at every precomputed point with them fitted
+    /// (`buffers.fields`).
+    buffers: FastBuffers,
     /// Position in `inf.order` of the question expected next.
     next: AtomicUsize,
     /// The point indices asked for, in order, when recording.
@@ -378,16 +406,30 @@ pub(super) struct Fast<'a> {
 impl<'a> Fast<'a> {
     /// The field with `eliminators` (sorted along the path) fitted.
     pub(super) fn new(inf: &'a Influence, eliminators: &[Eliminator]) -> Self {
-        let bars: Vec<(f64, f64, usize)> = eliminators
-            .iter()
-            .map(|e| (e.s, e.efficiency, inf.piece_at(e.s)))
-            .collect();
+        Fast::in_buffers(inf, eliminators, FastBuffers::default())
+    }
+
+    /// [`Fast::new`], its field computed into `buffers` (their allocations
+    /// reused; [`Fast::into_buffers`] gives them back). The field is the
+    /// same, bit for bit.
+    pub(super) fn in_buffers(
+        inf: &'a Influence,
+        eliminators: &[Eliminator],
+        mut buffers: FastBuffers,
+    ) -> Self {
+        inf.bars_into(eliminators, &mut buffers.bars);
+        inf.fields_into(&buffers.bars, &mut buffers.fields);
         Fast {
             inf,
-            fields: inf.fields(&bars),
+            buffers,
             next: AtomicUsize::new(0),
             asked: None,
         }
+    }
+
+    /// The buffers back, for the next placement.
+    pub(super) fn into_buffers(self) -> FastBuffers {
+        self.buffers
     }
 
     /// [`Fast::new`], noting every point index asked for.
@@ -406,7 +448,7 @@ impl FieldAt for Fast<'_> {
         let k = key(at);
         let c = self.next.load(Relaxed);
         let i = match self.inf.order.get(c) {
-            Some(&i) if key(self.inf.points[i]) == k => {
+            Some(&(i, expected)) if expected == k => {
                 self.next.store(c + 1, Relaxed);
                 i
             }
@@ -422,7 +464,7 @@ impl FieldAt for Fast<'_> {
         {
             v.push(i);
         }
-        let f = self.fields[i];
+        let f = self.buffers.fields[i];
         Ok(PointField {
             at: self.inf.points[i],
             e: [f[0], f[1], f[2]],

@@ -494,18 +494,14 @@ pub fn plan(
     let mut inf = Influence::build(line, points, &cands, scene)?;
     inf.learn_order(|fast| placement::ask_all(line, fast, profiles));
 
-    let scorer = placement::Scorer {
-        line,
-        cands: &cands,
-        clearances: &clearances,
-        inf: &inf,
-        profiles,
-    };
+    let scorer = placement::Scorer::new(line, &cands, &clearances, &inf, profiles);
+    let scratch = scorer.scratch();
     let class = placement::side_classes(&cands);
-    let shared = |placed: &mut Line, bars: &[usize]| scorer.shared(placed, bars);
-    let finish =
-        |placed: &mut Line, bars: &[usize], sh: &placement::Shared| scorer.finish(placed, bars, sh);
-    let evaluate = |bars: &[usize]| -> Option<Score> { scorer.score(&mut line.clone(), bars) };
+    let shared = |sc: &mut placement::Scratch, bars: &[usize]| scorer.shared(sc, bars);
+    let finish = |sc: &mut placement::Scratch, bars: &[usize], sh: &placement::Shared| {
+        scorer.finish(sc, bars, sh)
+    };
+    let evaluate = |sc: &mut placement::Scratch, bars: &[usize]| scorer.score(sc, bars);
     let keep = st.top.max(1);
 
     let n_cand = cands.len();
@@ -523,10 +519,10 @@ pub fn plan(
         // Room for every side variant of the `keep` best plans.
         let room = keep.saturating_mul(1 << n.min(3));
         let (found, count) = if search::is_exhaustive(n, n_cand) {
-            search::exhaustive(n, &class, room, line, &shared, &finish, progress)
+            search::exhaustive(n, &class, room, &scratch, &shared, &finish, progress)
         } else {
             exhaustive = false;
-            search::greedy(n, n_cand, &evaluate, progress)
+            search::greedy(n, n_cand, &scratch, &evaluate, progress)
         };
         evaluated += count;
         max_size = n;
@@ -594,7 +590,12 @@ pub fn plan(
     let dead_end = match outcome {
         PlanOutcome::AllPass => None,
         _ => Some(dead_end(
-            original, line, &cands, profiles, scene, &evaluate,
+            original,
+            line,
+            &cands,
+            profiles,
+            scene,
+            &|bars| scorer.score(&mut scorer.scratch(), bars),
         )?),
     };
     let settings = st.clone();

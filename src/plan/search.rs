@@ -400,17 +400,17 @@ const CALLBACK_EVERY: usize = 20_000;
 /// multiset have in common, once, for its first placement; `finish` then
 /// scores each placement of the multiset (see [`super::placement`] for why
 /// the shared part is the same for all of them). Both use a scratch copy
-/// of `scratch` they may overwrite (one per worker, so no line is cloned
-/// per placement). The work is announced as [`Task::Plan`], advanced in
+/// of `scratch` they may overwrite (one per worker, so no line or buffer is
+/// made per placement). The work is announced as [`Task::Plan`], advanced in
 /// batches of about [`BATCH`] placements; `progress` is called with (done,
 /// total) now and then.
-pub(super) fn exhaustive<R>(
+pub(super) fn exhaustive<S: Clone + Send + Sync, R>(
     n: usize,
     class: &[usize],
     keep: usize,
-    scratch: &Line,
-    shared: &(dyn Fn(&mut Line, &[usize]) -> Option<R> + Sync),
-    finish: &(dyn Fn(&mut Line, &[usize], &R) -> Score + Sync),
+    scratch: &S,
+    shared: &(dyn Fn(&mut S, &[usize]) -> Option<R> + Sync),
+    finish: &(dyn Fn(&mut S, &[usize], &R) -> Score + Sync),
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> (Vec<Scored>, usize) {
     let members = class_members(class);
@@ -433,8 +433,7 @@ pub(super) fn exhaustive<R>(
         .par_iter()
         .fold(
             || (scratch.clone(), Vec::new(), 0usize, 0usize),
-            |(mut placed, mut best, mut pending, mut count): (Line, Vec<Scored>, usize, usize),
-             m| {
+            |(mut placed, mut best, mut pending, mut count): (S, Vec<Scored>, usize, usize), m| {
                 let group = members_of(m, &members);
                 pending += group.len();
                 count += group.len();
@@ -467,15 +466,17 @@ pub(super) fn exhaustive<R>(
 }
 
 /// Greedy start and one-bar swaps while they improve; the placement found
-/// and the number evaluated. The greedy start is announced as one
+/// and the number evaluated. `evaluate` scores a placement in a scratch
+/// copy of `scratch` it may overwrite (one per worker). The greedy start is announced as one
 /// [`Task::Plan`] of Σ_{i<n} (n_cand − i) placements, then each pass of
 /// swaps as another of n·(n_cand − n) (how many passes run is not known
 /// beforehand); `progress` is called with (done, total) of the current
 /// one now and then.
-pub(super) fn greedy(
+pub(super) fn greedy<S: Clone + Send + Sync>(
     n: usize,
     n_cand: usize,
-    evaluate: &(dyn Fn(&[usize]) -> Option<Score> + Sync),
+    scratch: &S,
+    evaluate: &(dyn Fn(&mut S, &[usize]) -> Option<Score> + Sync),
     progress: &(dyn Fn(usize, usize) + Sync),
 ) -> (Vec<Scored>, usize) {
     let mut count = 0;
@@ -495,14 +496,19 @@ pub(super) fn greedy(
         let trial: Vec<(usize, Score)> = (0..n_cand)
             .into_par_iter()
             .filter(|c| !current.contains(c))
-            .filter_map(|c| {
-                let mut t = current.clone();
-                t.push(c);
-                t.sort_unstable();
-                let s = evaluate(&t);
-                step(&tracker, start_total);
-                s.map(|s| (c, s))
-            })
+            .map_init(
+                || (scratch.clone(), Vec::with_capacity(current.len() + 1)),
+                |(sc, t), c| {
+                    t.clear();
+                    t.extend_from_slice(&current);
+                    t.push(c);
+                    t.sort_unstable();
+                    let s = evaluate(sc, t);
+                    step(&tracker, start_total);
+                    s.map(|s| (c, s))
+                },
+            )
+            .flatten()
             .collect();
         count += trial.len();
         let Some(best) = trial
@@ -516,6 +522,7 @@ pub(super) fn greedy(
         best_score = Some(best.1);
     }
     drop(tracker);
+    let mut sc = scratch.clone();
     let mut improved = true;
     while improved {
         improved = false;
@@ -531,7 +538,7 @@ pub(super) fn greedy(
                 t[i] = c;
                 t.sort_unstable();
                 count += 1;
-                let scored = evaluate(&t);
+                let scored = evaluate(&mut sc, &t);
                 step(&tracker, pass_total);
                 if let (Some(s), Some(b)) = (scored, best_score)
                     && better(&s, &b)

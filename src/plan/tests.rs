@@ -8,7 +8,7 @@
 //! cases.
 
 use super::influence::{Fast, Influence, sampled_points};
-use super::placement::{Scorer, side_classes};
+use super::placement::{Scorer, Scratch, side_classes};
 use super::search::{self, Score, Scored};
 use super::{Candidate, apply, clearance, planning_line};
 use crate::field::{FieldAt, FieldMap, Scene, SolverSettings};
@@ -175,13 +175,8 @@ fn grouped_search_equals_brute_force_on_random_candidates() {
             let points = sampled_points(&line, &scene, &profiles).expect("points");
             let mut inf = Influence::build(&line, points, &cands, &scene).expect("influences");
             inf.learn_order(|fast| super::placement::ask_all(&line, fast, &profiles));
-            let scorer = Scorer {
-                line: &line,
-                cands: &cands,
-                clearances: &clearances,
-                inf: &inf,
-                profiles: &profiles,
-            };
+            let scorer = Scorer::new(&line, &cands, &clearances, &inf, &profiles);
+            let scratch = scorer.scratch();
             let class = side_classes(&cands);
             for n in 1..=3 {
                 let brute = brute_force(&line, &inf, &profiles, &cands, &clearances, n);
@@ -191,9 +186,9 @@ fn grouped_search_equals_brute_force_on_random_candidates() {
                     n,
                     &class,
                     total,
-                    &line,
-                    &|p: &mut Line, b: &[usize]| scorer.shared(p, b),
-                    &|p: &mut Line, b: &[usize], sh: &super::placement::Shared| {
+                    &scratch,
+                    &|p: &mut Scratch, b: &[usize]| scorer.shared(p, b),
+                    &|p: &mut Scratch, b: &[usize], sh: &super::placement::Shared| {
                         scorer.finish(p, b, sh)
                     },
                     &|_, _| {},
@@ -209,9 +204,9 @@ fn grouped_search_equals_brute_force_on_random_candidates() {
                     n,
                     &class,
                     5,
-                    &line,
-                    &|p: &mut Line, b: &[usize]| scorer.shared(p, b),
-                    &|p: &mut Line, b: &[usize], sh: &super::placement::Shared| {
+                    &scratch,
+                    &|p: &mut Scratch, b: &[usize]| scorer.shared(p, b),
+                    &|p: &mut Scratch, b: &[usize], sh: &super::placement::Shared| {
                         scorer.finish(p, b, sh)
                     },
                     &|_, _| {},
@@ -276,7 +271,7 @@ fn greedy_search_reports_progress_to_each_phase_total() {
     let (n, n_cand) = (2, 7);
     let evaluated = std::sync::atomic::AtomicUsize::new(0);
     // Lower Σ (index − 3)² is better: the best pair is {2, 3} or {3, 4}.
-    let evaluate = |bars: &[usize]| {
+    let evaluate = |_: &mut (), bars: &[usize]| {
         evaluated.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
         Some(Score {
             fails: 0,
@@ -289,7 +284,7 @@ fn greedy_search_reports_progress_to_each_phase_total() {
     };
     let calls = std::sync::Mutex::new(Vec::new());
     let progress = |done: usize, total: usize| calls.lock().unwrap().push((done, total));
-    let (found, count) = search::greedy(n, n_cand, &evaluate, &progress);
+    let (found, count) = search::greedy(n, n_cand, &(), &evaluate, &progress);
     assert_eq!(count, evaluated.load(std::sync::atomic::Ordering::Relaxed));
     assert_eq!(found.len(), 1);
     assert_eq!(found[0].1.margin, 1.0, "{:?}", found[0]);

@@ -401,7 +401,7 @@ impl<'a> Run<'a> {
             if !leaves_grounded(span) {
                 continue;
             }
-            let Some(zones) = self.span_zones(rule, span).map(|z| z.zones) else {
+            let Some(zones) = self.span_zones(rule, i).map(|z| z.zones.clone()) else {
                 continue;
             };
             let (start, _) = self.charge.ends_between(span.s_start, span.s_end);
