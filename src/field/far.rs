@@ -28,12 +28,15 @@
 //! 1e-8), far below the panels' own discretisation error (about 1e-3).
 //! Elsewhere the caller uses the adaptive rule.
 //!
-//! [`far_field`] is the same rule for V and all three components of E, used
-//! by [`super::integrate::patch_field`] at least [`FAR_FIELD_RATIO`] = 5
-//! half-diagonals from the centre of a patch at most one decay length long,
-//! with an error estimate: the difference from the 6-point rule, which errs
-//! like ρ^{−12} (ρ ≥ 9.9) while the 8-point result errs like ρ^{−16}. The
-//! caller accepts it only within its targets r·s·S_V, r·s·S_E.
+//! [`far_field`] is a tensor rule of the same kind for V and all three
+//! components of E, used by [`super::integrate::patch_field`] at least
+//! [`FAR_FIELD_RATIO`] = 3 half-diagonals from the centre of a patch at most
+//! one decay length long. Its order follows the distance and the caller's
+//! tolerance (7–12 points per direction, from the error envelope C·ρ^{−2n} and
+//! the rule's error on the decay), and its error estimate is the difference
+//! from the rule with two points fewer per direction. The caller accepts it
+//! only within its targets r·s·S_V, r·s·S_E, judged against lower bounds on
+//! those scales that need no transcendental function.
 //!
 //! | symbol | meaning | unit |
 //! | --- | --- | --- |
@@ -41,6 +44,8 @@
 //! | f, y_k | across-web shape and its piece ends | 1, m |
 //! | u, y, h | point in the patch frame | m |
 //! | w_i, u_i, y_j | Gauss weights and nodes | 1, m, m |
+//! | D, d, r, ρ | distance from the patch centre, half-diagonal, D/d, Bernstein ellipse parameter | m, m, 1, 1 |
+//! | n, n_c | points per direction of the finer and coarser rules | 1 |
 
 use super::integrate::Patch;
 use super::kernels::{COULOMB, LocalField};

@@ -6,7 +6,7 @@
 //!
 //! - far from the patch (≥ 3 half-diagonals from its centre, L ≤ λ) a tensor
 //!   Gauss rule [`super::far::far_field`] takes both directions at once, with
-//!   fewer points the farther the point (2–12 per direction), when its
+//!   fewer points the farther the point (7–12 per direction), when its
 //!   estimate (the change from one point fewer per direction) meets the
 //!   targets, judged against lower bounds on the error scales that cost no
 //!   transcendental function;

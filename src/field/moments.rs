@@ -114,7 +114,7 @@
 //! 1.25 m, λ = 5 m, rel_tol 1e-9, d = 6, at 1 m–0.5 mm): 0.7–1.3 µs for a
 //! one-piece profile (7–10× the uniform closed form), 1.2–2.1 µs for a
 //! three-piece table (12–18×); each piece adds its own moment table and two
-//! logarithms, each edge two arc tangents, a logarithm and two square roots.
+//! logarithms, each edge one arc tangent ([`atan_difference`]), a logarithm and two square roots.
 //!
 //! ## Reference
 //! Coulomb's law: D. J. Griffiths, *Introduction to Electrodynamics*, 4th ed.,
