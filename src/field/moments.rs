@@ -111,10 +111,11 @@
 //! across-web pieces; valid where the claimed bound meets the target (the
 //! caller falls back elsewhere). No heap allocation. Cost (release, one
 //! core of a shared machine, `cargo bench --bench solver` part 2: 1 m ×
-//! 1.25 m, λ = 5 m, rel_tol 1e-9, d = 6, at 1 m–0.5 mm): 0.7–1.3 µs for a
-//! one-piece profile (7–10× the uniform closed form), 1.2–2.1 µs for a
-//! three-piece table (12–18×); each piece adds its own moment table and two
-//! logarithms, each edge one arc tangent ([`atan_difference`]), a logarithm and two square roots.
+//! 1.25 m, λ = 5 m, rel_tol 1e-9, d = 6, at 1 m–0.5 mm): 0.9–1.6 µs for a
+//! one-piece profile (6–9× the uniform closed form of the same run),
+//! 1.4–1.8 µs for a three-piece table (11–15×); each piece adds its own
+//! moment table and two logarithms, each edge one arc tangent
+//! ([`atan_difference`]), a logarithm and two square roots.
 //!
 //! ## Reference
 //! Coulomb's law: D. J. Griffiths, *Introduction to Electrodynamics*, 4th ed.,
