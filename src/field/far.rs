@@ -424,6 +424,22 @@ mod tests {
         out
     }
 
+    /// 200 points on the sphere of radius `r` [m] about `c`: 10 polar angles (mid-cells) × 20
+    /// azimuths.
+    fn sphere(c: [f64; 3], r: f64) -> impl Iterator<Item = [f64; 3]> {
+        (0..10).flat_map(move |i| {
+            (0..20).map(move |j| {
+                let th = PI * (i as f64 + 0.5) / 10.0;
+                let ph = 2.0 * PI * j as f64 / 20.0;
+                [
+                    c[0] + r * th.sin() * ph.cos(),
+                    c[1] + r * th.sin() * ph.sin(),
+                    c[2] + r * th.cos(),
+                ]
+            })
+        })
+    }
+
     /// The fixed rule against the adaptive one at 1e-12 on spheres at the
     /// switching distance and twice it, in 200 directions: the difference
     /// is below 1e-8 of the error scale S_V (the adaptive rule's own
@@ -436,22 +452,12 @@ mod tests {
             let hd = 0.5 * (l * l + w * w).sqrt();
             let c = [0.5 * l, 0.5 * (y_lo + y_hi), 0.0];
             for scale in [1.0 + 1e-9, 2.0] {
-                let r = FAR_RATIO * hd * scale;
                 let mut worst = 0.0_f64;
-                for i in 0..10 {
-                    for j in 0..20 {
-                        let th = PI * (i as f64 + 0.5) / 10.0;
-                        let ph = 2.0 * PI * j as f64 / 20.0;
-                        let p = [
-                            c[0] + r * th.sin() * ph.cos(),
-                            c[1] + r * th.sin() * ph.sin(),
-                            c[2] + r * th.cos(),
-                        ];
-                        let far = far_potential(&patch, p).expect("far enough");
-                        let exact = patch_field(&patch, p, 1e-12).unwrap().v;
-                        let s = error_scale(&patch, p)[0];
-                        worst = worst.max((far - exact).abs() / s);
-                    }
+                for p in sphere(c, FAR_RATIO * hd * scale) {
+                    let far = far_potential(&patch, p).expect("far enough");
+                    let exact = patch_field(&patch, p, 1e-12).unwrap().v;
+                    let s = error_scale(&patch, p)[0];
+                    worst = worst.max((far - exact).abs() / s);
                 }
                 assert!(worst < 1e-8, "{patch:?} at {scale}: {worst:e}");
             }
@@ -518,49 +524,39 @@ mod tests {
             for rel_tol in [1e-9, 1e-6, 1e-3] {
                 let eps = rel_tol * crate::field::integrate::SAFETY;
                 for scale in [1.0 + 1e-9, 1.3, 5.0 / 3.0, 3.0, 8.0, 40.0] {
-                    let r = FAR_FIELD_RATIO * hd * scale;
-                    for i in 0..10 {
-                        for j in 0..20 {
-                            let th = PI * (i as f64 + 0.5) / 10.0;
-                            let ph = 2.0 * PI * j as f64 / 20.0;
-                            let p = [
-                                c[0] + r * th.sin() * ph.cos(),
-                                c[1] + r * th.sin() * ph.sin(),
-                                c[2] + r * th.cos(),
-                            ];
-                            let Some(far) = far_field(&patch, p, eps) else {
-                                assert!(patch.len > patch.decay_length, "{patch:?}");
-                                continue;
-                            };
-                            let [sv, se] = error_scale(&patch, p);
-                            assert!(far.scale[0] <= sv && far.scale[1] <= se, "{p:?}");
-                            let est = far.estimate;
-                            let meets = est[0] <= eps * far.scale[0]
-                                && est[1..].iter().all(|e| *e <= eps * far.scale[1]);
-                            if rel_tol == 1e-9 && scale >= 5.0 / 3.0 {
-                                assert!(meets, "{scale} {est:?} {:?}", far.scale);
-                            }
-                            if !meets {
-                                continue;
-                            }
-                            orders.insert(far.order);
-                            let exact =
-                                crate::field::integrate::patch_field_numerical(&patch, p, 1e-12)
-                                    .unwrap();
-                            let f = far.field;
+                    for p in sphere(c, FAR_FIELD_RATIO * hd * scale) {
+                        let Some(far) = far_field(&patch, p, eps) else {
+                            assert!(patch.len > patch.decay_length, "{patch:?}");
+                            continue;
+                        };
+                        let [sv, se] = error_scale(&patch, p);
+                        assert!(far.scale[0] <= sv && far.scale[1] <= se, "{p:?}");
+                        let est = far.estimate;
+                        let meets = est[0] <= eps * far.scale[0]
+                            && est[1..].iter().all(|e| *e <= eps * far.scale[1]);
+                        if rel_tol == 1e-9 && scale >= 5.0 / 3.0 {
+                            assert!(meets, "{scale} {est:?} {:?}", far.scale);
+                        }
+                        if !meets {
+                            continue;
+                        }
+                        orders.insert(far.order);
+                        let exact =
+                            crate::field::integrate::patch_field_numerical(&patch, p, 1e-12)
+                                .unwrap();
+                        let f = far.field;
+                        assert!(
+                            (f.v - exact.v).abs() <= est[0] + 1e-13 * sv,
+                            "{p:?} tol {rel_tol} order {} err {:e} est {:e} sv {sv:e}",
+                            far.order,
+                            (f.v - exact.v).abs(),
+                            est[0]
+                        );
+                        for k in 0..3 {
                             assert!(
-                                (f.v - exact.v).abs() <= est[0] + 1e-13 * sv,
-                                "{p:?} tol {rel_tol} order {} err {:e} est {:e} sv {sv:e}",
-                                far.order,
-                                (f.v - exact.v).abs(),
-                                est[0]
+                                (f.e[k] - exact.e[k]).abs() <= est[k + 1] + 1e-13 * se,
+                                "{patch:?} {p:?} E{k}"
                             );
-                            for k in 0..3 {
-                                assert!(
-                                    (f.e[k] - exact.e[k]).abs() <= est[k + 1] + 1e-13 * se,
-                                    "{patch:?} {p:?} E{k}"
-                                );
-                            }
                         }
                     }
                 }
