@@ -50,6 +50,15 @@
 //! bare number for a dimensioned quantity is refused because its unit is
 //! missing ([`parse_quantity_or`] lets a caller supply a unit for bare numbers).
 //!
+//! ## Tolerances
+//!
+//! [`parse_with_tolerance`] also reads a value with a tolerance in the same
+//! text, `x ± t` (`±` or `+-`, spaces optional): `"8 uC/m^2 ± 20 %"` (a
+//! fraction p of |x|, 0 % to 100 %) or `"8 uC/m^2 ± 1.6 uC/m^2"` (a
+//! half-width t ≥ 0 in any unit of x's dimension). The half-width is
+//! δ = p·|x| or δ = t ([`Tolerance::half_width`]). Every other parser refuses
+//! a `±` ([`ParseQuantityError::ToleranceNotAccepted`]).
+//!
 //! ## Assumptions and valid range
 //!
 //! - Numbers are decimal or scientific (`1e15`, `4e-6`, `-2.5`, `+3`, `.5`).
@@ -533,6 +542,126 @@ pub enum ParseQuantityError {
         /// The expected dimension.
         dim: Dim,
     },
+    /// A tolerance (`±` or `+-`) was written where only a single value is
+    /// accepted ([`parse_quantity`], [`parse_quantity_or`]).
+    #[error(
+        "{} carries a tolerance (±), which only the densities of `charge:` entries (`sigma:`, `adds:`) accept: expected {} such as \"{}\" alone",
+        echo(.input), .dim.name(), .dim.example()
+    )]
+    ToleranceNotAccepted {
+        /// The trimmed input.
+        input: String,
+        /// The expected dimension.
+        dim: Dim,
+    },
+    /// A value with a tolerance ([`parse_with_tolerance`]) whose `±` part
+    /// is wrong; the value before the `±` was read.
+    #[error(
+        "{}: {}; expected {} with a tolerance after ±, relative in % or absolute in a unit of the same dimension, such as {}",
+        echo(.input), tolerance_problem_text(.problem, .tolerance, *.dim), .dim.name(), tolerance_examples(*.dim)
+    )]
+    BadTolerance {
+        /// The trimmed input.
+        input: String,
+        /// The expected dimension.
+        dim: Dim,
+        /// The part after the `±`, trimmed (empty if none).
+        tolerance: String,
+        /// What is wrong with it.
+        problem: ToleranceProblem,
+    },
+}
+
+/// What is wrong with the tolerance part of a value such as
+/// `"8 uC/m^2 ± 20 %"` ([`ParseQuantityError::BadTolerance`]).
+#[derive(Debug, Clone, PartialEq)]
+pub enum ToleranceProblem {
+    /// More than one `±` (or `+-`) sign.
+    TwoSigns,
+    /// Nothing before the `±`.
+    NoValue,
+    /// Nothing after the `±`.
+    NoTolerance,
+    /// The tolerance does not start with a decimal number.
+    NotANumber,
+    /// The tolerance is `NaN` or infinite.
+    NotFinite,
+    /// The tolerance is beyond 1e300 (or non-zero below 1e-300) in SI units.
+    OutOfRange,
+    /// The tolerance is below zero.
+    Negative,
+    /// The tolerance is a non-zero number without unit.
+    MissingUnit,
+    /// The tolerance's unit is not known at all (the unit as written).
+    UnknownUnit(String),
+    /// The tolerance's unit belongs to another dimension than the value's.
+    WrongDimension(Dim),
+    /// The tolerance carries a unit where the value is a plain number.
+    UnexpectedUnit,
+    /// A relative tolerance over 100 %: the range would cross zero. Holds
+    /// the same range written with an absolute tolerance, for the message
+    /// (`"8 uC/m^2 ± 12 µC/m²"`).
+    OverHundredPercent(String),
+}
+
+/// The middle of a [`ParseQuantityError::BadTolerance`] message: what is
+/// wrong with the tolerance `tolerance` of a value of dimension `dim`.
+fn tolerance_problem_text(problem: &ToleranceProblem, tolerance: &str, dim: Dim) -> String {
+    let tol = echo(tolerance);
+    match problem {
+        ToleranceProblem::TwoSigns => "more than one ± (or +-) sign".to_owned(),
+        ToleranceProblem::NoValue => "nothing before the ±".to_owned(),
+        ToleranceProblem::NoTolerance => "nothing after the ±".to_owned(),
+        ToleranceProblem::NotANumber => {
+            format!("the tolerance {tol} does not start with a decimal number")
+        }
+        ToleranceProblem::NotFinite => format!("the tolerance {tol} is not a finite number"),
+        ToleranceProblem::OutOfRange => format!(
+            "the tolerance {tol} is out of range (zero, or 1e-300 to 1e300 {})",
+            dim.si_unit()
+        ),
+        ToleranceProblem::Negative => {
+            format!("the tolerance {tol} is negative: a tolerance is a half-width, zero or more")
+        }
+        ToleranceProblem::MissingUnit => format!(
+            "the tolerance {tol} has no unit: add % for a relative tolerance or a unit of {} ({})",
+            dim.name(),
+            dim.accepted_units()
+        ),
+        ToleranceProblem::UnknownUnit(unit) => format!(
+            "the tolerance {tol} has an unknown unit {} (units: %, {})",
+            echo(unit),
+            dim.accepted_units()
+        ),
+        ToleranceProblem::WrongDimension(got) => format!(
+            "the tolerance {tol} is {}, not a percentage or {}",
+            got.name(),
+            dim.name()
+        ),
+        ToleranceProblem::UnexpectedUnit => format!(
+            "the tolerance {tol} has a unit, which a plain number does not take (% is accepted)"
+        ),
+        ToleranceProblem::OverHundredPercent(absolute) => format!(
+            "the relative tolerance {tol} is over 100 %, so the range would cross zero: write such a range as an absolute tolerance, here {}",
+            echo(absolute)
+        ),
+    }
+}
+
+/// Values with a tolerance as a user would write them, relative and
+/// absolute: `"8 uC/m^2 ± 20 %" or "8 uC/m^2 ± 1.6 uC/m^2"`.
+fn tolerance_examples(dim: Dim) -> String {
+    if dim == Dim::SurfaceChargeDensity {
+        return "\"8 uC/m^2 ± 20 %\" or \"8 uC/m^2 ± 1.6 uC/m^2\"".to_owned();
+    }
+    let ex = dim.example();
+    match parse_impl(ex, dim, None) {
+        Ok(v) if dim != Dim::Percent => format!(
+            "\"{ex} ± 20 %\" or \"{ex} ± {}\"",
+            format_quantity(0.2 * v.abs(), dim)
+        ),
+        _ => format!("\"{ex} ± 20 %\""),
+    }
 }
 
 /// Quote text for a message, shortened to [`ECHO_LIMIT`] characters.
@@ -723,6 +852,12 @@ fn parse_impl(
         return Err(ParseQuantityError::Empty { dim });
     }
     let owned = || text.to_owned();
+    if !tolerance_signs(text).is_empty() {
+        return Err(ParseQuantityError::ToleranceNotAccepted {
+            input: owned(),
+            dim,
+        });
+    }
     if is_non_finite_word(text) {
         return Err(ParseQuantityError::NotFinite {
             input: owned(),
@@ -877,6 +1012,160 @@ pub fn parse_quantity_or(
     bare_unit_factor: f64,
 ) -> Result<f64, ParseQuantityError> {
     parse_impl(input, dim, Some(bare_unit_factor))
+}
+
+/// The tolerance written after a value, as [`parse_with_tolerance`] reads it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Tolerance {
+    /// A fraction of the value's magnitude [1]: `± 20 %` is `Relative(0.2)`;
+    /// from 0 to 1.
+    Relative(f64),
+    /// A half-width in the SI unit of the value's dimension (e.g. [C/m²]):
+    /// `± 500 nC/m^2` is `Absolute(5e-7)`; zero or more.
+    Absolute(f64),
+}
+
+impl Tolerance {
+    /// The absolute half-width δ of the range `nominal ± δ` [SI unit of the
+    /// value's dimension]:
+    ///
+    /// $$ \delta = p \cdot |x| \ \text{(relative)}, \qquad \delta = t \ \text{(absolute)} $$
+    ///
+    /// with $x$ the nominal value [SI unit], $p$ the fraction [1] and $t$ the
+    /// absolute half-width [SI unit]. Never negative for the values
+    /// [`parse_with_tolerance`] returns.
+    ///
+    /// ```
+    /// use websigma::units::Tolerance;
+    /// assert!((Tolerance::Relative(0.2).half_width(-8e-6) - 1.6e-6).abs() < 1e-18);
+    /// assert_eq!(Tolerance::Absolute(5e-7).half_width(8e-6), 5e-7);
+    /// ```
+    pub fn half_width(self, nominal: f64) -> f64 {
+        match self {
+            Tolerance::Relative(p) => p * nominal.abs(),
+            Tolerance::Absolute(t) => t,
+        }
+    }
+}
+
+/// Byte ranges of the tolerance signs in `text`: `±` (U+00B1) and its ASCII
+/// spelling `+-`.
+fn tolerance_signs(text: &str) -> Vec<(usize, usize)> {
+    let mut out = Vec::new();
+    let mut chars = text.char_indices().peekable();
+    while let Some((i, c)) = chars.next() {
+        if c == '\u{b1}' {
+            out.push((i, i + c.len_utf8()));
+        } else if c == '+' && chars.peek().is_some_and(|&(_, n)| n == '-') {
+            chars.next();
+            out.push((i, i + 2));
+        }
+    }
+    out
+}
+
+/// Parse a value of dimension `dim` that may carry a tolerance in the same
+/// text: `"8 uC/m^2 ± 20 %"` (relative: a percentage of the value's
+/// magnitude), `"2.5 uC/m^2 ± 500 nC/m^2"` (absolute: any accepted unit of
+/// the same dimension), with `+-` accepted for `±` and the spaces around it
+/// optional. Returns the value's SI value, as [`parse_quantity`] gives it,
+/// and the tolerance if one is written ([`Tolerance::half_width`] turns it
+/// into an absolute half-width). Without a `±` this is [`parse_quantity`].
+///
+/// A relative tolerance lies in 0 % to 100 %: above 100 % the range
+/// `x ± δ` would cross zero, which is to be written as an absolute
+/// tolerance. An absolute tolerance is zero or more, with no upper bound.
+/// For [`Dim::Percent`] values a `%` tolerance is read as relative.
+///
+/// # Errors
+///
+/// The errors of [`parse_quantity`] for the value before the `±` (echoing
+/// that part), and [`ParseQuantityError::BadTolerance`] for more than one
+/// `±`, an empty side, or a tolerance that is negative, non-finite, out of
+/// range, without unit, of another dimension, or relative above 100 %; its
+/// message names the problem and shows what would be accepted.
+///
+/// # Examples
+///
+/// ```
+/// use websigma::units::{parse_with_tolerance, Dim, Tolerance};
+///
+/// let d = Dim::SurfaceChargeDensity;
+/// let (sigma, tol) = parse_with_tolerance("8 uC/m^2 ± 20 %", d).unwrap();
+/// assert!((sigma - 8e-6).abs() < 1e-18);
+/// assert_eq!(tol, Some(Tolerance::Relative(0.2)));
+/// let (_, tol) = parse_with_tolerance("2.5 uC/m^2 +- 500 nC/m^2", d).unwrap();
+/// assert!(matches!(tol, Some(Tolerance::Absolute(t)) if (t - 5e-7).abs() < 1e-19));
+/// assert_eq!(parse_with_tolerance("8 uC/m^2", d).unwrap().1, None);
+/// assert!(parse_with_tolerance("8 uC/m^2 ± 3 kV", d).is_err());
+/// ```
+pub fn parse_with_tolerance(
+    input: &str,
+    dim: Dim,
+) -> Result<(f64, Option<Tolerance>), ParseQuantityError> {
+    let text = input.trim();
+    let signs = tolerance_signs(text);
+    let Some(&(start, end)) = signs.first() else {
+        return parse_impl(text, dim, None).map(|x| (x, None));
+    };
+    let bad = |tolerance: &str, problem| ParseQuantityError::BadTolerance {
+        input: text.to_owned(),
+        dim,
+        tolerance: tolerance.trim().to_owned(),
+        problem,
+    };
+    let (value_text, tol_text) = (
+        text.get(..start).unwrap_or("").trim(),
+        text.get(end..).unwrap_or("").trim(),
+    );
+    if signs.len() > 1 {
+        return Err(bad(tol_text, ToleranceProblem::TwoSigns));
+    }
+    if value_text.is_empty() {
+        return Err(bad(tol_text, ToleranceProblem::NoValue));
+    }
+    if tol_text.is_empty() {
+        return Err(bad(tol_text, ToleranceProblem::NoTolerance));
+    }
+    let value = parse_impl(value_text, dim, None)?;
+    let relative = tol_text.ends_with('%');
+    let tol_dim = if relative { Dim::Percent } else { dim };
+    let t = parse_impl(tol_text, tol_dim, None).map_err(|e| {
+        bad(
+            tol_text,
+            match e {
+                ParseQuantityError::NotFinite { .. } => ToleranceProblem::NotFinite,
+                ParseQuantityError::TooLarge { .. } | ParseQuantityError::TooSmall { .. } => {
+                    ToleranceProblem::OutOfRange
+                }
+                ParseQuantityError::MissingUnit { .. } => ToleranceProblem::MissingUnit,
+                ParseQuantityError::WrongDimension { got, .. } => {
+                    ToleranceProblem::WrongDimension(got)
+                }
+                ParseQuantityError::UnknownUnit { unit, .. } => ToleranceProblem::UnknownUnit(unit),
+                ParseQuantityError::UnexpectedUnit { .. } => ToleranceProblem::UnexpectedUnit,
+                ParseQuantityError::Empty { .. }
+                | ParseQuantityError::NotANumber { .. }
+                | ParseQuantityError::NotDecimal { .. }
+                | ParseQuantityError::ToleranceNotAccepted { .. }
+                | ParseQuantityError::BadTolerance { .. } => ToleranceProblem::NotANumber,
+            },
+        )
+    })?;
+    if t < 0.0 {
+        return Err(bad(tol_text, ToleranceProblem::Negative));
+    }
+    if !relative {
+        return Ok((value, Some(Tolerance::Absolute(t))));
+    }
+    if t > 1.0 {
+        let absolute = format!("{value_text} ± {}", format_quantity(t * value.abs(), dim));
+        return Err(bad(
+            tol_text,
+            ToleranceProblem::OverHundredPercent(absolute),
+        ));
+    }
+    Ok((value, Some(Tolerance::Relative(t))))
 }
 
 /// A point or a position `[x, y, z]` (or `[x, z]`) for messages: every
@@ -1588,6 +1877,183 @@ mod tests {
         assert_eq!(Dim::Energy.name(), "an energy");
     }
 
+    fn pt(input: &str) -> (f64, Option<Tolerance>) {
+        match parse_with_tolerance(input, Dim::SurfaceChargeDensity) {
+            Ok(v) => v,
+            Err(e) => panic!("{input:?} failed: {e}"),
+        }
+    }
+
+    fn tol_problem(input: &str) -> ToleranceProblem {
+        match parse_with_tolerance(input, Dim::SurfaceChargeDensity) {
+            Err(ParseQuantityError::BadTolerance { problem, .. }) => problem,
+            other => panic!("{input:?} gave {other:?}"),
+        }
+    }
+
+    /// Both spellings of ±, with and without spaces, give the same value and
+    /// tolerance: 8 µC/m² = 8e-6 C/m², 20 % = 0.2.
+    #[test]
+    fn tolerance_relative_both_spellings_spaces_optional() {
+        for s in [
+            "8 uC/m^2 ± 20 %",
+            "8 uC/m^2 +- 20 %",
+            "8 uC/m^2±20%",
+            "8uC/m^2+-20 %",
+            "  8 µC/m² ±   20%  ",
+        ] {
+            let (v, t) = pt(s);
+            assert_relative_eq!(v, 8e-6, max_relative = REL);
+            assert_eq!(t, Some(Tolerance::Relative(0.2)), "{s}");
+        }
+        // The half-width is 20 % of |σ| whatever the sign: 1.6 µC/m².
+        let (v, t) = pt("-8 uC/m^2 ± 20 %");
+        assert_relative_eq!(v, -8e-6, max_relative = REL);
+        let hw = t.map_or(f64::NAN, |t| t.half_width(v));
+        assert_relative_eq!(hw, 1.6e-6, max_relative = REL);
+        // 100 % is the widest relative tolerance (the range touches zero).
+        assert_eq!(pt("8 uC/m^2 ± 100 %").1, Some(Tolerance::Relative(1.0)));
+        assert_eq!(pt("8 uC/m^2 ± 0 %").1, Some(Tolerance::Relative(0.0)));
+    }
+
+    /// Absolute tolerances in any unit of the same dimension:
+    /// 500 nC/m² = 0.5 µC/m² = 0.05 nC/cm² = 5e-7 C/m².
+    #[test]
+    fn tolerance_absolute_any_unit_of_the_dimension() {
+        for s in [
+            "2.5 uC/m^2 ± 0.5 uC/m^2",
+            "2.5 uC/m^2 ± 500 nC/m^2",
+            "2.5 uC/m^2 +- 500 nC/m²",
+            "2.5 uC/m^2±0.05 nC/cm^2",
+            "2.5 uC/m^2 ± 5e-7 C/m^2",
+        ] {
+            let (v, t) = pt(s);
+            assert_relative_eq!(v, 2.5e-6, max_relative = REL);
+            match t {
+                Some(Tolerance::Absolute(a)) => assert_relative_eq!(a, 5e-7, max_relative = REL),
+                other => panic!("{s}: {other:?}"),
+            }
+            assert_relative_eq!(
+                t.map_or(f64::NAN, |t| t.half_width(v)),
+                5e-7,
+                max_relative = REL
+            );
+        }
+        // A bare zero is zero in every unit; the range may cross zero.
+        assert_eq!(pt("2 uC/m^2 ± 0").1, Some(Tolerance::Absolute(0.0)));
+        let (_, t) = pt("1 uC/m^2 ± 3 uC/m^2");
+        assert!(matches!(t, Some(Tolerance::Absolute(a)) if (a - 3e-6).abs() < 1e-18));
+        // The parser is general: a length with a tolerance in inches.
+        let r = parse_with_tolerance("120 mm ± 1 in", Dim::Length);
+        assert_eq!(r, Ok((0.12, Some(Tolerance::Absolute(0.0254)))));
+    }
+
+    #[test]
+    fn tolerance_absent_is_plain_parse() {
+        assert_eq!(pt("8 uC/m^2"), (8e-6, None));
+        assert_eq!(
+            parse_with_tolerance("8 kV", Dim::SurfaceChargeDensity),
+            parse_quantity("8 kV", Dim::SurfaceChargeDensity).map(|x| (x, None))
+        );
+    }
+
+    #[test]
+    fn tolerance_problems_are_named() {
+        use ToleranceProblem as P;
+        assert_eq!(tol_problem("8 uC/m^2 ± -20 %"), P::Negative);
+        assert_eq!(tol_problem("8 uC/m^2 ± -1 uC/m^2"), P::Negative);
+        assert_eq!(tol_problem("8 uC/m^2 ± NaN %"), P::NotFinite);
+        assert_eq!(tol_problem("8 uC/m^2 ± inf uC/m^2"), P::NotFinite);
+        assert_eq!(tol_problem("8 uC/m^2 ± 1e400 %"), P::OutOfRange);
+        assert_eq!(
+            tol_problem("8 uC/m^2 ± 3 kV"),
+            P::WrongDimension(Dim::Voltage)
+        );
+        assert_eq!(
+            tol_problem("8 uC/m^2 ± 2 mm"),
+            P::WrongDimension(Dim::Length)
+        );
+        assert_eq!(tol_problem("8 uC/m^2 ± 20 % ± 1 uC/m^2"), P::TwoSigns);
+        assert_eq!(tol_problem("8 uC/m^2 ± +- 20 %"), P::TwoSigns);
+        assert_eq!(tol_problem("± 20 %"), P::NoValue);
+        assert_eq!(tol_problem("8 uC/m^2 ±"), P::NoTolerance);
+        assert_eq!(tol_problem("8 uC/m^2 +-   "), P::NoTolerance);
+        assert_eq!(tol_problem("8 uC/m^2 ± 20"), P::MissingUnit);
+        assert_eq!(tol_problem("8 uC/m^2 ± abc"), P::NotANumber);
+        assert_eq!(
+            tol_problem("8 uC/m^2 ± 2 furlong"),
+            P::UnknownUnit("furlong".into())
+        );
+        // 150 % of 8 µC/m² is 12 µC/m²: the message offers that instead.
+        assert_eq!(
+            tol_problem("8 uC/m^2 ± 150 %"),
+            P::OverHundredPercent("8 uC/m^2 ± 12 µC/m²".into())
+        );
+        // The value before ± is judged as by parse_quantity.
+        assert!(matches!(
+            parse_with_tolerance("8 kV ± 20 %", Dim::SurfaceChargeDensity),
+            Err(ParseQuantityError::WrongDimension {
+                got: Dim::Voltage,
+                ..
+            })
+        ));
+    }
+
+    #[test]
+    fn tolerance_messages_say_what_is_accepted() {
+        let m = |s: &str| match parse_with_tolerance(s, Dim::SurfaceChargeDensity) {
+            Ok(v) => panic!("{s:?} unexpectedly gave {v:?}"),
+            Err(e) => e.to_string(),
+        };
+        assert_eq!(
+            m("8 uC/m^2 ± 3 kV"),
+            "\"8 uC/m^2 ± 3 kV\": the tolerance \"3 kV\" is a voltage, not a percentage or a \
+             surface charge density; expected a surface charge density with a tolerance after ±, \
+             relative in % or absolute in a unit of the same dimension, such as \
+             \"8 uC/m^2 ± 20 %\" or \"8 uC/m^2 ± 1.6 uC/m^2\""
+        );
+        let over = m("8 uC/m^2 ± 150 %");
+        assert!(over.contains("over 100 %"), "{over}");
+        assert!(
+            over.contains("absolute tolerance, here \"8 uC/m^2 ± 12 µC/m²\""),
+            "{over}"
+        );
+        assert!(m("8 uC/m^2 ± ± 2 %").contains("more than one ±"));
+        assert!(m("8 uC/m^2 ±").contains("nothing after the ±"));
+        assert!(m("+- 2 %").contains("nothing before the ±"));
+        assert!(m("8 uC/m^2 ± -2 %").contains("is negative"));
+        // Another dimension's examples are built from its own example.
+        let len = parse_with_tolerance("120 mm ± 2 kV", Dim::Length)
+            .map_err(|e| e.to_string())
+            .err()
+            .unwrap_or_default();
+        assert!(
+            len.ends_with("such as \"120 mm ± 20 %\" or \"120 mm ± 24 mm\""),
+            "{len}"
+        );
+    }
+
+    /// Every parser but `parse_with_tolerance` refuses a ± and says where
+    /// one is accepted.
+    #[test]
+    fn plain_parsers_refuse_tolerances() {
+        for s in ["120 mm ± 2 mm", "120 mm +- 2 mm", "120mm±2%", "±2 mm"] {
+            assert!(
+                matches!(
+                    parse_quantity(s, Dim::Length),
+                    Err(ParseQuantityError::ToleranceNotAccepted { .. })
+                ),
+                "{s}"
+            );
+            assert!(parse_quantity_or(s, Dim::Length, 1e-3).is_err(), "{s}");
+        }
+        assert_eq!(
+            msg("48 kV/m ± 5 %", Dim::Field),
+            "\"48 kV/m ± 5 %\" carries a tolerance (±), which only the densities of `charge:` \
+             entries (`sigma:`, `adds:`) accept: expected a field strength such as \"48 kV/m\" alone"
+        );
+    }
+
     fn dim_strategy() -> impl Strategy<Value = Dim> {
         proptest::sample::select(ALL_DIMS.to_vec())
     }
@@ -1611,6 +2077,25 @@ mod tests {
             if let Ok(v) = parse_quantity(&s, dim) {
                 prop_assert!(v.is_finite() && v.abs() <= MAX_MAGNITUDE);
             }
+        }
+
+        #[test]
+        fn parse_with_tolerance_never_panics(
+            s in "[-+ .0-9eE]{0,6}[ a-zA-Z%µ²^/]{0,6}(±|\\+-|\\+|-| )?[-+ .0-9eE]{0,6}[ a-zA-Z%µ²^/±]{0,8}",
+            dim in dim_strategy(),
+        ) {
+            if let Ok((v, t)) = parse_with_tolerance(&s, dim) {
+                prop_assert!(v.is_finite() && v.abs() <= MAX_MAGNITUDE);
+                if let Some(t) = t {
+                    let hw = t.half_width(v);
+                    prop_assert!(hw.is_finite() && hw >= 0.0, "{s:?}: {t:?}");
+                }
+            }
+        }
+
+        #[test]
+        fn parse_with_tolerance_never_panics_on_any_text(s in any::<String>(), dim in dim_strategy()) {
+            let _ = parse_with_tolerance(&s, dim).map_err(|e| e.to_string());
         }
 
         #[test]

@@ -1,7 +1,8 @@
 //! Input a practitioner types and the outputs that keep it: wrap directions
 //! that are likely wrong, readings shown as recorded (with their instrument
 //! and conditions), the planned line written with rounded values, the plan
-//! as CSV, and point files with bad rows.
+//! as CSV, point files with bad rows, and tolerances on `charge:` entries
+//! (kept as a half-width, refused elsewhere, kept by `plan --apply`).
 
 use crate::util::{SMALL_LINE, temp_yaml, websigma};
 use predicates::prelude::*;
@@ -550,4 +551,177 @@ fn apply_to_yaml_ends_with_a_newline() {
     assert!(out.contains("position: 333 mm, distance: 40 mm"), "{out}");
     let applied = parse_line(&out).unwrap();
     assert!((applied.eliminators[0].along - 0.333).abs() < 1e-12);
+}
+
+/// `SMALL_LINE` with its `charge:` entry's density written as `sigma`.
+fn small_line_sigma(sigma: &str) -> String {
+    let line = SMALL_LINE.replace("sigma: 5 uC/m^2", &format!("sigma: {sigma}"));
+    assert_ne!(line, SMALL_LINE);
+    line
+}
+
+/// A tolerance on a `charge:` entry is kept as an absolute half-width in
+/// C/m²: 20 % of 5 µC/m² is 1 µC/m² = 1e-6 C/m²; 500 nC/m² is 5e-7 C/m²;
+/// none written is 0. `check` shows it with its unit.
+#[test]
+fn a_tolerance_on_a_charge_entry_becomes_a_half_width_in_c_per_m2() {
+    for spelling in ["5 uC/m^2 ± 20 %", "5 uC/m^2 +- 20 %", "5 uC/m^2±20%"] {
+        let line = parse_line(&small_line_sigma(spelling)).unwrap_or_else(|e| panic!("{e}"));
+        let c = &line.charge[0];
+        assert!((c.sigma - 5e-6).abs() < 1e-18, "{spelling}: {}", c.sigma);
+        assert!(
+            (c.tolerance - 0.2 * c.sigma.abs()).abs() < 1e-18,
+            "{spelling}: {}",
+            c.tolerance
+        );
+        assert!((c.tolerance - 1e-6).abs() < 1e-18);
+    }
+    let text = small_line_sigma("5 uC/m^2\n  - at: A\n    adds: -2 uC/m^2 ± 500 nC/m^2");
+    let line = parse_line(&text).unwrap_or_else(|e| panic!("{e}"));
+    let adds = line.charge.iter().find(|c| c.at == "A").unwrap();
+    assert!((adds.sigma + 2e-6).abs() < 1e-18);
+    assert!((adds.tolerance - 5e-7).abs() < 1e-19, "{}", adds.tolerance);
+    assert_eq!(parse_line(SMALL_LINE).unwrap().charge[0].tolerance, 0.0);
+
+    let (_d, p) = temp_yaml(&small_line_sigma("5 uC/m^2 ± 20 %"));
+    websigma()
+        .arg("check")
+        .arg(&p)
+        .args(["--conductors", "off"])
+        .assert()
+        .code(0)
+        .stdout(predicate::str::contains(
+            "charge: sets 5 µC/m² ± 1 µC/m² leaving start",
+        ));
+    // Without a tolerance the line is as before.
+    let (_d, p) = temp_yaml(SMALL_LINE);
+    websigma()
+        .arg("check")
+        .arg(&p)
+        .args(["--conductors", "off"])
+        .assert()
+        .code(0)
+        .stdout(predicate::str::contains(
+            "charge: sets 5 µC/m² leaving start\n",
+        ));
+}
+
+/// Each bad tolerance is an input error (exit 2) at its YAML path, saying
+/// what is wrong and what would be accepted.
+#[test]
+fn bad_tolerances_exit_2_at_their_yaml_path() {
+    let accepted = "such as \"8 uC/m^2 ± 20 %\" or \"8 uC/m^2 ± 1.6 uC/m^2\"";
+    let cases = [
+        ("5 uC/m^2 ± -20 %", "is negative"),
+        ("5 uC/m^2 ± -1 uC/m^2", "is negative"),
+        ("5 uC/m^2 ± .nan %", "is not a finite number"),
+        ("5 uC/m^2 ± inf uC/m^2", "is not a finite number"),
+        ("5 uC/m^2 ± 3 kV", "the tolerance \"3 kV\" is a voltage"),
+        ("5 uC/m^2 ± 20 % ± 1 uC/m^2", "more than one ±"),
+        ("5 uC/m^2 +- 20 % +- 1 uC/m^2", "more than one ±"),
+        ("± 20 %", "nothing before the ±"),
+        ("5 uC/m^2 ±", "nothing after the ±"),
+        ("5 uC/m^2 ± 20", "has no unit"),
+        (
+            "5 uC/m^2 ± 150 %",
+            "over 100 %, so the range would cross zero: write such a range as an absolute tolerance, here \"5 uC/m^2 ± 7.5 µC/m²\"",
+        ),
+    ];
+    for (value, why) in cases {
+        let (_d, p) = temp_yaml(&small_line_sigma(&format!("\"{value}\"")));
+        websigma()
+            .arg("check")
+            .arg(&p)
+            .assert()
+            .code(2)
+            .stderr(predicate::str::contains(format!(
+                "charge[0].sigma: \"{value}\": "
+            )))
+            .stderr(predicate::str::contains(why))
+            .stderr(predicate::str::contains(accepted));
+    }
+    // On `adds:`, at its own path; a tolerance beyond what air can hold is
+    // a unit error.
+    let text = small_line_sigma("5 uC/m^2\n  - at: A\n    adds: 1 uC/m^2 ± 5 mC/m^2");
+    let (_d, p) = temp_yaml(&text);
+    websigma()
+        .arg("check")
+        .arg(&p)
+        .assert()
+        .code(2)
+        .stderr(predicate::str::contains(
+            "charge[1].adds: the tolerance ± 5 mC/m² is about",
+        ))
+        .stderr(predicate::str::contains("likely a unit error"));
+}
+
+/// Other quantities keep refusing a ±, at their path, saying where one is
+/// accepted; a reading points to the meter's accuracy.
+#[test]
+fn other_quantities_refuse_a_tolerance() {
+    let roller = SMALL_LINE.replacen("diameter: 100 mm,", "diameter: 100 mm ± 1 mm,", 1);
+    let reading = format!(
+        "{SMALL_LINE}readings:\n  - {{id: R1, span: S2, position: 50 %, distance: 30 mm, side: above, reading: 150 kV/m +- 5 %}}\n"
+    );
+    for (text, path, extra) in [
+        (
+            roller,
+            "rollers[0].diameter: \"100 mm ± 1 mm\"",
+            "expected a length such as \"120 mm\" alone",
+        ),
+        (
+            reading,
+            "readings[0].reading: \"150 kV/m +- 5 %\"",
+            "`meter.accuracy`",
+        ),
+    ] {
+        let (_d, p) = temp_yaml(&text);
+        websigma()
+            .arg("check")
+            .arg(&p)
+            .assert()
+            .code(2)
+            .stderr(predicate::str::contains(path))
+            .stderr(predicate::str::contains(
+                "carries a tolerance (±), which only the densities of `charge:` entries",
+            ))
+            .stderr(predicate::str::contains(extra));
+    }
+}
+
+/// `plan --apply` with readings rewrites the `charge:` block: an entry the
+/// readings do not replace keeps its tolerance (0.5 µC/m² here), the fitted
+/// entry has none.
+#[test]
+fn applied_plan_keeps_the_tolerance_of_an_entry_it_does_not_fit() {
+    let text = format!(
+        "{}readings:\n  - {{id: R1, span: S1, position: 40 %, distance: 30 mm, side: above, reading: 150 kV/m}}\n",
+        PLAN_LINE.replace(
+            "    sigma: 4 uC/m^2\n",
+            "    sigma: 4 uC/m^2 ± 20 %\n  - at: A\n    adds: 1 uC/m^2 ± 500 nC/m^2\n"
+        )
+    );
+    assert!(text.contains("adds:"));
+    let (d, p) = temp_yaml(&text);
+    let out = d.path().join("planned.yaml");
+    let run = websigma()
+        .arg("plan")
+        .arg(&p)
+        .args(["--spacing", "500 mm", "--conductors", "off", "--apply"])
+        .arg(&out)
+        .output()
+        .unwrap();
+    assert!(
+        matches!(run.status.code(), Some(0 | 1)),
+        "{}",
+        String::from_utf8_lossy(&run.stderr)
+    );
+    let planned = std::fs::read_to_string(&out).unwrap();
+    let tail = &planned[planned.find("\ncharge:   # fitted").expect(&planned)..];
+    assert!(tail.contains("adds: 1 uC/m^2 ± 0.5 uC/m^2\n"), "{tail}");
+    let applied = parse_line(&planned).unwrap_or_else(|e| panic!("{e}\n{planned}"));
+    let kept = applied.charge.iter().find(|c| c.at == "A").unwrap();
+    assert!((kept.tolerance - 5e-7).abs() < 1e-19, "{}", kept.tolerance);
+    let fitted = applied.charge.iter().find(|c| c.at == "start").unwrap();
+    assert_eq!(fitted.tolerance, 0.0);
 }

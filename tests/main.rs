@@ -14,7 +14,8 @@
 //! - `pipeline`: one scene per command, the demo unchanged by reshaping;
 //! - `conductor_views`: conductors in the planner, the meter warnings and the side view;
 //! - `inputs`: likely wrong wrap directions, readings as recorded, the planned
-//!   line's rounding, the plan as CSV, point files with bad rows;
+//!   line's rounding, the plan as CSV, point files with bad rows, tolerances
+//!   on `charge:` entries;
 //! - `plots`: the demo's pictures on what they draw (legend, labels, limits);
 //! - `findings_terms`: findings in their sources' terms, units, order;
 //! - `mutations`: mutated demo lines through `check` and `assess`;

@@ -51,6 +51,7 @@ mod tests {
             s,
             mode,
             sigma,
+            tolerance: 0.0,
             yaml_path: String::new(),
         }
     }

@@ -240,6 +240,11 @@ pub struct ChargeEntry {
     pub mode: ChargeMode,
     /// Centreline density [C/m²].
     pub sigma: CoulombsPerSquareMeter,
+    /// Tolerance of `sigma` as an absolute half-width δ ≥ 0 [C/m²]: the
+    /// density lies in `sigma ± tolerance`. Written after the density
+    /// (`8 uC/m^2 ± 20 %` gives δ = 0.2·|σ|, `8 uC/m^2 ± 1.6 uC/m^2` gives
+    /// δ = 1.6 µC/m²); 0 when none is given.
+    pub tolerance: CoulombsPerSquareMeter,
     /// YAML path of the entry, for messages.
     pub yaml_path: String,
 }

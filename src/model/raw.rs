@@ -330,9 +330,11 @@ pub struct RawAcross {
 pub struct RawCharge {
     /// A node id or `start`.
     pub at: Option<Scalar>,
-    /// Sets the centreline density leaving the node.
+    /// Sets the centreline density leaving the node, optionally with a
+    /// tolerance (`8 uC/m^2 ± 20 %`).
     pub sigma: Option<Scalar>,
-    /// Adds to the centreline density leaving the node.
+    /// Adds to the centreline density leaving the node, optionally with a
+    /// tolerance (`2.5 uC/m^2 ± 0.5 uC/m^2`).
     pub adds: Option<Scalar>,
 }
 

@@ -14,7 +14,9 @@ use super::path::{self, Earthing, NodeKind, NodeSpec, ROLLER_LENGTH_MARGIN, Roll
 use super::raw::{RawLine, RawReading, Scalar};
 use super::*;
 use crate::physics::isolated_sheet_limit;
-use crate::units::{Dim, EPS0, parse_quantity};
+use crate::units::{
+    Dim, EPS0, ParseQuantityError, Tolerance, parse_quantity, parse_with_tolerance,
+};
 
 /// A length for a message (4 significant digits, SI prefix).
 fn len_text(x: f64) -> String {
@@ -121,6 +123,32 @@ impl Ctx {
         match parse_quantity(v.as_str(), dim) {
             Ok(x) => match out_of_plant(x, dim) {
                 None => Some(x),
+                Some(why) => {
+                    self.err(path, why);
+                    None
+                }
+            },
+            Err(e @ ParseQuantityError::ToleranceNotAccepted { .. })
+                if path.starts_with("readings[") =>
+            {
+                self.err(
+                    path,
+                    format!("{e}; the readings' uncertainty is given once for the meter, by `meter.accuracy` and `meter.offset`"),
+                );
+                None
+            }
+            Err(e) => {
+                self.err(path, e.to_string());
+                None
+            }
+        }
+    }
+    /// A value that may carry a tolerance (`8 uC/m^2 ± 20 %`), see
+    /// [`parse_with_tolerance`].
+    fn qty_tol(&mut self, v: &Scalar, dim: Dim, path: &str) -> Option<(f64, Option<Tolerance>)> {
+        match parse_with_tolerance(v.as_str(), dim) {
+            Ok((x, t)) => match out_of_plant(x, dim) {
+                None => Some((x, t)),
                 Some(why) => {
                     self.err(path, why);
                     None
@@ -975,9 +1003,23 @@ fn validate_charge(
                 continue;
             }
         };
-        let Some(sigma) = ctx.qty(value, Dim::SurfaceChargeDensity, &format!("{p}.{key}")) else {
+        let Some((sigma, tol)) =
+            ctx.qty_tol(value, Dim::SurfaceChargeDensity, &format!("{p}.{key}"))
+        else {
             continue;
         };
+        let tolerance = tol.map_or(0.0, |t| t.half_width(sigma));
+        if tolerance > ABSURD_SIGMA {
+            ctx.err(
+                format!("{p}.{key}"),
+                format!(
+                    "the tolerance ± {} is about {} times what air can hold on a sheet (2·ε0·Eb ≈ 53 µC/m²): likely a unit error — write it in the density's unit, such as \"8 uC/m^2 ± 1.6 uC/m^2\", or as a percentage, such as \"8 uC/m^2 ± 20 %\"",
+                    crate::units::format_quantity(tolerance, Dim::SurfaceChargeDensity),
+                    crate::units::format_quantity(tolerance / isolated_sheet_limit(), Dim::Number)
+                ),
+            );
+            continue;
+        }
         if sigma.abs() > ABSURD_SIGMA {
             ctx.err(
                 format!("{p}.{key}"),
@@ -1012,6 +1054,7 @@ fn validate_charge(
                 s,
                 mode,
                 sigma,
+                tolerance,
                 yaml_path: format!("{p}.{key}"),
             });
         }

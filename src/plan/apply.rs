@@ -53,6 +53,8 @@ pub fn planning_line(line: &Line, scene: &Scene) -> Result<Line, PlanError> {
             } else {
                 fit.fitted - carried
             },
+            // The fitted density's uncertainty comes from the readings.
+            tolerance: 0.0,
             yaml_path: String::new(),
         });
     }
@@ -223,8 +225,14 @@ pub fn apply_to_yaml(
                 ChargeMode::Set => "sigma",
                 ChargeMode::Add => "adds",
             };
+            // An entry kept from the user's file keeps its tolerance.
+            let tolerance = if c.tolerance > 0.0 {
+                format!(" ± {} uC/m^2", sig(c.tolerance * 1e6))
+            } else {
+                String::new()
+            };
             tail.push_str(&format!(
-                "  - at: {at}\n    {key}: {} uC/m^2\n",
+                "  - at: {at}\n    {key}: {} uC/m^2{tolerance}\n",
                 sig(c.sigma * 1e6)
             ));
         }

@@ -85,12 +85,20 @@ pub fn summary(line: &Line, charge: &ChargeProfile) -> String {
     }
     for c in &line.charge {
         s.push_str(&format!(
-            "charge: {} {} leaving {}\n",
+            "charge: {} {}{} leaving {}\n",
             match c.mode {
                 ChargeMode::Set => "sets",
                 ChargeMode::Add => "adds",
             },
             format_quantity(c.sigma, Dim::SurfaceChargeDensity),
+            if c.tolerance > 0.0 {
+                format!(
+                    " ± {}",
+                    format_quantity(c.tolerance, Dim::SurfaceChargeDensity)
+                )
+            } else {
+                String::new()
+            },
             c.at
         ));
     }
