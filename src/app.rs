@@ -370,6 +370,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
         charge,
         points,
         assessment,
+        uncertainty,
     } = analysis.evaluation;
     print_reading_warnings(&readings);
     let model = scene.web(&charge);
@@ -385,7 +386,7 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     )?;
     let mut plan_section = None;
     if let Some(n) = job.plan
-        && assessment.verdict == crate::assess::Verdict::Fail
+        && assessment.verdict.exceeds()
     {
         // The `plan` command's defaults, asking what `plan --max-bars N`
         // asks: one planner, one answer.
@@ -423,6 +424,8 @@ fn run_assessment(job: AssessJob<'_>) -> Result<AssessRun> {
     report.conductors = model.conductor_results()?;
     let places: Vec<[f64; 3]> = line.points.iter().map(|p| p.at).collect();
     report.conductor_accuracy = model.conductor_accuracy(&places)?;
+    report.uncertainty = uncertainty;
+    report.plots.extend(pictures::sensitivity_plot(&report)?);
     let dir = folder::write_report(job.out, &mut report)?;
     Ok(AssessRun {
         dir,
@@ -457,7 +460,7 @@ fn assess_cmd(a: &AssessArgs) -> Result<Outcome> {
         plan,
     })?;
     print(&assessment_text::assessment_text(&line, &assessment, &dir))?;
-    Ok(outcome(assessment.verdict == crate::assess::Verdict::Fail))
+    Ok(outcome(assessment.verdict.exceeds()))
 }
 
 /// Converts the plan command line into checked planner settings.

@@ -58,6 +58,7 @@ pub mod read;
 pub mod readings;
 pub mod report;
 pub mod safe_text;
+pub mod uncertainty;
 pub mod units;
 pub mod yaml;
 

@@ -1,6 +1,7 @@
 //! # The pipeline in one place
 //!
-//! `Line → Scene → ChargeProfile (readings fitted) → FieldMap → Assessment`.
+//! `Line → Scene → ChargeProfile (readings fitted) → FieldMap → Assessment
+//! → Uncertainty` (every finding's range over the inputs' tolerances).
 //! [`analyse`] builds the line's [`Scene`] once and runs every stage through
 //! it; [`evaluate`] runs the stages in a scene already built, for variants
 //! of the line that share its geometry (the planner's placements). The
@@ -13,6 +14,7 @@ use crate::charge::ChargeProfile;
 use crate::field::{FieldError, FieldMap, Scene, SolverSettings};
 use crate::model::Line;
 use crate::readings::{ReadingsError, ReadingsResult, invert_readings};
+use crate::uncertainty::Uncertainty;
 
 /// Checked settings of a whole analysis.
 #[derive(Debug, Clone, Copy, PartialEq, Default)]
@@ -50,8 +52,12 @@ pub struct Evaluation {
     /// Field and potential at every place of interest, with per-span
     /// contributions, in `line.points` order.
     pub points: FieldMap,
-    /// Findings against every rule in force.
+    /// Findings against every rule in force, each with its range over the
+    /// uncertain inputs once [`analyse`] has bounded them.
     pub assessment: Assessment,
+    /// The uncertain inputs and the ranges at the places of interest
+    /// (empty from [`evaluate`], which leaves every range a point).
+    pub uncertainty: Uncertainty,
 }
 
 /// A line's scene and its evaluation.
@@ -71,7 +77,16 @@ pub fn analyse(
     settings: &Settings,
 ) -> Result<Analysis, PipelineError> {
     let scene = Scene::new(line, settings.solver)?;
-    let evaluation = evaluate(&scene, line, profiles)?;
+    let mut evaluation = evaluate(&scene, line, profiles)?;
+    evaluation.uncertainty = crate::uncertainty::bound(
+        &scene,
+        line,
+        profiles,
+        &evaluation.readings,
+        &evaluation.charge,
+        &evaluation.points,
+        &mut evaluation.assessment,
+    )?;
     Ok(Analysis { scene, evaluation })
 }
 
@@ -117,5 +132,6 @@ pub fn evaluate(
         charge,
         points,
         assessment,
+        uncertainty: Uncertainty::default(),
     })
 }

@@ -54,5 +54,6 @@ mod readings;
 mod readings_nonlinear;
 mod reports;
 mod solver;
+mod uncertainty;
 mod util;
 mod validation;

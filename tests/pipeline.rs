@@ -147,6 +147,41 @@ fn r8_demo_line_results_match_the_copy_stored_before_the_scene() {
     assert!(compared >= 20, "{compared} findings compared");
     findings(&mut got);
     findings(&mut stored);
+    // The ranges over the inputs' tolerances are new information (issue
+    // #14): each holds its nominal value; the nominal values are compared.
+    for k in ["uncertain", "inputs"] {
+        assert!(got.as_object_mut().unwrap().remove(k).is_some(), "{k}");
+    }
+    for list in ["points", "spans"] {
+        for item in got[list].as_array_mut().unwrap() {
+            let item = item.as_object_mut().unwrap();
+            let ranged: Vec<String> = item
+                .keys()
+                .filter(|k| k.ends_with("_low"))
+                .map(|k| k.trim_end_matches("_low").to_string())
+                .collect();
+            assert!(!ranged.is_empty(), "{list}: no range");
+            for base in ranged {
+                let (lo, hi) = (
+                    item[&format!("{base}_low")].clone(),
+                    item[&format!("{base}_high")].clone(),
+                );
+                if let (Some(v), Some(lo), Some(hi)) = (
+                    item.get(&base).and_then(|v| v.as_f64()),
+                    lo.as_f64(),
+                    hi.as_f64(),
+                ) {
+                    let slack = 1e-12 * v.abs();
+                    assert!(
+                        lo - slack <= v && v <= hi + slack,
+                        "{list}.{base}: {v} outside [{lo}, {hi}]"
+                    );
+                }
+                item.remove(&format!("{base}_low"));
+                item.remove(&format!("{base}_high"));
+            }
+        }
+    }
     // Each span's worst meter reading is new information (issue #10).
     for sp in got["spans"].as_array_mut().unwrap() {
         let sp = sp.as_object_mut().unwrap();

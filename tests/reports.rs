@@ -61,6 +61,7 @@ struct Pipeline {
     scene: Scene,
     points: FieldMap,
     assessment: websigma::assess::Assessment,
+    uncertainty: websigma::uncertainty::Uncertainty,
 }
 
 fn pipeline(line: &websigma::model::Line) -> Pipeline {
@@ -82,6 +83,7 @@ fn pipeline_with(line: &websigma::model::Line, solver: SolverSettings) -> Pipeli
         charge,
         points,
         assessment,
+        uncertainty,
     } = evaluation;
     Pipeline {
         profiles,
@@ -90,6 +92,7 @@ fn pipeline_with(line: &websigma::model::Line, solver: SolverSettings) -> Pipeli
         scene,
         points,
         assessment,
+        uncertainty,
     }
 }
 
@@ -101,12 +104,13 @@ fn report() -> Report {
         charge,
         points,
         assessment: a,
+        uncertainty,
         ..
     } = pipeline(&line);
     let now = chrono::DateTime::parse_from_rfc3339("2026-01-02T03:04:05Z")
         .unwrap()
         .with_timezone(&chrono::Utc);
-    build_report(
+    let mut r = build_report(
         &line,
         "zone_line.yaml",
         ZONE_LINE,
@@ -118,7 +122,9 @@ fn report() -> Report {
         SolverSettings::default(),
         Vec::new(),
         now,
-    )
+    );
+    r.uncertainty = uncertainty;
+    r
 }
 
 /// Replaces SHA-256 hex strings and the tool version, which change without
@@ -227,6 +233,7 @@ fn html_has_every_section_and_no_external_reference() {
         "Inputs",
         "Results",
         "Findings",
+        "Uncertainty",
         "Span contributions at the worst points",
         "Plots",
         "Recommendations",
@@ -244,7 +251,10 @@ fn html_has_every_section_and_no_external_reference() {
     for bad in ["http://", "https://", "<script", "<link", "@import", "url("] {
         assert!(!html.contains(bad), "external reference {bad}");
     }
-    assert_eq!(html.matches("src=\"data:image/png;base64,").count(), 3);
+    // Side view, field map, charge along the path, and the sensitivity of
+    // the worst findings (the line's reading gives them ranges).
+    assert_eq!(html.matches("src=\"data:image/png;base64,").count(), 4);
+    assert!(dirs[0].join("sensitivity.png").is_file());
     // Every file the manifest lists exists with that hash.
     let m: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(dirs[0].join("manifest.json")).unwrap())
@@ -382,8 +392,9 @@ fn sample_pictures_are_current() {
         readings,
         charge,
         scene,
+        points,
         assessment: a,
-        ..
+        uncertainty,
     } = pipeline_with(&line, SolverSettings::default().with_default_conductors());
     let model = scene.web(&charge);
     // The demo's own resolution, so the sample is exactly what `demo` writes.
@@ -397,11 +408,30 @@ fn sample_pictures_are_current() {
         websigma::app::DEMO_MAP_RESOLUTION,
     )
     .unwrap();
-    let pictures: Vec<(String, Vec<u8>)> = plots
+    let mut pictures: Vec<(String, Vec<u8>)> = plots
         .into_iter()
         .filter(|p| p.file != "charge_along_path.png")
         .map(|p| (p.file, p.png))
         .collect();
+    // The sensitivity of the demo's worst findings to its readings.
+    let mut r = build_report(
+        &line,
+        "demo.yaml",
+        websigma::DEMO_LINE,
+        &charge,
+        &readings,
+        &points,
+        &a,
+        &profiles,
+        SolverSettings::default().with_default_conductors(),
+        Vec::new(),
+        chrono::Utc::now(),
+    );
+    r.uncertainty = uncertainty;
+    let sens = websigma::report::pictures::sensitivity_plot(&r)
+        .unwrap()
+        .expect("the demo's findings have ranges");
+    pictures.push((sens.file, sens.png));
     let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("reports/sample");
     for (name, bytes) in pictures {
         let path = dir.join(name);

@@ -159,6 +159,7 @@ fn finding(
         fail,
         margin: value / limit,
         verdict,
+        bounds: super::Bounds::exact(value),
         source: rule.source.clone(),
         confidence: rule.confidence,
         notes: vec![note],

@@ -10,13 +10,17 @@ use crate::units::{Dim, Farads, Joules, Meters, Volts, VoltsPerMeter};
 use std::fmt;
 use std::sync::Arc;
 
-/// Outcome of one rule for one subject; ordered pass < warn < fail.
+/// Outcome of one rule for one subject; ordered pass < warn < uncertain <
+/// fail.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub enum Verdict {
     /// Below every limit.
     Pass,
     /// At or above the warning limit, below the failure limit.
     Warn,
+    /// The value's range straddles the failure limit (see
+    /// [`super::bounds::judge`]): counted as a failure for the exit code.
+    Uncertain,
     /// At or above the failure limit.
     Fail,
 }
@@ -27,8 +31,15 @@ impl Verdict {
         match self {
             Verdict::Pass => "pass",
             Verdict::Warn => "warn",
+            Verdict::Uncertain => "uncertain",
             Verdict::Fail => "fail",
         }
+    }
+
+    /// Whether the verdict counts as exceeding a limit (fail, or uncertain:
+    /// it may exceed it).
+    pub fn exceeds(self) -> bool {
+        self >= Verdict::Uncertain
     }
 }
 
@@ -352,8 +363,10 @@ pub struct Finding {
     pub fail: Option<f64>,
     /// value ÷ limit [1]: above 1 the governing limit is exceeded.
     pub margin: f64,
-    /// The verdict.
+    /// The verdict (of the value's range, see [`super::bounds::judge`]).
     pub verdict: Verdict,
+    /// The value's range over the uncertain inputs, in the value's unit.
+    pub bounds: super::bounds::Bounds,
     /// Where the limit comes from (the rule's own text).
     pub source: Arc<str>,
     /// How sure the source is.
@@ -374,12 +387,21 @@ pub struct VerdictCounts {
     pub warn: usize,
     /// Failures.
     pub fail: usize,
+    /// Findings whose range straddles the failure limit.
+    pub uncertain: usize,
 }
 
 impl VerdictCounts {
-    /// The counts indexed by `Verdict as usize`: `[pass, warn, fail]`.
-    pub fn as_array(self) -> [usize; 3] {
-        [self.pass, self.warn, self.fail]
+    /// `[pass, warn, fail + uncertain]`: an uncertain finding counted as a
+    /// failure (the planner's and the exit code's rule).
+    pub fn pass_warn_exceeding(self) -> [usize; 3] {
+        [self.pass, self.warn, self.fail + self.uncertain]
+    }
+
+    /// The counts indexed by `Verdict as usize`: `[pass, warn, uncertain,
+    /// fail]`.
+    pub fn as_array(self) -> [usize; 4] {
+        [self.pass, self.warn, self.uncertain, self.fail]
     }
 }
 
@@ -402,6 +424,7 @@ impl Assessment {
             match f.verdict {
                 Verdict::Pass => c.pass += 1,
                 Verdict::Warn => c.warn += 1,
+                Verdict::Uncertain => c.uncertain += 1,
                 Verdict::Fail => c.fail += 1,
             }
         }

@@ -164,6 +164,7 @@
 //!   ESD-sensitive items.
 //! - The limits themselves: the profiles under `profiles/thresholds/`.
 
+pub mod bounds;
 pub mod eliminators;
 mod finding;
 pub mod gap;
@@ -172,6 +173,7 @@ pub mod profile;
 pub mod readings_fit;
 mod rules;
 
+pub use bounds::{BoundBasis, Bounds, Share, judge};
 pub use finding::{
     Assessment, Assumption, Finding, FindingNote, GapBreakdown, HeightBasis, RollerCapacitance,
     SolvedConductor, Subject, SubjectKind, Verdict, VerdictCounts,
@@ -436,16 +438,23 @@ mod counts_tests {
     fn counts_each_verdict_once() {
         let mut a = assessment();
         let first = a.findings.first().cloned().expect("the air limit applies");
-        a.findings = [Verdict::Fail, Verdict::Warn, Verdict::Pass, Verdict::Warn]
-            .into_iter()
-            .map(|v| Finding {
-                verdict: v,
-                ..first.clone()
-            })
-            .collect();
+        a.findings = [
+            Verdict::Fail,
+            Verdict::Warn,
+            Verdict::Pass,
+            Verdict::Uncertain,
+            Verdict::Warn,
+        ]
+        .into_iter()
+        .map(|v| Finding {
+            verdict: v,
+            ..first.clone()
+        })
+        .collect();
         let c = a.counts();
-        assert_eq!((c.pass, c.warn, c.fail), (1, 2, 1));
-        assert_eq!(c.as_array(), [1, 2, 1]);
+        assert_eq!((c.pass, c.warn, c.uncertain, c.fail), (1, 2, 1, 1));
+        assert_eq!(c.as_array(), [1, 2, 1, 1]);
+        assert_eq!(c.pass_warn_exceeding(), [1, 2, 2]);
         a.findings.clear();
         assert_eq!(a.counts(), VerdictCounts::default());
     }
@@ -454,7 +463,7 @@ mod counts_tests {
     fn counts_add_up_to_the_findings() {
         let a = assessment();
         let c = a.counts();
-        assert_eq!(c.pass + c.warn + c.fail, a.findings.len());
+        assert_eq!(c.pass + c.warn + c.uncertain + c.fail, a.findings.len());
         assert_eq!(c.fail > 0, a.verdict == Verdict::Fail);
     }
 }

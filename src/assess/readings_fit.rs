@@ -78,6 +78,10 @@ pub fn reading_fit_findings(line: &Line, r: &ReadingsResult) -> Vec<Finding> {
                 fail: Some(1.0),
                 margin: value,
                 verdict,
+                bounds: super::Bounds {
+                    basis: super::BoundBasis::ReadingsCheck,
+                    ..super::Bounds::exact(value)
+                },
                 source: SOURCE.clone(),
                 confidence: Confidence::Derived,
                 notes: vec![FindingNote::ReadingFit {

@@ -71,7 +71,7 @@
 //! Superposition (Coulomb's law); bar models and placement rules: K.
 //! Robinson, PFFC "Static Beat" (FACTS.md "Static eliminators").
 
-use crate::assess::{Assessment, Finding, Subject, ThresholdProfile, Verdict};
+use crate::assess::{Assessment, Finding, Subject, ThresholdProfile};
 use crate::field::{FieldError, Scene};
 use crate::model::{EliminatorKind, Line, NodeKind, Side};
 use crate::units::{Dim, Meters};
@@ -147,7 +147,8 @@ pub struct PlanOption {
     /// For each bar of `bars`, the sides it may take with the same score
     /// (the plan holds every combination; its own side first).
     pub sides: Vec<Vec<Side>>,
-    /// Findings by verdict: pass, warn, fail.
+    /// Findings by verdict: pass, warn, fail (uncertain ones counted as
+    /// failing).
     pub counts: [usize; 3],
     /// The largest margin over every finding.
     pub worst_margin: f64,
@@ -550,7 +551,7 @@ pub fn plan(
                 PlanOption {
                     bars: m.bars,
                     sides: m.sides,
-                    counts: a.counts().as_array(),
+                    counts: a.counts().pass_warn_exceeding(),
                     worst_margin: a.worst_margin(),
                     assessment: a,
                     placed,
@@ -576,7 +577,7 @@ pub fn plan(
                 .assessment
                 .findings
                 .iter()
-                .filter(|f| f.verdict == Verdict::Fail)
+                .filter(|f| f.verdict.exceeds())
                 .map(finding_ref)
                 .collect();
             PlanOutcome::NoPass {
@@ -653,9 +654,7 @@ fn dead_end(
     let blockers = a
         .findings
         .iter()
-        .filter(|f| {
-            f.verdict == Verdict::Fail && &*f.profile != crate::assess::eliminators::PROFILE
-        })
+        .filter(|f| f.verdict.exceeds() && &*f.profile != crate::assess::eliminators::PROFILE)
         .map(|f| Blocker {
             finding: finding_ref(f),
             value: f.value,

@@ -50,18 +50,24 @@ pub fn summary_table(line: &Line, a: &Assessment, max_rows: usize) -> String {
 }
 
 /// What `assess` and `demo` print after the run: the line's title, the
-/// first 25 findings, the verdict with its counts, the report folder `dir`
-/// and the cautions.
+/// first 25 findings (values with their ranges), the verdict with its
+/// counts, the report folder `dir` and the cautions.
 pub fn assessment_text(line: &Line, a: &Assessment, dir: &Path) -> String {
     let n = a.counts();
     format!(
-        "{}\n{}\n\nverdict: {} ({} fail, {} warn, {} pass)\nreport: {}\n\ncaution: {}\n",
+        "{}\n{}\n\nverdict: {} ({} fail, {} uncertain, {} warn, {} pass){}\nreport: {}\n\ncaution: {}\n",
         line.title,
         summary_table(line, a, 25),
         a.verdict.text().to_uppercase(),
         n.fail,
+        n.uncertain,
         n.warn,
         n.pass,
+        if n.uncertain > 0 {
+            "\nuncertain: the value's range over the inputs' tolerances straddles the failure limit; counted as failing (the report says which readings would settle it)"
+        } else {
+            ""
+        },
         dir.display(),
         crate::CAUTIONS
     )

@@ -96,8 +96,8 @@ pub struct Report {
     pub meta: ReportMeta,
     /// Overall verdict.
     pub verdict: Verdict,
-    /// Counts of findings by verdict: pass, warn, fail.
-    pub counts: [usize; 3],
+    /// Counts of findings by verdict: pass, warn, uncertain, fail.
+    pub counts: [usize; 4],
     /// The validated line (inputs section).
     pub line: Line,
     /// Profiles in force.
@@ -139,6 +139,9 @@ pub struct Report {
     pub conductors: Vec<crate::field::ConductorResult>,
     /// The conductors' accuracy estimate at the places of interest.
     pub conductor_accuracy: Option<crate::field::ConductorAccuracy>,
+    /// The uncertain inputs and the ranges of the points', spans' and
+    /// conductors' results (findings carry their own).
+    pub uncertainty: crate::uncertainty::Uncertainty,
 }
 
 /// A finding as the report shows it: the assessment's numbers with its
@@ -178,6 +181,8 @@ pub struct FindingRow {
     pub margin: f64,
     /// The verdict.
     pub verdict: Verdict,
+    /// The value's range over the uncertain inputs [unit of `dim`].
+    pub bounds: crate::assess::Bounds,
     /// Where the limit comes from.
     pub source: String,
     /// How sure the source is.
@@ -208,6 +213,7 @@ impl FindingRow {
             fail: f.fail,
             margin: f.margin,
             verdict: f.verdict,
+            bounds: f.bounds.clone(),
             source: f.source.to_string(),
             confidence: f.confidence,
             note: super::notes::finding_notes(line, f),
@@ -510,6 +516,7 @@ pub fn build_report(
         plan: None,
         conductors: Vec::new(),
         conductor_accuracy: None,
+        uncertainty: crate::uncertainty::Uncertainty::default(),
     }
 }
 
@@ -522,7 +529,7 @@ fn recommendations(line: &Line, findings: &[FindingRow]) -> Vec<String> {
         }
     };
     for f in findings.iter().filter(|f| f.verdict != Verdict::Pass) {
-        let urgency = if f.verdict == Verdict::Fail {
+        let urgency = if f.verdict.exceeds() {
             "Required"
         } else {
             "Advised"

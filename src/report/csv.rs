@@ -41,6 +41,16 @@ pub fn text_cell(s: &str) -> String {
     }
 }
 
+/// A number cell: shortest round-trip text; empty for NaN or an open
+/// bound (infinity).
+fn number_cell(x: f64) -> String {
+    if x.is_finite() {
+        format!("{x:?}")
+    } else {
+        String::new()
+    }
+}
+
 /// One data row.
 pub fn field_row(req: &PointRequest, f: &PointField) -> String {
     let mut r = format!(
@@ -67,12 +77,12 @@ pub fn field_row(req: &PointRequest, f: &PointField) -> String {
 /// `results.csv`: one row per finding.
 pub fn findings_csv(r: &Report) -> String {
     let mut s = String::from(
-        "verdict,hazard,profile,rule,subject,check,value,unit,meter_distance_m,ratio,warn,fail,limit,margin,source,confidence,note\n",
+        "verdict,hazard,profile,rule,subject,check,value,unit,meter_distance_m,ratio,warn,fail,limit,margin,source,confidence,note,low,high,bound\n",
     );
     let opt = |x: Option<f64>| x.map(|v| format!("{v:?}")).unwrap_or_default();
     for f in &r.findings {
         s.push_str(&format!(
-            "{},{},{},{},{},{},{:?},{},{},{},{},{},{:?},{:?},{},{},{}\n",
+            "{},{},{},{},{},{},{:?},{},{},{},{},{},{:?},{:?},{},{},{},{},{},{}\n",
             f.verdict.text(),
             f.hazard.key(),
             text_cell(&f.profile),
@@ -93,7 +103,10 @@ pub fn findings_csv(r: &Report) -> String {
             f.margin,
             text_cell(&f.source),
             text_cell(f.confidence.text()),
-            text_cell(&f.note)
+            text_cell(&f.note),
+            number_cell(f.bounds.low),
+            number_cell(f.bounds.high),
+            f.bounds.basis.key()
         ));
     }
     s
@@ -102,11 +115,15 @@ pub fn findings_csv(r: &Report) -> String {
 /// `points.csv`: one row per place of interest.
 pub fn points_csv(r: &Report) -> String {
     let mut s = String::from(
-        "id,kind,x_m,y_m,z_m,Ex_V_per_m,Ey_V_per_m,Ez_V_per_m,E_magnitude_V_per_m,V_V,zones\n",
+        "id,kind,x_m,y_m,z_m,Ex_V_per_m,Ey_V_per_m,Ez_V_per_m,E_magnitude_V_per_m,V_V,zones,E_magnitude_low_V_per_m,E_magnitude_high_V_per_m,V_low_V,V_high_V\n",
     );
-    for p in &r.points {
+    for (i, p) in r.points.iter().enumerate() {
+        let (e, v) = match r.uncertainty.points.get(i) {
+            Some(b) => (b.e, b.v),
+            None => ([p.e_magnitude; 2], [p.v; 2]),
+        };
         s.push_str(&format!(
-            "{},{},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{}\n",
+            "{},{},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{:?},{},{:?},{:?},{:?},{:?}\n",
             text_cell(&p.point.id),
             p.point.kind.text(),
             p.point.at[0],
@@ -117,7 +134,11 @@ pub fn points_csv(r: &Report) -> String {
             p.e[2],
             p.e_magnitude,
             p.v,
-            text_cell(&p.zones.join(" "))
+            text_cell(&p.zones.join(" ")),
+            e[0],
+            e[1],
+            v[0],
+            v[1]
         ));
     }
     s
@@ -126,15 +147,22 @@ pub fn points_csv(r: &Report) -> String {
 /// `spans.csv`: one row per span.
 pub fn spans_csv(r: &Report) -> String {
     let mut s = String::from(
-        "id,label,from_to,length_m,angle_deg,sigma_start_C_per_m2,sigma_end_C_per_m2,sigma_peak_C_per_m2,meter_reading_V,meter_distance_m,zones\n",
+        "id,label,from_to,length_m,angle_deg,sigma_start_C_per_m2,sigma_end_C_per_m2,sigma_peak_C_per_m2,meter_reading_V,meter_distance_m,zones,sigma_peak_low_C_per_m2,sigma_peak_high_C_per_m2,meter_reading_low_V,meter_reading_high_V\n",
     );
-    for sp in &r.spans {
+    for (j, sp) in r.spans.iter().enumerate() {
+        let b = r.uncertainty.spans.get(j);
+        let peak = b.map_or([sp.sigma_peak; 2], |b| b.sigma_peak);
+        let meter = match (b.and_then(|b| b.meter), sp.meter) {
+            (Some(m), _) => [format!("{:?}", m[0]), format!("{:?}", m[1])],
+            (None, Some(m)) => [format!("{:?}", m.reading()), format!("{:?}", m.reading())],
+            (None, None) => [String::new(), String::new()],
+        };
         let (reading, distance) = match sp.meter {
             Some(m) => (format!("{:?}", m.reading()), format!("{:?}", m.distance)),
             None => (String::new(), String::new()),
         };
         s.push_str(&format!(
-            "{},{},{},{:?},{:?},{:?},{:?},{:?},{reading},{distance},{}\n",
+            "{},{},{},{:?},{:?},{:?},{:?},{:?},{reading},{distance},{},{:?},{:?},{},{}\n",
             text_cell(&sp.row.name),
             text_cell(&sp.label),
             text_cell(&sp.row.from_to),
@@ -143,7 +171,11 @@ pub fn spans_csv(r: &Report) -> String {
             sp.row.sigma_start,
             sp.row.sigma_end,
             sp.sigma_peak,
-            text_cell(&sp.zones.join(" "))
+            text_cell(&sp.zones.join(" ")),
+            peak[0],
+            peak[1],
+            meter[0],
+            meter[1]
         ));
     }
     s

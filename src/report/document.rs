@@ -67,6 +67,7 @@ fn q(x: f64, d: Dim) -> String {
 fn verdict_cell(v: Verdict) -> String {
     match v {
         Verdict::Fail => "FAIL".into(),
+        Verdict::Uncertain => "UNCERTAIN".into(),
         Verdict::Warn => "WARN".into(),
         Verdict::Pass => "pass".into(),
     }
@@ -129,17 +130,22 @@ fn eliminator_table(r: &Report) -> Block {
 /// The conductors' results and the accuracy estimate of their solve.
 fn conductor_blocks(r: &Report) -> Vec<Block> {
     let opt = |v: Option<f64>, d: Dim| v.map(|x| q(x, d)).unwrap_or_else(|| "—".into());
+    use super::ranges::ranged;
     let rows = r
         .conductors
         .iter()
-        .map(|c| {
+        .enumerate()
+        .map(|(i, c)| {
+            let b = r.uncertainty.conductors.get(i);
             vec![
                 c.id.clone(),
                 if c.grounded { "grounded" } else { "isolated" }.to_string(),
-                q(c.charge, Dim::Charge),
-                q(c.potential, Dim::Voltage),
+                ranged(c.charge, b.map(|b| b.charge), Dim::Charge),
+                ranged(c.potential, b.map(|b| b.potential), Dim::Voltage),
                 opt(c.capacitance, Dim::Capacitance),
-                opt(c.spark_energy, Dim::Energy),
+                c.spark_energy
+                    .map(|w| ranged(w, b.and_then(|b| b.spark_energy), Dim::Energy))
+                    .unwrap_or_else(|| "—".into()),
                 c.panels.to_string(),
             ]
         })
@@ -335,8 +341,9 @@ pub fn layout(r: &Report) -> Vec<Section> {
     let mut summary = vec![Block::Verdict(
         r.verdict,
         format!(
-            "{} finding(s): {} fail, {} warn, {} pass.",
+            "{} finding(s): {} fail, {} uncertain (counted as failing), {} warn, {} pass.",
             r.findings.len(),
+            r.counts[3],
             r.counts[2],
             r.counts[1],
             r.counts[0]
@@ -377,6 +384,14 @@ pub fn layout(r: &Report) -> Vec<Section> {
         }
         summary.push(Block::Para(format!("{}:", hazard_title(h))));
         summary.push(Block::List(items));
+    }
+    let settle = super::ranges::settle_items(r);
+    if !settle.is_empty() {
+        summary.push(Block::Para(
+            "Uncertain findings (counted as failing) and the inputs whose tolerance decides them:"
+                .into(),
+        ));
+        summary.push(Block::List(settle));
     }
     out.push(sec("Summary", summary));
 
@@ -589,23 +604,38 @@ pub fn layout(r: &Report) -> Vec<Section> {
     inputs.push(table(&["profile", "title", "rules", "origin"], profiles));
     out.push(sec("Inputs", inputs));
 
+    use super::ranges::{ranged, ranged_si};
     let span_rows = r
         .spans
         .iter()
-        .map(|s| {
+        .enumerate()
+        .map(|(j, s)| {
+            let b = r.uncertainty.spans.get(j);
             vec![
                 s.label.clone(),
                 s.row.from_to.clone(),
                 len_text(s.row.length),
                 format!("{:.1}°", s.row.angle_deg),
-                q(s.row.sigma_start, Dim::SurfaceChargeDensity),
-                q(s.row.sigma_end, Dim::SurfaceChargeDensity),
-                q(s.sigma_peak, Dim::SurfaceChargeDensity),
+                ranged(
+                    s.row.sigma_start,
+                    b.map(|b| b.sigma_start),
+                    Dim::SurfaceChargeDensity,
+                ),
+                ranged(
+                    s.row.sigma_end,
+                    b.map(|b| b.sigma_end),
+                    Dim::SurfaceChargeDensity,
+                ),
+                ranged(
+                    s.sigma_peak,
+                    b.map(|b| b.sigma_peak),
+                    Dim::SurfaceChargeDensity,
+                ),
                 s.meter
                     .map(|m| {
                         format!(
                             "{} at {}",
-                            crate::units::format_quantity_sig(m.reading(), Dim::Voltage, 3),
+                            ranged(m.reading(), b.and_then(|b| b.meter), Dim::Voltage),
                             super::finding_text::meter_distance_text(m.distance)
                         )
                     })
@@ -621,18 +651,20 @@ pub fn layout(r: &Report) -> Vec<Section> {
     let point_rows = r
         .points
         .iter()
-        .map(|p| {
+        .enumerate()
+        .map(|(i, p)| {
+            let b = r.uncertainty.points.get(i);
             vec![
                 p.point.id.clone(),
                 p.point.kind.text().to_string(),
-                format_si(p.e_magnitude, "V/m"),
+                ranged_si(p.e_magnitude, b.map(|b| b.e), "V/m"),
                 format!(
                     "[{}, {}, {}]",
-                    format_si(p.e[0], "V/m"),
-                    format_si(p.e[1], "V/m"),
-                    format_si(p.e[2], "V/m")
+                    ranged_si(p.e[0], b.map(|b| b.components[0]), "V/m"),
+                    ranged_si(p.e[1], b.map(|b| b.components[1]), "V/m"),
+                    ranged_si(p.e[2], b.map(|b| b.components[2]), "V/m")
                 ),
-                format_si(p.v, "V"),
+                ranged_si(p.v, b.map(|b| b.v), "V"),
                 if p.zones.is_empty() {
                     "—".into()
                 } else {
@@ -645,7 +677,7 @@ pub fn layout(r: &Report) -> Vec<Section> {
         "Results",
         vec![
             Block::Para(
-                "Per span (σ is the centreline density; the peak includes the across-web profile):"
+                "Per span (σ is the centreline density; the peak includes the across-web profile; ranges over the inputs' tolerances in brackets, see Uncertainty):"
                     .into(),
             ),
             table(
@@ -703,7 +735,7 @@ pub fn layout(r: &Report) -> Vec<Section> {
     out.push(sec(
         "Findings",
         vec![
-            Block::Para("Findings by verdict, then class of harm (ignition in hazardous zones, shock, electronics, equipment), then margin. Values and limits to three significant digits (results.json and results.csv keep full precision); a meter rule's value and limits are what a field meter would read at its calibration distance (\"2.8 kV at 1 in\"). Margin = value ÷ governing limit (the failure limit where the rule has one): above 1× the limit is reached. Sources are numbered as in the References section. Limits marked VERIFY are recalled, not read in the source: check them against the current edition before relying on them.".into()),
+            Block::Para("Findings by verdict, then class of harm (ignition in hazardous zones, shock, electronics, equipment), then margin. Values and limits to three significant digits (results.json and results.csv keep full precision); a meter rule's value and limits are what a field meter would read at its calibration distance (\"2.8 kV at 1 in\"). Each value is followed, in brackets, by its range over the inputs' tolerances (see Uncertainty); the verdict is judged on the whole range, UNCERTAIN where it straddles the failure limit. Margin = value ÷ governing limit (the failure limit where the rule has one): above 1× the limit is reached. Sources are numbered as in the References section. Limits marked VERIFY are recalled, not read in the source: check them against the current edition before relying on them.".into()),
             table(
                 &["verdict", "hazard", "rule", "subject", "value", "limits", "margin", "note", "source", "confidence"],
                 finding_rows,
@@ -712,6 +744,8 @@ pub fn layout(r: &Report) -> Vec<Section> {
             table(&["rule", "checks"], rules_checked(r)),
         ],
     ));
+
+    out.push(sec("Uncertainty", super::ranges::uncertainty_blocks(r)));
 
     let mut contrib = Vec::new();
     if r.contributions.is_empty() {

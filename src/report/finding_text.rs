@@ -31,6 +31,8 @@ pub struct Shown {
     pub limit: f64,
     /// The verdict.
     pub verdict: Verdict,
+    /// The value's range over the uncertain inputs, SI (low, high).
+    pub range: (f64, f64),
 }
 
 impl From<&Finding> for Shown {
@@ -45,6 +47,7 @@ impl From<&Finding> for Shown {
             fail: f.fail,
             limit: f.limit,
             verdict: f.verdict,
+            range: (f.bounds.low, f.bounds.high),
         }
     }
 }
@@ -61,6 +64,7 @@ impl From<&FindingRow> for Shown {
             fail: f.fail,
             limit: f.limit,
             verdict: f.verdict,
+            range: (f.bounds.low, f.bounds.high),
         }
     }
 }
@@ -103,10 +107,35 @@ fn quantity(f: &Shown, x: f64) -> String {
     }
 }
 
-/// The value found: `1.98 µC/m²`, `4.5 kV at 1 in`, `0.42 (5·I′/I_ion)`.
+/// A number of the finding's dimension with its unit only (no meter
+/// distance or ratio): for the ends of a range.
+fn bare(f: &Shown, x: f64) -> String {
+    if f.per_inch && f.dim == Dim::Field {
+        return format!("{}/in", format_quantity_sig(x * INCH, Dim::Voltage, SIG));
+    }
+    format_quantity_sig(x, f.dim, SIG)
+}
+
+/// The value's range over the uncertain inputs, `12.1 kV to 13.7 kV`, or
+/// `None` when it is a single value.
+pub fn range_text(f: impl Into<Shown>) -> Option<String> {
+    let f = f.into();
+    let (lo, hi) = f.range;
+    if hi.is_infinite() {
+        return Some(format!("{} or more (not bounded above)", bare(&f, lo)));
+    }
+    (lo != hi).then(|| format!("{} to {}", bare(&f, lo), bare(&f, hi)))
+}
+
+/// The value found: `1.98 µC/m²`, `4.5 kV at 1 in`, `0.42 (5·I′/I_ion)`,
+/// with its range when the inputs' tolerances give one:
+/// `12.9 kV (12.1 kV to 13.7 kV)`.
 pub fn value_text(f: impl Into<Shown>) -> String {
     let f = f.into();
-    quantity(&f, f.value)
+    match range_text(f) {
+        Some(r) => format!("{} ({r})", quantity(&f, f.value)),
+        None => quantity(&f, f.value),
+    }
 }
 
 /// The limits of the finding: `fail 10 µC/m²`, `warn 1 µC/m², fail
@@ -133,9 +162,18 @@ pub fn crossed_limit_text(f: impl Into<Shown>) -> String {
 }
 
 /// The value against the limit its verdict is about, in words:
-/// `1.98 µC/m² against warn 1 µC/m² (1.98× the warning limit)`.
+/// `1.98 µC/m² against warn 1 µC/m² (1.98× the warning limit)`; for an
+/// uncertain finding, its range across the failure limit.
 pub fn against_text(f: impl Into<Shown>) -> String {
     let f = &f.into();
+    if f.verdict == Verdict::Uncertain {
+        return format!(
+            "{} ranges from {} across the failure limit {}",
+            quantity(f, f.value),
+            range_text(*f).unwrap_or_default(),
+            quantity(f, f.limit)
+        );
+    }
     let (word, x) = match (f.verdict, f.warn) {
         (Verdict::Warn, Some(w)) => ("warning", w),
         _ if f.fail.is_some() => ("failure", f.limit),
@@ -220,9 +258,41 @@ mod tests {
             fail: Some(2000.0 / INCH),
             limit: 2000.0 / INCH,
             verdict: Verdict::Pass,
+            range: (65_500.0, 65_500.0),
         };
         assert_eq!(value_text(f), "1.66 kV/in (65.5 kV/m)");
         assert_eq!(limit_text(f), "fail 2 kV/in (78.7 kV/m)");
+    }
+
+    /// A range reads after the value, its ends in the value's own terms; an
+    /// uncertain finding says it straddles the failure limit.
+    #[test]
+    fn ranges_read_after_the_value() {
+        let f = Shown {
+            value: 9_000.0,
+            dim: Dim::Voltage,
+            meter: None,
+            ratio: None,
+            per_inch: false,
+            warn: Some(2_000.0),
+            fail: Some(10_000.0),
+            limit: 10_000.0,
+            verdict: Verdict::Uncertain,
+            range: (7_200.0, 10_800.0),
+        };
+        assert_eq!(value_text(f), "9 kV (7.2 kV to 10.8 kV)");
+        assert_eq!(
+            against_text(f),
+            "9 kV ranges from 7.2 kV to 10.8 kV across the failure limit 10 kV"
+        );
+        let open = Shown {
+            range: (7_200.0, f64::INFINITY),
+            ..f
+        };
+        assert_eq!(
+            range_text(open).as_deref(),
+            Some("7.2 kV or more (not bounded above)")
+        );
     }
 
     #[test]

@@ -132,6 +132,10 @@ impl Writer for HtmlWriter {
                     Block::Verdict(v, text) => {
                         let (class, word) = match v {
                             Verdict::Fail => ("v-fail", "FAIL — a limit is exceeded"),
+                            Verdict::Uncertain => (
+                                "v-fail",
+                                "UNCERTAIN — a limit may be exceeded within the inputs' tolerances (counted as failing)",
+                            ),
                             Verdict::Warn => ("v-warn", "WARN — a warning limit is reached"),
                             Verdict::Pass => ("v-pass", "PASS — no limit reached"),
                         };

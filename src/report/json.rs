@@ -97,19 +97,62 @@ pub fn results_json(r: &Report) -> String {
     s.push_str(&format!("  \"verdict\": {},\n", string(r.verdict.text())));
     let worst = r.findings.iter().map(|f| f.margin).fold(0.0, f64::max);
     s.push_str(&format!("  \"worst_margin\": {},\n", num(worst)));
+    s.push_str(&format!("  \"uncertain\": {},\n", r.counts[2]));
+    s.push_str("  \"inputs\": [\n");
+    let items: Vec<String> = r
+        .uncertainty
+        .inputs
+        .iter()
+        .map(|i| {
+            let sources: Vec<String> = i
+                .sources
+                .iter()
+                .map(|src| match *src {
+                    crate::uncertainty::RangeSource::Reading(k) => format!(
+                        "{{\"reading\": {}}}",
+                        string(r.line.readings.get(k).map_or("", |x| x.id.as_str()))
+                    ),
+                    crate::uncertainty::RangeSource::Entry(k) => format!(
+                        "{{\"charge_entry\": {}}}",
+                        string(r.line.charge.get(k).map_or("", |x| x.yaml_path.as_str()))
+                    ),
+                })
+                .collect();
+            format!(
+                "    {{\"segment\": {}, \"s_start\": {}, \"sigma\": {}, \"low\": {}, \"high\": {}, \"set_by\": [{}]}}",
+                i.segment,
+                num(i.s_start),
+                num(i.nominal),
+                num(i.low),
+                num(i.high),
+                sources.join(", ")
+            )
+        })
+        .collect();
+    s.push_str(&items.join(",\n"));
+    s.push_str("\n  ],\n");
     s.push_str("  \"findings\": [\n");
     let items: Vec<String> = r
         .findings
         .iter()
         .map(|f| {
             format!(
-                "    {{\"rule\": {}, \"profile\": {}, \"hazard\": {}, \"check\": {}, \"subject\": {}, \"value\": {}, \"unit\": {}, \"meter_distance\": {}, \"ratio\": {}, \"limit\": {}, \"warn\": {}, \"fail\": {}, \"margin\": {}, \"verdict\": {}, \"source\": {}, \"confidence\": {}, \"note\": {}}}",
+                "    {{\"rule\": {}, \"profile\": {}, \"hazard\": {}, \"check\": {}, \"subject\": {}, \"value\": {}, \"low\": {}, \"high\": {}, \"bound\": {}, \"shares\": [{}], \"unit\": {}, \"meter_distance\": {}, \"ratio\": {}, \"limit\": {}, \"warn\": {}, \"fail\": {}, \"margin\": {}, \"verdict\": {}, \"source\": {}, \"confidence\": {}, \"note\": {}}}",
                 string(&f.rule),
                 string(&f.profile),
                 string(f.hazard.key()),
                 string(&f.check),
                 string(&f.subject),
                 num(f.value),
+                num(f.bounds.low),
+                num(f.bounds.high),
+                string(f.bounds.basis.key()),
+                f.bounds
+                    .shares
+                    .iter()
+                    .map(|x| format!("{{\"input\": {}, \"width\": {}}}", x.input, num(x.width)))
+                    .collect::<Vec<_>>()
+                    .join(", "),
                 string(if f.ratio.is_some() { "1" } else { f.dim.si_unit() }),
                 f.meter.map(num).unwrap_or_else(|| "null".into()),
                 f.ratio.map(string).unwrap_or_else(|| "null".into()),
@@ -129,9 +172,26 @@ pub fn results_json(r: &Report) -> String {
     let items: Vec<String> = r
         .points
         .iter()
-        .map(|p| {
+        .enumerate()
+        .map(|(i, p)| {
+            let range = r
+                .uncertainty
+                .points
+                .get(i)
+                .map(|b| {
+                    format!(
+                        ", \"E_magnitude_low\": {}, \"E_magnitude_high\": {}, \"V_low\": {}, \"V_high\": {}, \"E_low\": {}, \"E_high\": {}",
+                        num(b.e[0]),
+                        num(b.e[1]),
+                        num(b.v[0]),
+                        num(b.v[1]),
+                        array(&b.components.map(|c| c[0])),
+                        array(&b.components.map(|c| c[1]))
+                    )
+                })
+                .unwrap_or_default();
             format!(
-                "    {{\"id\": {}, \"kind\": {}, \"at\": {}, \"E\": {}, \"E_magnitude\": {}, \"V\": {}}}",
+                "    {{\"id\": {}, \"kind\": {}, \"at\": {}, \"E\": {}, \"E_magnitude\": {}, \"V\": {}{range}}}",
                 string(&p.point.id),
                 string(p.point.kind.text()),
                 array(&p.point.at),
@@ -146,9 +206,33 @@ pub fn results_json(r: &Report) -> String {
     let items: Vec<String> = r
         .spans
         .iter()
-        .map(|sp| {
+        .enumerate()
+        .map(|(j, sp)| {
+            let range = r
+                .uncertainty
+                .spans
+                .get(j)
+                .map(|b| {
+                    format!(
+                        ", \"sigma_start_low\": {}, \"sigma_start_high\": {}, \"sigma_end_low\": {}, \"sigma_end_high\": {}, \"sigma_peak_low\": {}, \"sigma_peak_high\": {}{}",
+                        num(b.sigma_start[0]),
+                        num(b.sigma_start[1]),
+                        num(b.sigma_end[0]),
+                        num(b.sigma_end[1]),
+                        num(b.sigma_peak[0]),
+                        num(b.sigma_peak[1]),
+                        b.meter
+                            .map(|m| format!(
+                                ", \"meter_reading_low\": {}, \"meter_reading_high\": {}",
+                                num(m[0]),
+                                num(m[1])
+                            ))
+                            .unwrap_or_default()
+                    )
+                })
+                .unwrap_or_default();
             format!(
-                "    {{\"id\": {}, \"label\": {}, \"sigma_start\": {}, \"sigma_end\": {}, \"sigma_peak\": {}, \"length\": {}{}}}",
+                "    {{\"id\": {}, \"label\": {}, \"sigma_start\": {}, \"sigma_end\": {}, \"sigma_peak\": {}, \"length\": {}{}{range}}}",
                 string(&sp.row.name),
                 string(&sp.label),
                 num(sp.row.sigma_start),
@@ -184,9 +268,31 @@ pub fn results_json(r: &Report) -> String {
         let items: Vec<String> = r
             .conductors
             .iter()
-            .map(|c| {
+            .enumerate()
+            .map(|(i, c)| {
+                let range = r
+                    .uncertainty
+                    .conductors
+                    .get(i)
+                    .map(|b| {
+                        format!(
+                            ", \"charge_low\": {}, \"charge_high\": {}, \"potential_low\": {}, \"potential_high\": {}{}",
+                            num(b.charge[0]),
+                            num(b.charge[1]),
+                            num(b.potential[0]),
+                            num(b.potential[1]),
+                            b.spark_energy
+                                .map(|w| format!(
+                                    ", \"spark_energy_low\": {}, \"spark_energy_high\": {}",
+                                    num(w[0]),
+                                    num(w[1])
+                                ))
+                                .unwrap_or_default()
+                        )
+                    })
+                    .unwrap_or_default();
                 format!(
-                    "    {{\"id\": {}, \"grounded\": {}, \"charge\": {}, \"potential\": {}, \"capacitance_to_ground\": {}, \"spark_energy\": {}, \"panels\": {}}}",
+                    "    {{\"id\": {}, \"grounded\": {}, \"charge\": {}, \"potential\": {}, \"capacitance_to_ground\": {}, \"spark_energy\": {}, \"panels\": {}{range}}}",
                     string(&c.id),
                     c.grounded,
                     num(c.charge),

@@ -145,6 +145,7 @@ impl Writer for MarkdownWriter {
                         "**Overall verdict: {}** — {}\n\n",
                         match v {
                             Verdict::Fail => "FAIL (a limit is exceeded)",
+                            Verdict::Uncertain => "UNCERTAIN (a limit may be exceeded within the inputs' tolerances; counted as failing)",
                             Verdict::Warn => "WARN (a warning limit is reached)",
                             Verdict::Pass => "PASS (no limit reached)",
                         },

@@ -25,6 +25,7 @@ pub mod plan_words;
 pub mod plot;
 pub mod profiles_text;
 pub mod progress_bar;
+pub mod ranges;
 pub mod readings_text;
 pub mod summary;
 pub mod table;

@@ -326,6 +326,44 @@ pub fn planned_plots(placed: &Line, charge: &ChargeProfile) -> Result<Vec<Plot>>
     ])
 }
 
+/// The sensitivity chart of the report's worst findings
+/// ([`super::ranges::worst_ranged`]) to its uncertain inputs, or `None` when no finding
+/// has a range.
+pub fn sensitivity_plot(r: &super::build::Report) -> Result<Option<Plot>> {
+    use super::ranges::{SENSITIVITY_ROWS, input_label, worst_ranged};
+    let worst = worst_ranged(r, SENSITIVITY_ROWS);
+    if worst.is_empty() {
+        return Ok(None);
+    }
+    let inputs = &r.uncertainty.inputs;
+    let chart = plot::SensitivityChart {
+        inputs: inputs.iter().map(|i| input_label(r, i)).collect(),
+        rows: worst
+            .iter()
+            .map(|f| plot::SensitivityRow {
+                label: format!("{}/{} on {}", f.profile, f.rule, f.subject),
+                margin: f.margin,
+                range: [f.bounds.low / f.limit, f.bounds.high / f.limit],
+                moves: (0..inputs.len())
+                    .map(|k| {
+                        f.bounds
+                            .shares
+                            .iter()
+                            .find(|s| s.input == k)
+                            .map_or(0.0, |s| s.width / f.limit)
+                    })
+                    .collect(),
+            })
+            .collect(),
+    };
+    let height = (180 + 70 * chart.rows.len() as u32).clamp(CURVE_HEIGHT, 1400);
+    Ok(Some(Plot {
+        file: "sensitivity.png".into(),
+        caption: "Sensitivity of the worst findings: each uncertain input's move of the margin across its range, beside the finding's whole range".into(),
+        png: plot::sensitivity_png(&chart, WIDTH, height)?,
+    }))
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -138,7 +138,12 @@ pub fn plan_json(plan: &Plan, line: &Line) -> String {
                 "    {{\"text\": {}, \"bars\": [{}], {}, \"worst_margin\": {}}}",
                 string(&super::plan_words::option_bars_text(plan, o, line)),
                 bars.join(", "),
-                counts(VerdictCounts { pass, warn, fail }),
+                counts(VerdictCounts {
+                    pass,
+                    warn,
+                    fail,
+                    uncertain: 0,
+                }),
                 num(o.worst_margin)
             )
         })

@@ -1,4 +1,5 @@
-//! PNG plots of a web line: side view, field-strength map and charge along the web path.
+//! PNG plots of a web line: side view, field-strength map, charge along the web path and the
+//! sensitivity of the worst findings to the uncertain inputs.
 //!
 //! Pipeline stage: report writers (`Report → writers`). Writers only format: every function
 //! here receives plain data in SI units and draws it; nothing physical is computed. Units are
@@ -9,7 +10,7 @@
 //!
 //! | module | concern |
 //! | --- | --- |
-//! | `side_view`, `field_map`, `charge` | one chart each |
+//! | `side_view`, `field_map`, `charge`, `sensitivity` | one chart each |
 //! | `frame` | image frame: size check, font, title block, legend panel, text placement |
 //! | `encode` | PNG encoding of the drawn RGB buffer |
 //! | `xz` | extent and equal-scale chart of the x–z views |
@@ -62,6 +63,7 @@ mod labels;
 mod layout;
 mod legend;
 mod scene;
+mod sensitivity;
 mod side_view;
 mod stroke;
 #[cfg(test)]
@@ -72,6 +74,7 @@ mod xz;
 pub use charge::{charge_layout, charge_png};
 pub use field_map::{field_map_layout, field_map_png};
 pub use layout::{Layout, LegendEntry, LimitSegment, PlacedLabel, PxBox, contains, overlap};
+pub use sensitivity::{SensitivityChart, SensitivityRow, sensitivity_png};
 pub use side_view::{side_view_layout, side_view_png};
 
 /// Smallest accepted image width or height [px].
