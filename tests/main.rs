@@ -26,6 +26,8 @@
 //!   rows, oversize lists), point files as CSV, the 1 µm rule, bounded flags.
 //! - `plan_agree`: one planner, one answer (`assess --plan`, `demo`, `plan`),
 //!   side variants as one plan, the ranking, a dead end explained.
+//! - `sweep`: one input varied (the YAML path setter, the scene's reuse,
+//!   a crossing against its analytic value, the outputs, bad `--vary` forms).
 
 mod analytic;
 mod assess;
@@ -53,5 +55,6 @@ mod readings;
 mod readings_nonlinear;
 mod reports;
 mod solver;
+mod sweep;
 mod util;
 mod validation;

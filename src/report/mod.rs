@@ -27,6 +27,8 @@ pub mod profiles_text;
 pub mod progress_bar;
 pub mod readings_text;
 pub mod summary;
+pub mod sweep_csv;
+pub mod sweep_text;
 pub mod table;
 pub mod text;
 pub mod unfinished;

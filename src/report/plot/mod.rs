@@ -1,15 +1,16 @@
-//! PNG plots of a web line: side view, field-strength map and charge along the web path.
+//! PNG plots of a web line: side view, field-strength map and charge along the web path,
+//! and the worst margins of a sweep.
 //!
 //! Pipeline stage: report writers (`Report → writers`). Writers only format: every function
 //! here receives plain data in SI units and draws it; nothing physical is computed. Units are
 //! converted for labels only (C/m² → µC/m², V/m → kV/m; lengths stay in m).
 //!
-//! This file holds the plain-data inputs and the three entry points; the drawing is split by
+//! This file holds the plain-data inputs and the entry points; the drawing is split by
 //! concern:
 //!
 //! | module | concern |
 //! | --- | --- |
-//! | `side_view`, `field_map`, `charge` | one chart each |
+//! | `side_view`, `field_map`, `charge`, `sweep` | one chart each |
 //! | `frame` | image frame: size check, font, title block, legend panel, text placement |
 //! | `encode` | PNG encoding of the drawn RGB buffer |
 //! | `xz` | extent and equal-scale chart of the x–z views |
@@ -64,6 +65,7 @@ mod legend;
 mod scene;
 mod side_view;
 mod stroke;
+mod sweep;
 #[cfg(test)]
 mod testkit;
 mod web;
@@ -73,6 +75,7 @@ pub use charge::{charge_layout, charge_png};
 pub use field_map::{field_map_layout, field_map_png};
 pub use layout::{Layout, LegendEntry, LimitSegment, PlacedLabel, PxBox, contains, overlap};
 pub use side_view::{side_view_layout, side_view_png};
+pub use sweep::sweep_png;
 
 /// Smallest accepted image width or height [px].
 pub const MIN_PIXELS: u32 = 320;
