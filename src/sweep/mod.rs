@@ -422,9 +422,11 @@ fn crossings(
                 .map(move |(i, _)| (p, i))
         })
         .collect();
-    let halvings = ((rows.len().max(2) - 1) as f64 / CROSSING_TOLERANCE)
+    // A step is 1/(N − 1) of the range: log2(1/((N − 1)·tolerance)) halvings.
+    let halvings = (1.0 / ((rows.len().max(2) - 1) as f64 * CROSSING_TOLERANCE))
         .log2()
-        .ceil() as u64;
+        .ceil()
+        .max(1.0) as u64;
     let progress = (!brackets.is_empty())
         .then(|| Tracker::new(Task::Crossings, brackets.len() as u64 * halvings));
     // Midpoints already assessed: (value, failing per profile).
@@ -588,7 +590,7 @@ eliminators:
                 .map(|x| x.margin)
                 .fold(f64::NEG_INFINITY, f64::max);
             assert_eq!(m[k], (!of.is_empty()).then_some(worst), "{n}");
-            assert_eq!(f[k], of.iter().any(|x| x.verdict == Verdict::Fail), "{n}");
+            assert_eq!(f[k], of.iter().any(|x| x.verdict > Verdict::Warn), "{n}");
         }
     }
 }

@@ -67,9 +67,9 @@ pub enum VaryError {
     },
     /// The unit is not one of the value's dimension.
     #[error(
-        "--vary: {path} is {} (\"{written}\" in the line description), but \"{unit}\" is {}: {}",
+        "--vary: {path} is {} (\"{written}\" in the line description), but {}: {}",
         .expected.name(),
-        .unit_is.map_or("not a unit of it".to_string(), |d| if d == Dim::Number { "no unit".to_string() } else { format!("a unit of {}", d.name()) }),
+        unit_words(.unit, *.unit_is),
         accepted(*.expected)
     )]
     WrongUnit {
@@ -123,6 +123,15 @@ pub enum VaryError {
     /// The line description could not be read or written as a YAML tree.
     #[error("the line description as a YAML tree: {0}")]
     Yaml(#[from] YamlError),
+}
+
+/// What the unit given is, for messages.
+fn unit_words(unit: &str, dim: Option<Dim>) -> String {
+    match dim {
+        _ if unit.is_empty() => "A and B have no unit".to_string(),
+        Some(d) => format!("\"{unit}\" is a unit of {}", d.name()),
+        None => format!("\"{unit}\" is not a unit of it"),
+    }
 }
 
 /// What units a value of `dim` takes, for messages.
@@ -463,6 +472,11 @@ charge:
         let e = err("web.speed=1..2 kV", 5);
         assert!(
             e.contains("web.speed is a speed (\"1 m/s\" in the line description), but \"kV\" is a unit of a voltage: give A and B in one of m/s, mm/s, m/min"),
+            "{e}"
+        );
+        let e = err("web.speed=1..2", 5);
+        assert!(
+            e.contains("but A and B have no unit: give A and B in one of m/s"),
             "{e}"
         );
         let e = err("web.speed=1..2 furlongs", 5);

@@ -17,6 +17,9 @@ use super::stroke::{PxMap, polyline, stroke};
 use super::val_ok;
 use crate::sweep::Sweep;
 
+/// A value of a curve: (value, worst margin [1], whether the profile fails there).
+type Dot = (f64, f64, bool);
+
 /// Colour of the k-th profile's curve.
 fn curve_colour(k: usize) -> RGBColor {
     const FIRST: [RGBColor; 2] = [RGBColor(22, 78, 168), RGBColor(222, 96, 16)];
@@ -49,7 +52,7 @@ fn with_unit(v: f64, unit: &str) -> String {
 /// the crossings. Returns PNG bytes.
 pub fn sweep_png(s: &Sweep, width: u32, height: u32) -> Result<Vec<u8>> {
     // Per profile: (value, worst margin, fails there), where it has findings.
-    let curves: Vec<(usize, Vec<(f64, f64, bool)>)> = (0..s.profiles.len())
+    let curves: Vec<(usize, Vec<Dot>)> = (0..s.profiles.len())
         .map(|p| {
             let pts = s
                 .rows
@@ -195,8 +198,7 @@ pub fn sweep_png(s: &Sweep, width: u32, height: u32) -> Result<Vec<u8>> {
             let colour = curve_colour(*p);
             let mut sorted = pts.clone();
             sorted.sort_by(|a, b| a.0.total_cmp(&b.0));
-            let clipped: Vec<(f64, f64, bool)> =
-                sorted.iter().map(|&(x, m, f)| (x, m.min(y1), f)).collect();
+            let clipped: Vec<Dot> = sorted.iter().map(|&(x, m, f)| (x, m.min(y1), f)).collect();
             let px: Vec<(f64, f64)> = clipped.iter().map(|q| map.map((q.0, q.1))).collect();
             stroke(root, &polyline(&px), 1.5, |_| colour)?;
             for &(x, m, fails) in &clipped {
