@@ -7,7 +7,7 @@
 use crate::charge::ChargeProfile;
 use crate::cli::{
     AssessArgs, BarKind, CheckArgs, Cli, Command, DemoArgs, FieldArgs, OutputFormat, PlanArgs,
-    ProfilesArgs, ReadingsArgs,
+    ProfilesArgs, ReadingsArgs, SweepArgs,
 };
 use crate::error::Outcome;
 use crate::field::{PointField, Scene, SolverSettings, WebField};
@@ -45,6 +45,7 @@ pub fn run(cli: Cli) -> Result<Outcome> {
         Command::Readings(a) => readings_cmd(&a),
         Command::Plan(a) => plan_cmd(&a),
         Command::Demo(a) => demo(&a),
+        Command::Sweep(a) => sweep_cmd(&a),
     }
 }
 
@@ -667,4 +668,49 @@ fn demo(a: &DemoArgs) -> Result<Outcome> {
     ))?;
     // A demonstration: exit 0 once the report is written, whatever it found.
     Ok(Outcome::Pass)
+}
+
+/// Width and height of the sweep's plot [px].
+const SWEEP_PLOT: (u32, u32) = (1400, 700);
+
+fn sweep_cmd(a: &SweepArgs) -> Result<Outcome> {
+    use crate::report::folder::{OutputFile, write_folder};
+    use crate::report::{plot, sweep_csv, sweep_text};
+    let spec = crate::sweep::parse_vary(
+        a.vary.first().map_or("", String::as_str),
+        a.vary.get(1).map(String::as_str),
+    )?;
+    let (text, line) = read_line(&a.line)?;
+    let varied = crate::sweep::Varied::new(&text, spec, a.steps)?;
+    // Profiles and solver settings as `assess` takes them by default.
+    let profiles = crate::assess::load_profiles(&line.assess, &[], &a.line.display().to_string())?;
+    let settings = crate::pipeline::Settings::new(solver_with(1e-9, &None)?);
+    check_out_dir(&a.out)?;
+    let result = crate::sweep::sweep(&varied, &profiles, &settings)?;
+    for w in &result.warnings {
+        eprintln!(
+            "warning: {}",
+            crate::safe_text::printable_message(&sweep_text::warning_text(&result, w))
+        );
+    }
+    let png = plot::sweep_png(&result, SWEEP_PLOT.0, SWEEP_PLOT.1)?;
+    let csv = sweep_csv::sweep_csv(&result);
+    let stamp = chrono::Utc::now().format("%Y%m%dT%H%M%SZ");
+    let id = format!("sweep-{}-{stamp}", crate::report::build::slug(&line.title));
+    let dir = write_folder(&a.out, &id, |_| {
+        [
+            ("sweep.csv", csv.as_bytes().to_vec()),
+            ("sweep.png", png.clone()),
+        ]
+        .into_iter()
+        .map(|(name, bytes)| {
+            Ok(OutputFile {
+                name: name.to_string(),
+                bytes,
+            })
+        })
+        .collect::<Vec<_>>()
+    })?;
+    print(&sweep_text::sweep_text(&result, &dir))?;
+    Ok(outcome(result.exceeded()))
 }

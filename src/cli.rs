@@ -40,6 +40,42 @@ pub enum Command {
     Profiles(ProfilesArgs),
     /// Run the built-in invented example line end to end and write its report.
     Demo(DemoArgs),
+    /// Vary one input over a range and assess the line at each value: each
+    /// profile's worst margin, where its verdict changes, a CSV and a plot.
+    Sweep(SweepArgs),
+}
+
+/// `websigma sweep`
+#[derive(Debug, clap::Args)]
+pub struct SweepArgs {
+    /// The line description (YAML).
+    pub line: PathBuf,
+    /// The input to vary and its range: "PATH=A..B UNIT", e.g.
+    /// "web.speed=50..400 m/min" (the unit may follow as a separate word,
+    /// and is left out for a plain number). PATH is a YAML path into the
+    /// line description (web.speed, charge[0].sigma, readings[1].reading,
+    /// points[2].at[2], ground_plane, ...) where the file has a number or a
+    /// quantity; the unit must be of the same dimension.
+    #[arg(
+        long,
+        required = true,
+        num_args = 1..=2,
+        value_names = ["PATH=A..B", "UNIT"],
+        action = clap::ArgAction::Set
+    )]
+    pub vary: Vec<String>,
+    /// Number of evenly spaced values from A to B, both included (2 to 201;
+    /// each is a full assessment).
+    #[arg(
+        long,
+        default_value_t = 11,
+        value_name = "N",
+        allow_negative_numbers = true
+    )]
+    pub steps: usize,
+    /// Folder under which the sweep's folder is created.
+    #[arg(long, value_name = "DIR", default_value = "reports")]
+    pub out: PathBuf,
 }
 
 /// `websigma assess`

@@ -28,6 +28,8 @@
 //! - [`assess`]: threshold profiles and findings (numbers and typed notes);
 //! - [`plan`]: static-eliminator placement;
 //! - [`pipeline`]: the stages chained;
+//! - [`sweep`]: one input varied over a range, the line assessed at each
+//!   value and the changes of verdict refined;
 //! - [`report`]: every word and picture a person sees; writers that only
 //!   format;
 //! - [`progress`]: long work announced to a sink the command line installs;
@@ -58,6 +60,7 @@ pub mod read;
 pub mod readings;
 pub mod report;
 pub mod safe_text;
+pub mod sweep;
 pub mod uncertainty;
 pub mod units;
 pub mod yaml;

@@ -31,6 +31,10 @@ pub enum Task {
     Plan,
     /// The planner's precomputed influences (steps: field points).
     Influences,
+    /// A sweep's assessments (steps: the values swept).
+    Sweep,
+    /// A sweep's crossings refined by bisection (steps: halvings).
+    Crossings,
 }
 
 /// Where announcements go (installed once by the command line).

@@ -168,6 +168,11 @@ const ALL_DIMS: [Dim; 14] = [
 ];
 
 impl Dim {
+    /// Every dimension, in the order used to name a wrongly dimensioned unit.
+    pub fn all() -> &'static [Dim] {
+        &ALL_DIMS
+    }
+
     /// The dimension's name with its article, for messages: `"a length"`.
     pub fn name(self) -> &'static str {
         match self {

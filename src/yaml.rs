@@ -77,6 +77,28 @@ pub fn from_str<T: DeserializeOwned>(text: &str) -> Result<T, YamlError> {
     serde_yaml::from_str::<T>(text).map_err(|e| convert::<T>(&e))
 }
 
+/// The text as a YAML tree (after the screening of [`screen`] and
+/// [`check_texts`]), for tools that edit a description in memory (the
+/// sweep sets one value in it and writes it back with [`to_text`]).
+pub fn value_tree(text: &str) -> Result<serde_yaml::Value, YamlError> {
+    screen(text)?;
+    let value: serde_yaml::Value =
+        serde_yaml::from_str(text).map_err(|e| convert::<serde_yaml::Value>(&e))?;
+    check_texts(&value, &mut String::new(), None)?;
+    Ok(value)
+}
+
+/// A YAML tree written back as text (comments are not kept: the tree has
+/// none).
+pub fn to_text(value: &serde_yaml::Value) -> Result<String, YamlError> {
+    serde_yaml::to_string(value).map_err(|e| YamlError {
+        message: format!("the edited description cannot be written as YAML: {e}"),
+        location: None,
+        path: String::new(),
+        wrong_document_type: false,
+    })
+}
+
 /// Where the second of two equal keys is, for a "duplicate entry" error
 /// that the reader locates at the start of their mapping: the next line, at
 /// the mapping's column, that begins with the key again.

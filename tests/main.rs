@@ -27,6 +27,10 @@
 //!   rows, oversize lists), point files as CSV, the 1 µm rule, bounded flags.
 //! - `plan_agree`: one planner, one answer (`assess --plan`, `demo`, `plan`),
 //!   side variants as one plan, the ranking, a dead end explained.
+//! - `uncertainty`: ranges over the inputs' tolerances against brute force over the corners of
+//!   the input box, random inputs inside it, the uncertain verdict and its exit code;
+//! - `sweep`: one input varied (the YAML path setter, the scene's reuse,
+//!   a crossing against its analytic value, the outputs, bad `--vary` forms).
 
 mod analytic;
 mod assess;
@@ -54,6 +58,7 @@ mod readings;
 mod readings_nonlinear;
 mod reports;
 mod solver;
+mod sweep;
 mod uncertainty;
 mod util;
 mod validation;

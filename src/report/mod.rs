@@ -28,6 +28,8 @@ pub mod progress_bar;
 pub mod ranges;
 pub mod readings_text;
 pub mod summary;
+pub mod sweep_csv;
+pub mod sweep_text;
 pub mod table;
 pub mod text;
 pub mod unfinished;

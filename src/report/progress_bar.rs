@@ -23,6 +23,8 @@ fn label(task: Task) -> &'static str {
         Task::Map => "field map",
         Task::Plan => "planner: placements",
         Task::Influences => "planner: influences",
+        Task::Sweep => "sweep: values",
+        Task::Crossings => "sweep: crossings",
     }
 }
 

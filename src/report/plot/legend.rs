@@ -41,6 +41,8 @@ pub(super) enum Sym {
     OffScale(RGBColor),
     /// A conductor beside the web: grounded or not, filled (side view) or edge only.
     Conductor(bool, bool),
+    /// A round dot, filled or open (a sweep's values).
+    Dot(RGBColor, bool),
 }
 
 /// Rows for what an x–z chart shows of the line: the web path (with the given symbol and
@@ -470,6 +472,14 @@ fn draw_symbol(root: &Area<'_>, sym: Sym, (x, yc): (i32, i32)) -> Result<()> {
                 }
             }
             root.draw(&Rectangle::new(r, st.edge.stroke_width(st.width)))?;
+        }
+        Sym::Dot(c, filled) => {
+            if filled {
+                root.draw(&Circle::new((x + 15, yc), 5, c.filled()))?;
+            } else {
+                root.draw(&Circle::new((x + 15, yc), 5, WHITE.filled()))?;
+                root.draw(&Circle::new((x + 15, yc), 5, c.stroke_width(2)))?;
+            }
         }
         Sym::Measured => {
             let st = INK.stroke_width(2);

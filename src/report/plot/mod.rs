@@ -1,16 +1,17 @@
-//! PNG plots of a web line: side view, field-strength map, charge along the web path and the
-//! sensitivity of the worst findings to the uncertain inputs.
+//! PNG plots of a web line: side view, field-strength map, charge along the web path, the
+//! sensitivity of the worst findings to the uncertain inputs and the worst margins of a
+//! sweep.
 //!
 //! Pipeline stage: report writers (`Report → writers`). Writers only format: every function
 //! here receives plain data in SI units and draws it; nothing physical is computed. Units are
 //! converted for labels only (C/m² → µC/m², V/m → kV/m; lengths stay in m).
 //!
-//! This file holds the plain-data inputs and the three entry points; the drawing is split by
+//! This file holds the plain-data inputs and the entry points; the drawing is split by
 //! concern:
 //!
 //! | module | concern |
 //! | --- | --- |
-//! | `side_view`, `field_map`, `charge`, `sensitivity` | one chart each |
+//! | `side_view`, `field_map`, `charge`, `sensitivity`, `sweep` | one chart each |
 //! | `frame` | image frame: size check, font, title block, legend panel, text placement |
 //! | `encode` | PNG encoding of the drawn RGB buffer |
 //! | `xz` | extent and equal-scale chart of the x–z views |
@@ -66,6 +67,7 @@ mod scene;
 mod sensitivity;
 mod side_view;
 mod stroke;
+mod sweep;
 #[cfg(test)]
 mod testkit;
 mod web;
@@ -76,6 +78,7 @@ pub use field_map::{field_map_layout, field_map_png};
 pub use layout::{Layout, LegendEntry, LimitSegment, PlacedLabel, PxBox, contains, overlap};
 pub use sensitivity::{SensitivityChart, SensitivityRow, sensitivity_png};
 pub use side_view::{side_view_layout, side_view_png};
+pub use sweep::sweep_png;
 
 /// Smallest accepted image width or height [px].
 pub const MIN_PIXELS: u32 = 320;
