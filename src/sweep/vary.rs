@@ -107,8 +107,8 @@ pub enum VaryError {
         path: String,
         /// The value's text.
         text: String,
-        /// Why the units module refuses it.
-        source: ParseQuantityError,
+        /// Why the units module refuses it (boxed: the error is large).
+        source: Box<ParseQuantityError>,
     },
     /// The line description is not valid at a value of the sweep.
     #[error("at {path} = {value} the line description is not valid: {source}")]
@@ -335,7 +335,7 @@ impl Varied {
         parse_quantity(&text, self.dim).map_err(|source| VaryError::Quantity {
             path: self.path(),
             text,
-            source,
+            source: Box::new(source),
         })
     }
 
