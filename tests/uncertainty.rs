@@ -110,7 +110,7 @@ fn assert_within(bounded: &Analysis, corner: &Analysis, what: &str) {
     }
     let u = &bounded.evaluation.uncertainty;
     for (i, (e, v, c)) in point_values(corner).into_iter().enumerate() {
-        let b = u.points[i];
+        let b = &u.points[i];
         assert!(
             e >= b.e[0] - slack(e) && e <= b.e[1] + slack(e),
             "|E| at point {i}, {what}"
@@ -119,6 +119,21 @@ fn assert_within(bounded: &Analysis, corner: &Analysis, what: &str) {
             v >= b.v[0] - slack(v) && v <= b.v[1] + slack(v),
             "V at point {i}, {what}"
         );
+        // Each span's share of the field there.
+        for c in &corner.evaluation.points.points[i].contributions {
+            let share = b
+                .spans
+                .iter()
+                .find(|s| s.span == c.span)
+                .expect("a share range");
+            let m = (c.e[0] * c.e[0] + c.e[1] * c.e[1] + c.e[2] * c.e[2]).sqrt();
+            assert!(
+                m >= share.e[0] - slack(m) && m <= share.e[1] + slack(m),
+                "{} at {i}",
+                c.span
+            );
+            assert!(c.v >= share.v[0] - slack(c.v) && c.v <= share.v[1] + slack(c.v));
+        }
         for (x, r) in c.iter().zip(b.components) {
             assert!(
                 *x >= r[0] - slack(*x) && *x <= r[1] + slack(*x),

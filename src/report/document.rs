@@ -753,24 +753,32 @@ pub fn layout(r: &Report) -> Vec<Section> {
     }
     for (id, parts) in &r.contributions {
         contrib.push(Block::Para(format!(
-            "At {id} (largest |E| first; each span together with its ground-plane image):"
+            "At {id} (largest |E| first; each span together with its ground-plane image; ranges over the inputs' tolerances in brackets):"
         )));
+        let shares = r
+            .points
+            .iter()
+            .position(|p| &p.point.id == id)
+            .and_then(|i| r.uncertainty.points.get(i))
+            .map(|b| b.spans.as_slice())
+            .unwrap_or_default();
         contrib.push(table(
             &["span", "|E|", "E [x, y, z]", "V"],
             parts
                 .iter()
                 .map(|c| {
                     let m = (c.e[0] * c.e[0] + c.e[1] * c.e[1] + c.e[2] * c.e[2]).sqrt();
+                    let b = shares.iter().find(|s| s.span == c.span);
                     vec![
                         c.span.clone(),
-                        format_si(m, "V/m"),
+                        super::ranges::ranged_si(m, b.map(|b| b.e), "V/m"),
                         format!(
                             "[{}, {}, {}]",
-                            format_si(c.e[0], "V/m"),
-                            format_si(c.e[1], "V/m"),
-                            format_si(c.e[2], "V/m")
+                            super::ranges::ranged_si(c.e[0], b.map(|b| b.components[0]), "V/m"),
+                            super::ranges::ranged_si(c.e[1], b.map(|b| b.components[1]), "V/m"),
+                            super::ranges::ranged_si(c.e[2], b.map(|b| b.components[2]), "V/m")
                         ),
-                        format_si(c.v, "V"),
+                        super::ranges::ranged_si(c.v, b.map(|b| b.v), "V"),
                     ]
                 })
                 .collect(),

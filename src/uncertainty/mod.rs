@@ -95,8 +95,22 @@ impl InputRange {
     }
 }
 
+/// The range of one span's share of the field and potential at a place of
+/// interest (the span with its ground-plane image).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ShareBounds {
+    /// The span's label, as in the nominal contributions.
+    pub span: String,
+    /// Least and greatest |**E**| of the share [V/m].
+    pub e: [f64; 2],
+    /// Least and greatest V of the share [V].
+    pub v: [f64; 2],
+    /// Least and greatest of each component of the share's **E** [V/m].
+    pub components: [[f64; 2]; 3],
+}
+
 /// The range of the field and potential at one place of interest.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct PointBounds {
     /// Least and greatest |**E**| [V/m].
     pub e: [f64; 2],
@@ -104,6 +118,8 @@ pub struct PointBounds {
     pub v: [f64; 2],
     /// Least and greatest of each component of **E** [V/m].
     pub components: [[f64; 2]; 3],
+    /// Each span's share, in the nominal contributions' order (span order).
+    pub spans: Vec<ShareBounds>,
 }
 
 /// The ranges of a span's results.

@@ -2,7 +2,9 @@
 //! from the charge stage, the assessment runs with unit charges, and the
 //! ranges of every finding and place of interest.
 
-use super::{ConductorBounds, InputRange, PointBounds, RangeSource, SpanBounds, Uncertainty};
+use super::{
+    ConductorBounds, InputRange, PointBounds, RangeSource, ShareBounds, SpanBounds, Uncertainty,
+};
 use crate::assess::{
     Assessment, BoundBasis, Bounds, Finding, FindingNote, Share, ThresholdProfile,
     assess_with_conductors, judge,
@@ -80,21 +82,52 @@ pub fn bound(
         .iter()
         .enumerate()
         .map(|(i, p)| {
-            let base = zero.points.points.get(i);
-            let per_unit: Vec<(f64, [f64; 3], f64)> = inputs
+            // Per input: the field and potential per unit amplitude, the
+            // no-charge run taken off, at the point (`None`) or of one span's
+            // share (`Some(j)`).
+            let per_unit = |share: Option<usize>| -> Vec<([f64; 3], f64)> {
+                let pick = |run: &Run| -> ([f64; 3], f64) {
+                    let Some(q) = run.points.points.get(i) else {
+                        return ([0.0; 3], 0.0);
+                    };
+                    match share {
+                        None => (q.e, q.v),
+                        Some(j) => q
+                            .contributions
+                            .get(j)
+                            .map_or(([0.0; 3], 0.0), |c| (c.e, c.v)),
+                    }
+                };
+                let (e0, v0) = pick(zero);
+                units
+                    .iter()
+                    .map(|u| {
+                        let (e, v) = pick(u);
+                        ([e[0] - e0[0], e[1] - e0[1], e[2] - e0[2]], v - v0)
+                    })
+                    .collect()
+            };
+            let (e, v, components) = field_range(p.e, p.v, &inputs, &per_unit(None));
+            let spans = p
+                .contributions
                 .iter()
-                .zip(units)
-                .filter_map(|(inp, u)| {
-                    let q = u.points.points.get(i)?;
-                    let b = base?;
-                    Some((
-                        inp.deviation(),
-                        [q.e[0] - b.e[0], q.e[1] - b.e[1], q.e[2] - b.e[2]],
-                        q.v - b.v,
-                    ))
+                .enumerate()
+                .map(|(j, c)| {
+                    let (e, v, components) = field_range(c.e, c.v, &inputs, &per_unit(Some(j)));
+                    ShareBounds {
+                        span: c.span.clone(),
+                        e,
+                        v,
+                        components,
+                    }
                 })
                 .collect();
-            point_range(p, &inputs, &per_unit)
+            PointBounds {
+                e,
+                v,
+                components,
+                spans,
+            }
         })
         .collect();
     let spans = line
@@ -453,33 +486,36 @@ fn not_bounded(f: &mut Finding) {
 }
 
 fn exact_point(p: &PointField) -> PointBounds {
-    let e = p.e_magnitude();
+    let (e, v, components) = field_range(p.e, p.v, &[], &[]);
     PointBounds {
-        e: [e, e],
-        v: [p.v, p.v],
-        components: [[p.e[0], p.e[0]], [p.e[1], p.e[1]], [p.e[2], p.e[2]]],
+        e,
+        v,
+        components,
+        spans: Vec::new(),
     }
 }
 
-/// The range of V, each component of **E** and |**E**| at a point (module
-/// docs), from the nominal field and, per input, (d_k, **E**_k, V_k): the
-/// largest deviation [C/m²] and the field and potential per unit amplitude
-/// with the no-charge run taken off [V/m, V per C/m²].
-fn point_range(
-    p: &PointField,
+/// The range of V, each component of **E** and |**E**| (module docs) from
+/// the nominal field `e0` [V/m] and potential `v0` [V] and, per input, the
+/// field and potential per unit amplitude with the no-charge run taken off
+/// [V/m, V per C/m²]: (|**E**| range, V range, component ranges).
+fn field_range(
+    e0: [f64; 3],
+    v0: f64,
     inputs: &[InputRange],
-    per_unit: &[(f64, [f64; 3], f64)],
-) -> PointBounds {
-    let mut out = exact_point(p);
+    per_unit: &[([f64; 3], f64)],
+) -> ([f64; 2], [f64; 2], [[f64; 2]; 3]) {
+    let mut v = [v0, v0];
+    let mut components = e0.map(|x| [x, x]);
     let mut triangle = 0.0;
-    for (inp, (d, e, v)) in inputs.iter().zip(per_unit) {
-        widen_signed(&mut out.v, inp, *v);
-        for (r, x) in out.components.iter_mut().zip(e) {
+    for (inp, (e, vk)) in inputs.iter().zip(per_unit) {
+        widen_signed(&mut v, inp, *vk);
+        for (r, x) in components.iter_mut().zip(e) {
             widen_signed(r, inp, *x);
         }
-        triangle += d * (e[0] * e[0] + e[1] * e[1] + e[2] * e[2]).sqrt();
+        triangle += inp.deviation() * (e[0] * e[0] + e[1] * e[1] + e[2] * e[2]).sqrt();
     }
-    let e0 = p.e_magnitude();
+    let mag = (e0[0] * e0[0] + e0[1] * e0[1] + e0[2] * e0[2]).sqrt();
     let far = |r: [f64; 2]| r[0].abs().max(r[1].abs());
     let near = |r: [f64; 2]| {
         if r[0] <= 0.0 && r[1] >= 0.0 {
@@ -488,12 +524,12 @@ fn point_range(
             r[0].abs().min(r[1].abs())
         }
     };
-    let c = out.components;
+    let c = components;
     let box_hi = (far(c[0]).powi(2) + far(c[1]).powi(2) + far(c[2]).powi(2)).sqrt();
     let box_lo = (near(c[0]).powi(2) + near(c[1]).powi(2) + near(c[2]).powi(2)).sqrt();
-    out.e = [
-        (e0 - triangle).max(box_lo).max(0.0).min(e0),
-        (e0 + triangle).min(box_hi).max(e0),
+    let e = [
+        (mag - triangle).max(box_lo).max(0.0).min(mag),
+        (mag + triangle).min(box_hi).max(mag),
     ];
-    out
+    (e, v, components)
 }
