@@ -11,7 +11,7 @@ use plotters::style::text_anchor::{HPos, VPos};
 
 use super::colour::{CURVE_PALETTE, INK, LIMIT, MEASURED, MUTED, NODE};
 use super::frame::{
-    draw_mesh, empty_note, fit, fmt_num, layout, non_empty, render, tag, text, text_size,
+    draw_mesh, empty_note, fmt_num, label_above, layout, non_empty, render, tag, text,
 };
 use super::layout::{Layout, LimitSegment};
 use super::legend::{Sym, draw_legend, plan};
@@ -204,27 +204,7 @@ fn charge(c: &ChargeCurve, width: u32, height: u32) -> Result<(Vec<u8>, Layout)>
                 NODE.stroke_width(1),
             ))?;
             let (x, _) = chart.backend_coord(&(*s, y1));
-            let label = fit(root, label, &style, 160)?;
-            let (tw, _) = text_size(root, &label, &style)?;
-            let left = x - tw / 2;
-            let row = (0..3)
-                .find(|r| row_end[*r] + 6 < left)
-                .unwrap_or_else(|| (0..3).min_by_key(|r| row_end[*r]).unwrap_or(0));
-            row_end[row] = left + tw;
-            let y_text = top - 6 - 17 * row as i32;
-            root.draw(&PathElement::new(
-                vec![(x, top), (x, y_text)],
-                NODE.stroke_width(1),
-            ))?;
-            tag(
-                root,
-                &label,
-                (x, y_text),
-                HPos::Center,
-                VPos::Bottom,
-                &style,
-                true,
-            )?;
+            label_above(root, label, (x, top), (&style, &style), NODE, &mut row_end)?;
         }
         // limits, each over the spans it applies to, labelled at its rightmost end
         for l in &drawn {

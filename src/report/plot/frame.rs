@@ -221,6 +221,42 @@ pub(super) fn tag(
     Ok(())
 }
 
+/// A label above the plot at pixel column `x` (the plot's top edge at `top`), fitted to
+/// 160 px and set in the first of three staggered rows where it clears the labels already
+/// placed (`row_end`: each row's right edge so far; the least full row when none is clear),
+/// joined to the plot by a leader line of `leader`; the text is drawn in `ink`, measured in
+/// `style` (same size).
+pub(super) fn label_above(
+    root: &Area<'_>,
+    label: &str,
+    (x, top): (i32, i32),
+    (style, ink): (&TextStyle<'_>, &TextStyle<'_>),
+    leader: RGBColor,
+    row_end: &mut [i32; 3],
+) -> Result<()> {
+    let label = fit(root, label, style, 160)?;
+    let (tw, _) = text_size(root, &label, style)?;
+    let left = x - tw / 2;
+    let row = (0..3)
+        .find(|r| row_end[*r] + 6 < left)
+        .unwrap_or_else(|| (0..3).min_by_key(|r| row_end[*r]).unwrap_or(0));
+    row_end[row] = left + tw;
+    let y_text = top - 6 - 17 * row as i32;
+    root.draw(&PathElement::new(
+        vec![(x, top), (x, y_text)],
+        leader.stroke_width(1),
+    ))?;
+    tag(
+        root,
+        &label,
+        (x, y_text),
+        HPos::Center,
+        VPos::Bottom,
+        ink,
+        true,
+    )
+}
+
 /// The plotting area of a chart in image pixels.
 pub(super) fn plot_box(chart: &F64Chart<'_, '_>) -> PxBox {
     let area = chart.plotting_area();

@@ -11,7 +11,7 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::colour::{CURVE_PALETTE, INK, LIMIT, MUTED};
-use super::frame::{draw_mesh, empty_note, fit, fmt_num, layout, render, tag, text, text_size};
+use super::frame::{draw_mesh, empty_note, fmt_num, label_above, layout, render, tag, text};
 use super::legend::{Sym, draw_legend, plan};
 use super::stroke::{PxMap, polyline, stroke};
 use super::val_ok;
@@ -166,26 +166,13 @@ pub fn sweep_png(s: &Sweep, width: u32, height: u32) -> Result<Vec<u8>> {
                 colour.stroke_width(2),
             ))?;
             let (x, _) = chart.backend_coord(&(c.value, y1));
-            let label = fit(root, &with_unit(c.value, &s.unit), &style, 160)?;
-            let (tw, _) = text_size(root, &label, &style)?;
-            let left = x - tw / 2;
-            let row = (0..3)
-                .find(|r| row_end[*r] + 6 < left)
-                .unwrap_or_else(|| (0..3).min_by_key(|r| row_end[*r]).unwrap_or(0));
-            row_end[row] = left + tw;
-            let y_text = plot_top - 6 - 17 * row as i32;
-            root.draw(&PathElement::new(
-                vec![(x, plot_top), (x, y_text)],
-                colour.stroke_width(1),
-            ))?;
-            tag(
+            label_above(
                 root,
-                &label,
-                (x, y_text),
-                HPos::Center,
-                VPos::Bottom,
-                &text(13.0, colour),
-                true,
+                &with_unit(c.value, &s.unit),
+                (x, plot_top),
+                (&style, &text(13.0, colour)),
+                colour,
+                &mut row_end,
             )?;
         }
 
